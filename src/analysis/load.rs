@@ -1,0 +1,125 @@
+//! The load the amplifier sees: minimum |Z|, the equivalent peak dissipation resistance
+//! (EPDR) and the IEC 60268-5 rated-impedance rule.
+
+use num_complex::Complex64;
+
+/// EPDR for a class-B output stage driven to full swing into |Z| at phase phi:
+/// |Z| / (8 sin^3(30 deg + |phi|/3)), |phi| clamped to 90 deg.
+/// Concept: K. Howard, Stereophile 2007; closed form derived in check-values.md by maximising
+/// p = (V - v) i over the cycle.
+pub fn epdr(z: Complex64) -> f64 {
+    let phi = z.arg().abs().min(std::f64::consts::FRAC_PI_2);
+    let s = (std::f64::consts::PI / 6.0 + phi / 3.0).sin();
+    z.norm() / (8.0 * s * s * s)
+}
+
+/// IEC 60268-5:2003+A1:2007, 16.1: the lowest |Z| in the rated frequency range shall not be
+/// less than 80 % of the rated impedance.
+pub fn rated_floor(rated_ohm: f64) -> f64 {
+    0.8 * rated_ohm
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Load {
+    pub min_ohm: f64,
+    pub min_at_hz: f64,
+    pub epdr_min_ohm: f64,
+    pub epdr_at_hz: f64,
+    pub rated_impedance_holds: bool,
+    /// The lowest |Z| inside the rated frequency range, which the 80 % rule judges.
+    pub rated_range_min_ohm: f64,
+    pub rated_floor_ohm: f64,
+    pub verdict: String,
+    pub reason: String,
+}
+
+pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -> Load {
+    let mut min = (f64::INFINITY, 0.0);
+    let mut emin = (f64::INFINITY, 0.0);
+    let mut rmin = f64::INFINITY;
+    for (f, z) in freqs.iter().zip(z) {
+        let m = z.norm();
+        if m < min.0 {
+            min = (m, *f);
+        }
+        let e = epdr(*z);
+        if e < emin.0 {
+            emin = (e, *f);
+        }
+        if *f >= range.0 * (1.0 - 1e-9) && *f <= range.1 * (1.0 + 1e-9) && m < rmin {
+            rmin = m;
+        }
+    }
+    if !rmin.is_finite() {
+        rmin = min.0;
+    }
+    let floor = rated_floor(rated_ohm);
+    let holds = rmin >= floor;
+    // Common practice: below about 3 ohm |Z| or 2 ohm EPDR many amplifiers run hot or current-limit.
+    let (verdict, reason) = if min.0 < 2.0 || emin.0 < 1.5 {
+        ("over", format!("the load falls to {:.2} ohm (EPDR {:.2} ohm): too low for most amplifiers; check the amplifier maker's minimum load", min.0, emin.0))
+    } else if min.0 < 3.0 || emin.0 < 2.0 || !holds {
+        let why = if holds { String::new() } else { format!("|Z| falls to {:.2} ohm, below 80 % of the rated {} ohm (IEC 60268-5); ", rmin, crate::units::trim_number(rated_ohm, 3)) };
+        ("check", format!("{why}minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm: hard on many amplifiers at high level", min.0, crate::units::trim_number(min.1, 3), emin.0))
+    } else {
+        ("ok", format!("minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm at {} Hz: a normal load", min.0, crate::units::trim_number(min.1, 3), emin.0, crate::units::trim_number(emin.1, 3)))
+    };
+    Load {
+        min_ohm: min.0,
+        min_at_hz: min.1,
+        epdr_min_ohm: emin.0,
+        epdr_at_hz: emin.1,
+        rated_impedance_holds: holds,
+        rated_range_min_ohm: rmin,
+        rated_floor_ohm: floor,
+        verdict: verdict.into(),
+        reason,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn epdr_closed_form_matches_published_ratios() {
+        // check-values.md [derived from Howard, Stereophile 2007]: EPDR/|Z| by phase angle.
+        for (deg, ratio) in [(0.0, 1.0), (15.0, 0.6624), (30.0, 0.4707), (45.0, 0.35355), (60.0, 0.2781), (75.0, 0.2274), (90.0, 0.19245)] {
+            let z = Complex64::from_polar(1.0, f64::to_radians(deg));
+            assert!((epdr(z) - ratio).abs() < 1e-4, "{deg} deg: {} vs {ratio}", epdr(z));
+        }
+        let z = Complex64::from_polar(4.0, f64::to_radians(45.0));
+        assert!((epdr(z) - 1.4142).abs() < 1e-4);
+    }
+
+    #[test]
+    fn epdr_agrees_with_brute_force_cycle() {
+        // Maximise the output device's instantaneous dissipation (V - v) i over one cycle,
+        // rail V = full swing, v = V sin x, i = (V/|Z|) sin(x - phi); EPDR = V^2 / (4 p_max).
+        for deg in [0.0f64, 10.0, 33.0, 45.0, 70.0, 89.0] {
+            let (vr, zm, phi) = (1.0f64, 6.0, deg.to_radians());
+            let mut pmax: f64 = 0.0;
+            for k in 0..200_000 {
+                let x = k as f64 / 200_000.0 * std::f64::consts::TAU;
+                let v = vr * x.sin();
+                let i = vr / zm * (x - phi).sin();
+                if i > 0.0 {
+                    pmax = pmax.max((vr - v) * i);
+                }
+            }
+            let brute = vr * vr / (4.0 * pmax);
+            let closed = epdr(Complex64::from_polar(zm, phi));
+            assert!((brute / closed - 1.0).abs() < 1e-6, "{deg} deg: brute {brute} closed {closed}");
+        }
+    }
+
+    #[test]
+    fn rated_impedance_rule() {
+        // IEC 60268-5 16.1: 8 ohm -> 6.4 ohm, 4 ohm -> 3.2 ohm.
+        assert!((rated_floor(8.0) - 6.4).abs() < 1e-12);
+        assert!((rated_floor(4.0) - 3.2).abs() < 1e-12);
+        let f = [100.0, 1000.0];
+        assert!(load(&f, &[Complex64::new(6.4, 0.0), Complex64::new(9.0, 0.0)], 8.0, (20.0, 20e3)).rated_impedance_holds);
+        assert!(!load(&f, &[Complex64::new(6.39, 0.0), Complex64::new(9.0, 0.0)], 8.0, (20.0, 20e3)).rated_impedance_holds);
+    }
+}

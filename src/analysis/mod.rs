@@ -1,0 +1,289 @@
+//! From the solved scenarios to findings: driver levels, passbands, crossovers, load,
+//! compensation, stress, part health and tolerance.
+
+pub mod compensate;
+pub mod eseries;
+pub mod health;
+pub mod load;
+pub mod programme;
+pub mod stress;
+pub mod tolerance;
+
+use num_complex::Complex64;
+
+use crate::engine::{self, Circuit, Solution, SolveError};
+use crate::model::{Job, Network, Scenario};
+
+/// One scenario, solved over the sweep.
+#[derive(Debug, Clone)]
+pub struct Scene {
+    pub scenario: Scenario,
+    pub network: Network,
+    pub circuit: Circuit,
+    pub solution: Solution,
+    /// Per driver (network order): level in dB re the EMF, and phase in degrees.
+    pub db: Vec<Vec<f64>>,
+    pub phase: Vec<Vec<f64>>,
+    pub z: Vec<Complex64>,
+}
+
+impl Scene {
+    pub fn build(scenario: Scenario, network: Network, job: &Job, freqs: &[f64]) -> Result<Scene, SolveError> {
+        let circuit = Circuit::from_network(&network, &job.amplifier)?;
+        let solution = engine::solve(&circuit, freqs)?;
+        let mut db = Vec::new();
+        let mut phase = Vec::new();
+        for d in &network.drivers {
+            let k = circuit.element(&d.name).expect("every driver is an element");
+            let (a, p): (Vec<f64>, Vec<f64>) = solution.points.iter().map(|pt| engine::db_phase(pt.across(&circuit, k))).unzip();
+            db.push(a);
+            phase.push(p);
+        }
+        let z = solution.points.iter().map(|pt| pt.input_impedance(&circuit)).collect();
+        Ok(Scene { scenario, network, circuit, solution, db, phase, z })
+    }
+
+    pub fn driver_index(&self, name: &str) -> Option<usize> {
+        self.network.drivers.iter().position(|d| d.name == name)
+    }
+}
+
+/// The sweep indices a driver's level is judged over.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Band {
+    pub lo_hz: f64,
+    pub hi_hz: f64,
+    #[serde(skip)]
+    pub idx: Vec<usize>,
+    /// "compensate" when the band comes from a compensate entry, "passband" otherwise.
+    pub source: &'static str,
+}
+
+/// Passband: the sweep points where the as-designed level is within 6 dB of its maximum.
+pub fn passband(freqs: &[f64], db: &[f64]) -> Band {
+    let max = db.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+    let idx: Vec<usize> = (0..db.len()).filter(|i| db[*i] >= max - 6.0).collect();
+    Band { lo_hz: freqs[idx[0]], hi_hz: freqs[*idx.last().expect("the maximum is in the band")], idx, source: "passband" }
+}
+
+pub fn band_of(freqs: &[f64], lo: f64, hi: f64) -> Band {
+    let idx: Vec<usize> = (0..freqs.len()).filter(|i| freqs[*i] >= lo * (1.0 - 1e-9) && freqs[*i] <= hi * (1.0 + 1e-9)).collect();
+    let (a, b) = (idx.first().map(|i| freqs[*i]).unwrap_or(lo), idx.last().map(|i| freqs[*i]).unwrap_or(hi));
+    Band { lo_hz: a, hi_hz: b, idx, source: "compensate" }
+}
+
+pub fn mean_over(db: &[f64], idx: &[usize]) -> f64 {
+    idx.iter().map(|i| db[*i]).sum::<f64>() / idx.len().max(1) as f64
+}
+
+/// Where the level falls `drop_db` below its maximum, below and above the maximum
+/// (None when the sweep ends first). Interpolated in log frequency.
+pub fn corners(freqs: &[f64], db: &[f64], drop_db: f64) -> (Option<f64>, Option<f64>) {
+    let (imax, max) = db.iter().cloned().enumerate().fold((0, f64::NEG_INFINITY), |b, (i, v)| if v > b.1 { (i, v) } else { b });
+    let target = max - drop_db;
+    let cross = |i: usize, j: usize| {
+        let t = (target - db[i]) / (db[j] - db[i]);
+        (freqs[i].ln() + t * (freqs[j].ln() - freqs[i].ln())).exp()
+    };
+    let lo = (1..=imax).rev().find(|&i| db[i - 1] < target).map(|i| cross(i - 1, i));
+    let hi = (imax..freqs.len().saturating_sub(1)).find(|&i| db[i + 1] < target).map(|i| cross(i, i + 1));
+    (lo, hi)
+}
+
+/// Where two drivers' levels cross between the frequencies `from` and `to`, interpolated in
+/// log frequency (the first crossing going up).
+pub fn crossing(freqs: &[f64], lower: &[f64], upper: &[f64], from: f64, to: f64) -> Option<f64> {
+    let d: Vec<f64> = lower.iter().zip(upper).map(|(a, b)| a - b).collect();
+    (0..freqs.len().saturating_sub(1)).filter(|&i| freqs[i] >= from && freqs[i + 1] <= to).find(|&i| d[i] >= 0.0 && d[i + 1] < 0.0).map(|i| {
+        let t = d[i] / (d[i] - d[i + 1]);
+        (freqs[i].ln() + t * (freqs[i + 1].ln() - freqs[i].ln())).exp()
+    })
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct LevelRow {
+    pub driver: String,
+    pub role: String,
+    pub band_hz: [f64; 2],
+    pub band_source: &'static str,
+    pub as_designed_db: f64,
+    pub as_found_db: f64,
+    pub as_left_db: f64,
+    /// The change as found -> as left, and a plain-language flag for it.
+    pub found_to_left_db: f64,
+    pub left_flag: String,
+}
+
+/// A flag for a level difference from the as-designed voicing. Just-noticeable broadband
+/// level change is about 0.4 dB (Ballou, Handbook for Sound Engineers, 3.8.6); the 0.5 dB
+/// "measurable" and 1 dB "likely audible" steps are common practice.
+pub fn level_flag(db: f64) -> &'static str {
+    let a = db.abs();
+    if a >= 1.0 {
+        "likely audible"
+    } else if a >= 0.5 {
+        "measurable"
+    } else {
+        "within 0.5 dB"
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct CrossoverRow {
+    pub lower: String,
+    pub upper: String,
+    pub as_designed_hz: Option<f64>,
+    pub as_found_hz: Option<f64>,
+    pub as_left_hz: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct CornerRow {
+    pub driver: String,
+    pub scenario: Scenario,
+    pub minus3_hz: [Option<f64>; 2],
+    pub minus6_hz: [Option<f64>; 2],
+}
+
+/// Every finding for one job.
+#[derive(Debug, Clone)]
+pub struct Findings {
+    pub freqs: Vec<f64>,
+    pub scenes: [Scene; 3],
+    pub bands: Vec<Band>,
+    pub levels: Vec<LevelRow>,
+    pub crossovers: Vec<CrossoverRow>,
+    pub corners: Vec<CornerRow>,
+    pub compensation: compensate::Plan,
+    pub stress: stress::Stress,
+    pub loads: [load::Load; 3],
+    pub health: Vec<health::Flag>,
+    pub tolerance: Option<tolerance::Spread>,
+    /// Per scenario, the complex acoustic sum in dB SPL at 2.83 V when every driver has a response.
+    pub acoustic: Option<[Vec<f64>; 3]>,
+}
+
+#[derive(Debug)]
+pub enum AnalysisError {
+    Solve(Scenario, SolveError),
+    Step(crate::model::StepError),
+}
+
+impl std::fmt::Display for AnalysisError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            AnalysisError::Solve(s, e) => write!(f, "{}: {}", s.label(), e),
+            AnalysisError::Step(e) => write!(f, "change step {}: {}", e.number, e.message),
+        }
+    }
+}
+
+/// Drivers in order of rising passband centre, as indices into the network's drivers.
+pub fn frequency_order(bands: &[Band]) -> Vec<usize> {
+    let mut order: Vec<usize> = (0..bands.len()).collect();
+    order.sort_by(|a, b| (bands[*a].lo_hz * bands[*a].hi_hz).partial_cmp(&(bands[*b].lo_hz * bands[*b].hi_hz)).unwrap_or(std::cmp::Ordering::Equal));
+    order
+}
+
+pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
+    let freqs = job.analysis.sweep.frequencies();
+    let designed = Scene::build(Scenario::AsDesigned, job.network.clone(), job, &freqs).map_err(|e| AnalysisError::Solve(Scenario::AsDesigned, e))?;
+    let found = Scene::build(Scenario::AsFound, job.as_found(), job, &freqs).map_err(|e| AnalysisError::Solve(Scenario::AsFound, e))?;
+    let unsolved = job.as_left_unsolved().map_err(AnalysisError::Step)?;
+
+    // Bands: the compensate entry's band where one names the driver, else the passband.
+    let bands: Vec<Band> = job
+        .network
+        .drivers
+        .iter()
+        .enumerate()
+        .map(|(i, d)| match job.compensate.iter().find(|c| c.driver == d.name).and_then(|c| c.band) {
+            Some((lo, hi)) => band_of(&freqs, lo, hi),
+            None => passband(&freqs, &designed.db[i]),
+        })
+        .collect();
+
+    let plan = compensate::plan(job, &freqs, &bands, &designed, &found, &unsolved).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
+    let left = Scene::build(Scenario::AsLeft, plan.network.clone(), job, &freqs).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
+
+    let scenes = [designed, found, left];
+    let levels = job
+        .network
+        .drivers
+        .iter()
+        .enumerate()
+        .map(|(i, d)| {
+            let b = &bands[i];
+            let reference = mean_over(&scenes[0].db[i], &b.idx);
+            let rel = |s: &Scene| s.driver_index(&d.name).map(|k| mean_over(&s.db[k], &b.idx) - reference).unwrap_or(0.0);
+            let (found_db, left_db) = (rel(&scenes[1]), rel(&scenes[2]));
+            LevelRow {
+                driver: d.name.clone(),
+                role: d.role.name().into(),
+                band_hz: [b.lo_hz, b.hi_hz],
+                band_source: b.source,
+                as_designed_db: 0.0,
+                as_found_db: found_db,
+                as_left_db: left_db,
+                found_to_left_db: left_db - found_db,
+                left_flag: level_flag(left_db).into(),
+            }
+        })
+        .collect();
+
+    let order = frequency_order(&bands);
+    let crossovers = order
+        .windows(2)
+        .map(|w| {
+            let (lo, hi) = (w[0], w[1]);
+            let from = (bands[lo].lo_hz * bands[lo].hi_hz).sqrt();
+            let to = (bands[hi].lo_hz * bands[hi].hi_hz).sqrt();
+            let at = |s: &Scene| crossing(&freqs, &s.db[lo], &s.db[hi], from, to);
+            CrossoverRow { lower: job.network.drivers[lo].name.clone(), upper: job.network.drivers[hi].name.clone(), as_designed_hz: at(&scenes[0]), as_found_hz: at(&scenes[1]), as_left_hz: at(&scenes[2]) }
+        })
+        .collect();
+    let corners_rows = scenes
+        .iter()
+        .flat_map(|s| {
+            s.network.drivers.iter().enumerate().map(move |(i, d)| {
+                let (a, b) = corners(&s.solution.points.iter().map(|p| p.f_hz).collect::<Vec<_>>(), &s.db[i], 3.0);
+                let (c, e) = corners(&s.solution.points.iter().map(|p| p.f_hz).collect::<Vec<_>>(), &s.db[i], 6.0);
+                CornerRow { driver: d.name.clone(), scenario: s.scenario, minus3_hz: [a, b], minus6_hz: [c, e] }
+            })
+        })
+        .collect();
+
+    let rated = job.info.rated_impedance.unwrap_or(job.amplifier.into_ohm);
+    let loads = [0, 1, 2].map(|i| load::load(&freqs, &scenes[i].z, rated, job.info.rated_range));
+    let stress = stress::stress(job, &freqs, &scenes, &plan);
+    let health = health::flags(job, &freqs, &bands, &scenes);
+    let tolerance = job.analysis.tolerance.as_ref().map(|t| tolerance::run(job, t, &freqs, &bands, &scenes));
+    let acoustic = acoustic_sum(&scenes, &freqs);
+
+    Ok(Findings { freqs, scenes, bands, levels, crossovers, corners: corners_rows, compensation: plan, stress, loads, health, tolerance, acoustic })
+}
+
+/// The complex sum of every driver's measured response (at 2.83 V) scaled by the voltage the
+/// network puts across it, with polarity; None unless every driver has a response table.
+fn acoustic_sum(scenes: &[Scene; 3], freqs: &[f64]) -> Option<[Vec<f64>; 3]> {
+    let one = |s: &Scene| -> Option<Vec<f64>> {
+        let tables: Vec<_> = s.network.drivers.iter().map(|d| d.response.as_ref()).collect::<Option<Vec<_>>>()?;
+        Some(
+            freqs
+                .iter()
+                .enumerate()
+                .map(|(fi, f)| {
+                    let mut sum = Complex64::new(0.0, 0.0);
+                    for (k, (d, t)) in s.network.drivers.iter().zip(&tables).enumerate() {
+                        let (spl, ph) = engine::driver::interp_log(&t.freq_hz, &t.spl_db, &t.phase_deg, *f, false);
+                        let h = Complex64::from_polar(10f64.powf(s.db[k][fi] / 20.0), s.phase[k][fi].to_radians());
+                        let sign = if d.inverted { -1.0 } else { 1.0 };
+                        sum += Complex64::from_polar(10f64.powf(spl / 20.0), ph.to_radians()) * h * sign;
+                    }
+                    20.0 * sum.norm().max(1e-12).log10()
+                })
+                .collect(),
+        )
+    };
+    Some([one(&scenes[0])?, one(&scenes[1])?, one(&scenes[2])?])
+}

@@ -1,0 +1,334 @@
+//! The command line: clap definitions and one function per command. `main` only calls
+//! [`run`]; every command returns its exit code (0 ok, 1 the job has problems, 2 usage,
+//! 3 internal or I/O failure).
+
+use std::ffi::OsString;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand, ValueEnum};
+
+use crate::analysis;
+use crate::job::{self, LoadError};
+use crate::model::{Job, Template};
+use crate::report;
+use crate::results;
+
+pub const OK: u8 = 0;
+pub const PROBLEMS: u8 = 1;
+pub const USAGE: u8 = 2;
+pub const FAILURE: u8 = 3;
+
+#[derive(Parser, Debug)]
+#[command(
+    name = "voicekeep",
+    version,
+    about = "Predict and correct the level shifts of a re-capped passive crossover, and write the service report",
+    long_about = "voicekeep reads one job file (the crossover as designed, the parts as measured on the bench, and the \
+changes you made), solves the network at every frequency, fits the compensating resistors, checks power, voltage \
+and amplifier load, and writes a dated service report.\n\nStart with `voicekeep new > job.yaml`, then `voicekeep check job.yaml`.",
+    after_help = "Exit codes: 0 success, 1 the job has problems, 2 usage error, 3 internal or I/O failure."
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Check a job file and list every problem with its line and column
+    Check {
+        /// The job file (YAML)
+        job: PathBuf,
+    },
+    /// Solve the job and print the compensation plan, levels, load and stress
+    Solve {
+        job: PathBuf,
+        /// text for people, json for other programs
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+    },
+    /// Write the PDF service report
+    Report {
+        job: PathBuf,
+        /// Where to write the PDF (default: beside the job, same name)
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// customer, archive, sale, or the path of your own .typ template (overrides the job's choice)
+        #[arg(long)]
+        template: Option<String>,
+    },
+    /// Write the plots alone
+    Plot {
+        job: PathBuf,
+        /// Folder for the plot files
+        #[arg(long)]
+        out: PathBuf,
+        #[arg(long, value_enum, default_value_t = PlotFormat::Svg)]
+        format: PlotFormat,
+    },
+    /// Print a commented starter job that passes `check`
+    New {
+        /// two-way (a re-cap with a tweeter resistor) or repair (parts replaced like for like)
+        #[arg(long, default_value = "two-way")]
+        example: String,
+    },
+    /// Report every job in a folder; a bad job is reported and the rest go on
+    Batch {
+        /// Folder of job files (*.yaml, *.yml)
+        dir: PathBuf,
+        /// Folder for the reports
+        #[arg(long)]
+        out: PathBuf,
+    },
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum, PartialEq, Eq)]
+enum Format {
+    Text,
+    Json,
+}
+
+#[derive(Clone, Copy, Debug, ValueEnum, PartialEq, Eq)]
+pub enum PlotFormat {
+    Svg,
+    Png,
+}
+
+/// Starter jobs for `new`: the samples that need no table files.
+const STARTERS: &[(&str, &str)] = &[("two-way", include_str!("../../samples/two-way-recap.yaml")), ("repair", include_str!("../../samples/repair-like-for-like.yaml"))];
+
+pub fn run<I, T>(args: I) -> ExitCode
+where
+    I: IntoIterator<Item = T>,
+    T: Into<OsString> + Clone,
+{
+    let cli = match Cli::try_parse_from(args) {
+        Ok(c) => c,
+        Err(e) => {
+            let code = if e.use_stderr() { USAGE } else { OK };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    ExitCode::from(match cli.command {
+        Command::Check { job } => check(&job),
+        Command::Solve { job, format } => solve(&job, format),
+        Command::Report { job, output, template } => report_cmd(&job, output, template),
+        Command::Plot { job, out, format } => plot(&job, &out, format),
+        Command::New { example } => new(&example),
+        Command::Batch { dir, out } => batch(&dir, &out),
+    })
+}
+
+/// Writes to stdout; a closed pipe (`voicekeep solve job | head`) is not an error.
+fn out(text: &str) -> u8 {
+    let mut o = std::io::stdout().lock();
+    match o.write_all(text.as_bytes()).and_then(|_| o.flush()) {
+        Ok(()) => OK,
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => OK,
+        Err(e) => {
+            eprintln!("voicekeep: cannot write to standard output: {e}");
+            FAILURE
+        }
+    }
+}
+
+fn load(path: &Path) -> Result<Job, u8> {
+    job::load(path).map_err(|e| {
+        eprintln!("{e}");
+        match e {
+            LoadError::Io { .. } => FAILURE,
+            LoadError::Problems(_) => PROBLEMS,
+        }
+    })
+}
+
+fn analyse(path: &Path, job: &Job) -> Result<analysis::Findings, u8> {
+    analysis::analyse(job).map_err(|e| {
+        eprintln!("{}: the network cannot be solved: {e}", path.display());
+        eprintln!("  hint: check the `between` nodes of the parts named; a part of 0 ohm across the input shorts the amplifier");
+        PROBLEMS
+    })
+}
+
+fn check(path: &Path) -> u8 {
+    match load(path) {
+        Ok(job) => {
+            // Solving is part of checking: a network that cannot be solved is a problem in the job.
+            match analyse(path, &job) {
+                Ok(_) => out(&format!("{}: ok ({} parts, {} drivers, {} change steps)\n", path.display(), job.network.parts.len(), job.network.drivers.len(), job.changes.len())),
+                Err(code) => code,
+            }
+        }
+        Err(code) => code,
+    }
+}
+
+fn solve(path: &Path, format: Format) -> u8 {
+    let job = match load(path) {
+        Ok(j) => j,
+        Err(c) => return c,
+    };
+    let f = match analyse(path, &job) {
+        Ok(f) => f,
+        Err(c) => return c,
+    };
+    match format {
+        Format::Text => out(&results::text(&job, &f)),
+        Format::Json => match serde_json::to_string_pretty(&results::json(&job, &f)) {
+            Ok(s) => out(&(s + "\n")),
+            Err(e) => {
+                eprintln!("voicekeep: internal error writing JSON: {e}; please report this");
+                FAILURE
+            }
+        },
+    }
+}
+
+fn template_choice(arg: Option<String>, job: &Job) -> Template {
+    match arg.as_deref() {
+        None => job.template.clone(),
+        Some("customer") => Template::Customer,
+        Some("archive") => Template::Archive,
+        Some("sale") => Template::Sale,
+        Some(path) => Template::File(PathBuf::from(path)),
+    }
+}
+
+fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8 {
+    if let Some(t) = &template {
+        if !["customer", "archive", "sale"].contains(&t.as_str()) && !t.ends_with(".typ") {
+            eprintln!("voicekeep: --template takes customer, archive, sale or the path of a .typ file, not \"{t}\"");
+            return USAGE;
+        }
+    }
+    let job = match load(path) {
+        Ok(j) => j,
+        Err(c) => return c,
+    };
+    let target = output.unwrap_or_else(|| path.with_extension("pdf"));
+    let template = template_choice(template, &job);
+    match render_to(path, &job, &template, &target) {
+        Ok(()) => out(&format!("wrote {}\n", target.display())),
+        Err(c) => c,
+    }
+}
+
+fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Result<(), u8> {
+    let f = analyse(path, job)?;
+    let pdf = report::render(job, &f, template).map_err(|e| {
+        eprintln!("{}: {e}", path.display());
+        if matches!(e, report::ReportError::Template { .. } | report::ReportError::TemplateFile { .. }) {
+            PROBLEMS
+        } else {
+            FAILURE
+        }
+    })?;
+    report::write_atomically(target, &pdf).map_err(|e| {
+        eprintln!("voicekeep: cannot write {}: {e}", target.display());
+        FAILURE
+    })
+}
+
+fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
+    let job = match load(path) {
+        Ok(j) => j,
+        Err(c) => return c,
+    };
+    let f = match analyse(path, &job) {
+        Ok(f) => f,
+        Err(c) => return c,
+    };
+    if let Err(e) = std::fs::create_dir_all(dir) {
+        eprintln!("voicekeep: cannot create {}: {e}", dir.display());
+        return FAILURE;
+    }
+    let mut written = String::new();
+    for (name, svg) in report::plots::all(&job, &f) {
+        let (file, bytes) = match format {
+            PlotFormat::Svg => (dir.join(format!("{name}.svg")), svg.into_bytes()),
+            PlotFormat::Png => match report::plots::svg_to_png(&svg) {
+                Ok(b) => (dir.join(format!("{name}.png")), b),
+                Err(e) => {
+                    eprintln!("voicekeep: internal error drawing {name}.png: {e}; please report this");
+                    return FAILURE;
+                }
+            },
+        };
+        if let Err(e) = report::write_atomically(&file, &bytes) {
+            eprintln!("voicekeep: cannot write {}: {e}", file.display());
+            return FAILURE;
+        }
+        written.push_str(&format!("wrote {}\n", file.display()));
+    }
+    out(&written)
+}
+
+fn new(example: &str) -> u8 {
+    match STARTERS.iter().find(|(n, _)| *n == example) {
+        Some((_, text)) => out(text),
+        None => {
+            let names: Vec<&str> = STARTERS.iter().map(|(n, _)| *n).collect();
+            eprintln!("voicekeep: no starter job called \"{example}\"; choose one of: {}", names.join(", "));
+            USAGE
+        }
+    }
+}
+
+fn batch(dir: &Path, out_dir: &Path) -> u8 {
+    use rayon::prelude::*;
+    let mut jobs: Vec<PathBuf> = match std::fs::read_dir(dir) {
+        Ok(rd) => rd.filter_map(|e| e.ok().map(|e| e.path())).filter(|p| matches!(p.extension().and_then(|e| e.to_str()), Some("yaml") | Some("yml"))).collect(),
+        Err(e) => {
+            eprintln!("voicekeep: cannot read folder {}: {e}", dir.display());
+            return FAILURE;
+        }
+    };
+    jobs.sort();
+    if jobs.is_empty() {
+        eprintln!("voicekeep: no job files (*.yaml, *.yml) in {}", dir.display());
+        return PROBLEMS;
+    }
+    if let Err(e) = std::fs::create_dir_all(out_dir) {
+        eprintln!("voicekeep: cannot create {}: {e}", out_dir.display());
+        return FAILURE;
+    }
+    let bar = indicatif::ProgressBar::new(jobs.len() as u64);
+    if !std::io::IsTerminal::is_terminal(&std::io::stderr()) {
+        bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
+    }
+    let codes: Vec<(PathBuf, u8)> = jobs
+        .par_iter()
+        .map(|p| {
+            let code = match load(p) {
+                Ok(job) => {
+                    let target = out_dir.join(p.file_stem().unwrap_or_default()).with_extension("pdf");
+                    match render_to(p, &job, &job.template.clone(), &target) {
+                        Ok(()) => OK,
+                        Err(c) => c,
+                    }
+                }
+                Err(c) => c,
+            };
+            bar.inc(1);
+            (p.clone(), code)
+        })
+        .collect();
+    bar.finish_and_clear();
+    let failed: Vec<&(PathBuf, u8)> = codes.iter().filter(|(_, c)| *c != OK).collect();
+    let mut summary = String::new();
+    for (p, c) in &codes {
+        summary.push_str(&format!("{} {}\n", if *c == OK { "ok    " } else { "failed" }, p.display()));
+    }
+    summary.push_str(&format!("{} of {} jobs reported\n", codes.len() - failed.len(), codes.len()));
+    let code = out(&summary);
+    if failed.iter().any(|(_, c)| *c == FAILURE) {
+        FAILURE
+    } else if !failed.is_empty() {
+        PROBLEMS
+    } else {
+        code
+    }
+}

@@ -1,0 +1,179 @@
+//! The job file's YAML as a tree that keeps every node's line and column, so that a
+//! problem found during validation points at the exact place in the file.
+
+use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser};
+use yaml_rust2::scanner::{Marker, TScalarStyle};
+
+/// A place in the job file (1-based line and column).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct Pos {
+    pub line: usize,
+    pub col: usize,
+}
+
+impl From<Marker> for Pos {
+    fn from(m: Marker) -> Self {
+        Pos { line: m.line(), col: m.col() }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Node {
+    /// A scalar as written; `quoted` tells `"auto"` from auto (both mean the same here).
+    Scalar { text: String, quoted: bool, pos: Pos },
+    Seq { items: Vec<Node>, pos: Pos },
+    Map { entries: Vec<(Key, Node)>, pos: Pos },
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Key {
+    pub name: String,
+    pub pos: Pos,
+}
+
+impl Node {
+    pub fn pos(&self) -> Pos {
+        match self {
+            Node::Scalar { pos, .. } | Node::Seq { pos, .. } | Node::Map { pos, .. } => *pos,
+        }
+    }
+
+    pub fn kind_name(&self) -> &'static str {
+        match self {
+            Node::Scalar { .. } => "a single value",
+            Node::Seq { .. } => "a list",
+            Node::Map { .. } => "a mapping",
+        }
+    }
+
+    pub fn as_scalar(&self) -> Option<&str> {
+        match self {
+            Node::Scalar { text, .. } => Some(text),
+            _ => None,
+        }
+    }
+
+    /// YAML's null (`~`, `null` or nothing at all) written without quotes.
+    pub fn is_null(&self) -> bool {
+        matches!(self, Node::Scalar { text, quoted: false, .. } if text.is_empty() || text == "~" || text == "null")
+    }
+}
+
+/// A YAML syntax error, with its place.
+#[derive(Debug, Clone)]
+pub struct SyntaxError {
+    pub pos: Pos,
+    pub message: String,
+}
+
+#[derive(Default)]
+struct Builder {
+    stack: Vec<Partial>,
+    root: Option<Node>,
+    error: Option<SyntaxError>,
+}
+
+enum Partial {
+    Seq(Vec<Node>, Pos),
+    Map(Vec<(Key, Node)>, Option<Key>, Pos),
+}
+
+impl Builder {
+    fn push_node(&mut self, node: Node) {
+        match self.stack.last_mut() {
+            None => self.root = Some(node),
+            Some(Partial::Seq(items, _)) => items.push(node),
+            Some(Partial::Map(entries, key, _)) => match key.take() {
+                Some(k) => entries.push((k, node)),
+                None => {
+                    let name = match &node {
+                        Node::Scalar { text, .. } => text.clone(),
+                        _ => {
+                            if self.error.is_none() {
+                                self.error = Some(SyntaxError { pos: node.pos(), message: "a key must be a plain name, not a list or mapping".into() });
+                            }
+                            String::new()
+                        }
+                    };
+                    if entries.iter().any(|(k, _)| k.name == name) && self.error.is_none() {
+                        self.error = Some(SyntaxError { pos: node.pos(), message: format!("the key `{name}` appears twice in this mapping") });
+                    }
+                    *key = Some(Key { name, pos: node.pos() });
+                }
+            },
+        }
+    }
+}
+
+impl MarkedEventReceiver for Builder {
+    fn on_event(&mut self, ev: Event, mark: Marker) {
+        let pos = Pos::from(mark);
+        match ev {
+            Event::Scalar(text, style, _, _) => {
+                let quoted = !matches!(style, TScalarStyle::Plain);
+                self.push_node(Node::Scalar { text, quoted, pos });
+            }
+            Event::SequenceStart(..) => self.stack.push(Partial::Seq(Vec::new(), pos)),
+            Event::MappingStart(..) => self.stack.push(Partial::Map(Vec::new(), None, pos)),
+            Event::SequenceEnd => {
+                if let Some(Partial::Seq(items, p)) = self.stack.pop() {
+                    self.push_node(Node::Seq { items, pos: p });
+                }
+            }
+            Event::MappingEnd => {
+                if let Some(Partial::Map(entries, _, p)) = self.stack.pop() {
+                    self.push_node(Node::Map { entries, pos: p });
+                }
+            }
+            Event::Alias(_) => {
+                if self.error.is_none() {
+                    self.error = Some(SyntaxError { pos, message: "YAML aliases (*name) are not supported in job files".into() });
+                }
+                self.push_node(Node::Scalar { text: String::new(), quoted: false, pos });
+            }
+            _ => {}
+        }
+    }
+}
+
+/// Parses YAML text into a positioned tree. An empty file gives an empty mapping.
+pub fn parse(text: &str) -> Result<Node, SyntaxError> {
+    let mut builder = Builder::default();
+    let mut parser = Parser::new_from_str(text);
+    if let Err(e) = parser.load(&mut builder, false) {
+        let m = e.marker();
+        return Err(SyntaxError { pos: Pos { line: m.line(), col: m.col() }, message: e.info().to_string() });
+    }
+    if let Some(e) = builder.error {
+        return Err(e);
+    }
+    Ok(builder.root.unwrap_or(Node::Map { entries: Vec::new(), pos: Pos { line: 1, col: 1 } }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn keeps_positions_of_nested_flow_values() {
+        let text = "network:\n  parts:\n    C1: { kind: capacitor, value: 3.3 uF }\n";
+        let root = parse(text).unwrap();
+        let Node::Map { entries, .. } = root else { panic!() };
+        let Node::Map { entries, .. } = &entries[0].1 else { panic!() };
+        let Node::Map { entries, .. } = &entries[0].1 else { panic!() };
+        assert_eq!(entries[0].0.name, "C1");
+        assert_eq!(entries[0].0.pos, Pos { line: 3, col: 5 });
+        let Node::Map { entries, .. } = &entries[0].1 else { panic!() };
+        assert_eq!(entries[1].0.name, "value");
+        assert_eq!(entries[1].1.pos(), Pos { line: 3, col: 37 });
+    }
+
+    #[test]
+    fn reports_syntax_errors_with_place() {
+        let err = parse("a: [1, 2\nb: 3\n").unwrap_err();
+        assert!(err.pos.line >= 1);
+        let err = parse("a: 1\na: 2\n").unwrap_err();
+        assert_eq!(err.pos.line, 2);
+        assert!(err.message.contains("twice"));
+    }
+}

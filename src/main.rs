@@ -1,0 +1,1 @@
+fn main() -> std::process::ExitCode { voicekeep::cli::run(std::env::args_os()) }

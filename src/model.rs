@@ -1,0 +1,672 @@
+//! The validated job: the network as designed, the bench readings, the change steps, and how
+//! each scenario's network is built from them. Everything here is checked; nothing here
+//! reads files.
+
+use std::collections::BTreeMap;
+
+use crate::job::yaml::Pos;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Scenario {
+    AsDesigned,
+    AsFound,
+    AsLeft,
+}
+
+impl Scenario {
+    pub const ALL: [Scenario; 3] = [Scenario::AsDesigned, Scenario::AsFound, Scenario::AsLeft];
+
+    pub fn key(self) -> &'static str {
+        match self {
+            Scenario::AsDesigned => "as_designed",
+            Scenario::AsFound => "as_found",
+            Scenario::AsLeft => "as_left",
+        }
+    }
+
+    pub fn label(self) -> &'static str {
+        match self {
+            Scenario::AsDesigned => "as designed",
+            Scenario::AsFound => "as found",
+            Scenario::AsLeft => "as left",
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PartKind {
+    Resistor,
+    Capacitor,
+    Inductor,
+}
+
+impl PartKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            PartKind::Resistor => "resistor",
+            PartKind::Capacitor => "capacitor",
+            PartKind::Inductor => "inductor",
+        }
+    }
+}
+
+/// A part's power or voltage rating as written in the job.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Rating {
+    None,
+    /// Watts for a resistor, volts for a capacitor.
+    Given(f64),
+    /// Chosen by voicekeep from the stress figures.
+    Auto,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Part {
+    pub name: String,
+    pub kind: PartKind,
+    pub between: [String; 2],
+    /// ohm, farad or henry. For an `auto` part, the value being tried or the solved value.
+    pub value: f64,
+    pub auto_value: bool,
+    /// Capacitor: constant ESR in ohm.
+    pub esr: f64,
+    /// Capacitor: constant dissipation factor; when set, ESR(f) = tan_delta / (2 pi f C).
+    pub tan_delta: Option<f64>,
+    /// Inductor: DC resistance in ohm.
+    pub dcr: f64,
+    /// Fraction (0.05 for 5 %).
+    pub tolerance: Option<f64>,
+    pub rating: Rating,
+    /// Free text: electrolytic, polypropylene film, air core ...
+    pub type_text: Option<String>,
+    pub pos: Pos,
+}
+
+impl Part {
+    /// The part's own loss resistance at frequency `f_hz` (a resistor's value, a capacitor's
+    /// ESR, an inductor's DCR).
+    pub fn loss_ohm(&self, f_hz: f64) -> f64 {
+        match self.kind {
+            PartKind::Resistor => self.value,
+            PartKind::Capacitor => match self.tan_delta {
+                Some(d) => d / (2.0 * std::f64::consts::PI * f_hz * self.value),
+                None => self.esr,
+            },
+            PartKind::Inductor => self.dcr,
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Role {
+    Tweeter,
+    Midrange,
+    Woofer,
+    FullRange,
+    Other,
+}
+
+impl Role {
+    pub fn name(self) -> &'static str {
+        match self {
+            Role::Tweeter => "tweeter",
+            Role::Midrange => "midrange",
+            Role::Woofer => "woofer",
+            Role::FullRange => "full-range",
+            Role::Other => "other",
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum VoiceCoilInductance {
+    None,
+    /// Le in henry.
+    Simple(f64),
+    /// Leach's lossy inductance K (j w)^n, K in ohm s^n.
+    Leach { k: f64, n: f64 },
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Resonance {
+    pub fs: f64,
+    pub qms: f64,
+    pub qes: f64,
+}
+
+/// A measured impedance curve: frequency (Hz, rising), |Z| (ohm), phase (degrees).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ImpedanceTable {
+    pub file: String,
+    pub freq_hz: Vec<f64>,
+    pub ohm: Vec<f64>,
+    pub phase_deg: Vec<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum DriverModel {
+    Resistance(f64),
+    VoiceCoil { re: f64, inductance: VoiceCoilInductance, resonance: Option<Resonance> },
+    Table(ImpedanceTable),
+}
+
+impl DriverModel {
+    /// The resistance a technician would quote for this driver (Re, or the table's lowest |Z|).
+    pub fn nominal_ohm(&self) -> f64 {
+        match self {
+            DriverModel::Resistance(r) => *r,
+            DriverModel::VoiceCoil { re, .. } => *re,
+            DriverModel::Table(t) => t.ohm.iter().cloned().fold(f64::INFINITY, f64::min),
+        }
+    }
+}
+
+/// A measured acoustic response at 2.83 V, 1 m: frequency (Hz), SPL (dB), phase (degrees).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ResponseTable {
+    pub file: String,
+    pub freq_hz: Vec<f64>,
+    pub spl_db: Vec<f64>,
+    pub phase_deg: Vec<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Driver {
+    pub name: String,
+    pub role: Role,
+    pub between: [String; 2],
+    pub model: DriverModel,
+    pub rated_power: Option<f64>,
+    pub sensitivity: Option<f64>,
+    pub response: Option<ResponseTable>,
+    pub inverted: bool,
+    pub note: Option<String>,
+    pub pos: Pos,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Network {
+    pub input: [String; 2],
+    pub parts: Vec<Part>,
+    pub drivers: Vec<Driver>,
+}
+
+impl Network {
+    pub fn part(&self, name: &str) -> Option<&Part> {
+        self.parts.iter().find(|p| p.name == name)
+    }
+
+    pub fn part_mut(&mut self, name: &str) -> Option<&mut Part> {
+        self.parts.iter_mut().find(|p| p.name == name)
+    }
+
+    pub fn driver(&self, name: &str) -> Option<&Driver> {
+        self.drivers.iter().find(|d| d.name == name)
+    }
+
+    /// Every terminal pair in the network, parts then drivers.
+    pub fn branches(&self) -> impl Iterator<Item = (&str, &[String; 2])> {
+        self.parts.iter().map(|p| (p.name.as_str(), &p.between)).chain(self.drivers.iter().map(|d| (d.name.as_str(), &d.between)))
+    }
+
+    /// Connection problems: nodes only one terminal touches, and branches not reachable from
+    /// the input. Each entry names the branch it concerns.
+    pub fn connection_problems(&self) -> Vec<(String, String)> {
+        let mut problems = Vec::new();
+        let mut touches: BTreeMap<&str, Vec<&str>> = BTreeMap::new();
+        for (name, [a, b]) in self.branches() {
+            touches.entry(a).or_default().push(name);
+            touches.entry(b).or_default().push(name);
+        }
+        for (node, names) in &touches {
+            let is_input = *node == self.input[0] || *node == self.input[1];
+            if names.len() == 1 && !is_input {
+                problems.push((names[0].to_string(), format!("node {} is touched by {} alone, so no current can flow through it", node, names[0])));
+            }
+        }
+        for (i, n) in self.input.iter().enumerate() {
+            if !touches.contains_key(n.as_str()) {
+                problems.push((String::new(), format!("input node {} ({}) is not connected to any part or driver", n, if i == 0 { "amplifier +" } else { "amplifier -" })));
+            }
+        }
+        // Reachability from the input node through branches.
+        let mut reached: Vec<&str> = vec![self.input[0].as_str(), self.input[1].as_str()];
+        let mut changed = true;
+        while changed {
+            changed = false;
+            for (_, [a, b]) in self.branches() {
+                let (ra, rb) = (reached.contains(&a.as_str()), reached.contains(&b.as_str()));
+                if ra != rb {
+                    reached.push(if ra { b } else { a });
+                    changed = true;
+                }
+            }
+        }
+        for (name, [a, _]) in self.branches() {
+            if !reached.contains(&a.as_str()) {
+                problems.push((name.to_string(), format!("{} is not connected to the input ({} / {})", name, self.input[0], self.input[1])));
+            }
+        }
+        problems
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Amplifier {
+    pub power_w: f64,
+    pub into_ohm: f64,
+    pub output_ohm: f64,
+}
+
+impl Amplifier {
+    /// The drive level all stress figures assume: E_rms = sqrt(power x into).
+    pub fn e_rms(&self) -> f64 {
+        (self.power_w * self.into_ohm).sqrt()
+    }
+}
+
+/// A bench reading or a replacement's fields: only what is given changes.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PartPatch {
+    pub value: Option<f64>,
+    pub auto_value: bool,
+    pub esr: Option<f64>,
+    pub tan_delta: Option<f64>,
+    pub dcr: Option<f64>,
+    pub tolerance: Option<f64>,
+    pub rating: Option<Rating>,
+    pub type_text: Option<String>,
+    pub at_hz: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct DriverPatch {
+    pub model: Option<DriverModel>,
+    /// Measured fields applied to the existing model (re, le, fs, qms, qes, resistance).
+    pub re: Option<f64>,
+    pub le: Option<f64>,
+    pub fs: Option<f64>,
+    pub qms: Option<f64>,
+    pub qes: Option<f64>,
+    pub resistance: Option<f64>,
+    pub sensitivity: Option<f64>,
+    pub response: Option<ResponseTable>,
+    pub rated_power: Option<f64>,
+    pub note: Option<String>,
+}
+
+impl DriverPatch {
+    pub fn apply(&self, d: &mut Driver) {
+        if let Some(m) = &self.model {
+            d.model = m.clone();
+        }
+        match &mut d.model {
+            DriverModel::Resistance(r) => {
+                if let Some(v) = self.resistance.or(self.re) {
+                    *r = v;
+                }
+            }
+            DriverModel::VoiceCoil { re, inductance, resonance } => {
+                if let Some(v) = self.re {
+                    *re = v;
+                }
+                if let Some(v) = self.le {
+                    *inductance = VoiceCoilInductance::Simple(v);
+                }
+                if let Some(r) = resonance {
+                    r.fs = self.fs.unwrap_or(r.fs);
+                    r.qms = self.qms.unwrap_or(r.qms);
+                    r.qes = self.qes.unwrap_or(r.qes);
+                }
+            }
+            DriverModel::Table(_) => {}
+        }
+        if let Some(v) = self.sensitivity {
+            d.sensitivity = Some(v);
+        }
+        if let Some(v) = &self.response {
+            d.response = Some(v.clone());
+        }
+        if let Some(v) = self.rated_power {
+            d.rated_power = Some(v);
+        }
+        if let Some(v) = &self.note {
+            d.note = Some(v.clone());
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Patch {
+    Part(PartPatch),
+    Driver(DriverPatch),
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reading {
+    pub target: String,
+    pub patch: Patch,
+    pub pos: Pos,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum ChangeStep {
+    Replace { target: String, with: Patch },
+    /// A new part in series where part `next_to` meets `node`.
+    Insert { part: Part, node: String, next_to: String },
+    Remove { target: String },
+    Add { parts: Vec<Part> },
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Change {
+    /// 1-based position in the `changes` list, for messages.
+    pub number: usize,
+    pub step: ChangeStep,
+    pub pos: Pos,
+}
+
+impl PartPatch {
+    /// Applies a bench reading: only the measured fields change.
+    pub fn apply_reading(&self, p: &mut Part) {
+        if let Some(v) = self.value {
+            p.value = v;
+        }
+        if let Some(v) = self.esr {
+            p.esr = v;
+            p.tan_delta = None;
+        }
+        if let Some(v) = self.tan_delta {
+            p.tan_delta = Some(v);
+        }
+        if let Some(v) = self.dcr {
+            p.dcr = v;
+        }
+    }
+
+    /// Applies a replacement: fields left out come from the old part, except a capacitor's
+    /// loss, which belongs to the new part (0 when not given).
+    pub fn apply_replacement(&self, p: &mut Part) {
+        if let Some(v) = self.value {
+            p.value = v;
+        }
+        p.auto_value = self.auto_value;
+        if p.kind == PartKind::Capacitor {
+            p.esr = self.esr.unwrap_or(0.0);
+            p.tan_delta = self.tan_delta;
+        }
+        if let Some(v) = self.dcr {
+            p.dcr = v;
+        }
+        if let Some(v) = self.tolerance {
+            p.tolerance = Some(v);
+        }
+        if let Some(v) = self.rating {
+            p.rating = v;
+        }
+        if let Some(v) = &self.type_text {
+            p.type_text = Some(v.clone());
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+pub enum ESeries {
+    E6,
+    E12,
+    E24,
+    E48,
+    E96,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompensateEntry {
+    pub part: String,
+    pub driver: String,
+    pub reference: Scenario,
+    pub band: Option<(f64, f64)>,
+    pub series: ESeries,
+    pub pos: Pos,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Sweep {
+    Log { from: f64, to: f64, per_octave: f64 },
+    Points(Vec<f64>),
+}
+
+impl Sweep {
+    pub fn frequencies(&self) -> Vec<f64> {
+        match self {
+            Sweep::Points(p) => p.clone(),
+            Sweep::Log { from, to, per_octave } => {
+                let mut out = Vec::new();
+                let mut k = 0u32;
+                loop {
+                    let f = from * 2f64.powf(k as f64 / per_octave);
+                    if f > to * (1.0 + 1e-9) {
+                        break;
+                    }
+                    out.push(f);
+                    k += 1;
+                }
+                out
+            }
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Programme {
+    Pink,
+    IecProgramme,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Distribution {
+    Uniform,
+    Normal,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct ToleranceRuns {
+    pub runs: usize,
+    pub seed: u64,
+    pub distribution: Distribution,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Analysis {
+    pub sweep: Sweep,
+    pub programme: Programme,
+    pub tolerance: Option<ToleranceRuns>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Template {
+    Customer,
+    Archive,
+    Sale,
+    File(std::path::PathBuf),
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Block {
+    Text(String),
+    Levels,
+    Parts,
+    Compensation,
+    Stress,
+    Load,
+    Tolerance,
+    Health,
+    Safety,
+    Appendix,
+    Plot(PlotKind),
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PlotKind {
+    Response,
+    Change,
+    Impedance,
+    Tolerance,
+    Acoustic,
+}
+
+impl PlotKind {
+    pub const ALL: [PlotKind; 5] = [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Tolerance, PlotKind::Acoustic];
+    pub fn name(self) -> &'static str {
+        match self {
+            PlotKind::Response => "response",
+            PlotKind::Change => "change",
+            PlotKind::Impedance => "impedance",
+            PlotKind::Tolerance => "tolerance",
+            PlotKind::Acoustic => "acoustic",
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
+pub struct JobInfo {
+    pub number: String,
+    pub date: String,
+    pub work: String,
+    pub technician: String,
+    pub shop_name: String,
+    pub shop_address: String,
+    pub shop_contact: String,
+    pub customer_name: String,
+    pub customer_reference: String,
+    pub speaker_description: String,
+    pub serials: Vec<String>,
+    pub rated_impedance: Option<f64>,
+    /// The range over which the rated impedance is judged (IEC 60268-5 "rated frequency range").
+    pub rated_range: (f64, f64),
+    pub notes: String,
+}
+
+/// A file the job read, for the report's appendix and attachments.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InputFile {
+    pub name: String,
+    pub bytes: Vec<u8>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Job {
+    pub info: JobInfo,
+    pub amplifier: Amplifier,
+    pub network: Network,
+    pub measured: Vec<Reading>,
+    pub changes: Vec<Change>,
+    pub compensate: Vec<CompensateEntry>,
+    pub analysis: Analysis,
+    pub template: Template,
+    pub blocks: Option<Vec<Block>>,
+    /// The job file first, then every table it read, in order.
+    pub inputs: Vec<InputFile>,
+}
+
+/// Why a change step could not be applied.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StepError {
+    pub number: usize,
+    pub pos: Pos,
+    pub message: String,
+}
+
+impl Job {
+    /// The network with every bench reading applied.
+    pub fn as_found(&self) -> Network {
+        let mut net = self.network.clone();
+        for r in &self.measured {
+            match &r.patch {
+                Patch::Part(p) => {
+                    if let Some(part) = net.part_mut(&r.target) {
+                        p.apply_reading(part);
+                    }
+                }
+                Patch::Driver(p) => {
+                    if let Some(d) = net.drivers.iter_mut().find(|d| d.name == r.target) {
+                        p.apply(d);
+                    }
+                }
+            }
+        }
+        net
+    }
+
+    /// The as-found network with every change step applied; `auto` values are left as they
+    /// are (the compensation step solves them).
+    pub fn as_left_unsolved(&self) -> Result<Network, StepError> {
+        let mut net = self.as_found();
+        for c in &self.changes {
+            apply_step(&mut net, c)?;
+        }
+        Ok(net)
+    }
+
+    pub fn driver_names(&self) -> Vec<&str> {
+        self.network.drivers.iter().map(|d| d.name.as_str()).collect()
+    }
+}
+
+fn apply_step(net: &mut Network, c: &Change) -> Result<(), StepError> {
+    let err = |message: String| StepError { number: c.number, pos: c.pos, message };
+    match &c.step {
+        ChangeStep::Replace { target, with } => match with {
+            Patch::Part(p) => {
+                let part = net.part_mut(target).ok_or_else(|| err(format!("replace: there is no part {target} at this point (was it removed by an earlier step?)")))?;
+                p.apply_replacement(part);
+            }
+            Patch::Driver(p) => {
+                let d = net.drivers.iter_mut().find(|d| &d.name == target).ok_or_else(|| err(format!("replace: there is no driver {target}")))?;
+                p.apply(d);
+            }
+        },
+        ChangeStep::Remove { target } => {
+            let before = net.parts.len();
+            net.parts.retain(|p| &p.name != target);
+            if net.parts.len() == before {
+                return Err(err(format!("remove: there is no part {target} at this point")));
+            }
+        }
+        ChangeStep::Add { parts } => {
+            for p in parts {
+                if net.part(&p.name).is_some() || net.driver(&p.name).is_some() {
+                    return Err(err(format!("add: {} is already in the network; choose a new reference", p.name)));
+                }
+                net.parts.push(p.clone());
+            }
+        }
+        ChangeStep::Insert { part, node, next_to } => {
+            if net.part(&part.name).is_some() || net.driver(&part.name).is_some() {
+                return Err(err(format!("insert: {} is already in the network; choose a new reference", part.name)));
+            }
+            let new_node = format!("{}~{}", part.name, node);
+            let target = match net.parts.iter_mut().find(|p| &p.name == next_to) {
+                Some(p) => &mut p.between,
+                None => match net.drivers.iter_mut().find(|d| &d.name == next_to) {
+                    Some(d) => &mut d.between,
+                    None => return Err(err(format!("insert: there is no part or driver {next_to} to insert beside"))),
+                },
+            };
+            let Some(slot) = target.iter_mut().find(|n| *n == node) else {
+                return Err(err(format!("insert: {next_to} does not touch node {node} (it sits between {} and {})", target[0], target[1])));
+            };
+            *slot = new_node.clone();
+            let mut p = part.clone();
+            p.between = [node.clone(), new_node];
+            net.parts.push(p);
+        }
+    }
+    Ok(())
+}

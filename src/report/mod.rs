@@ -1,0 +1,153 @@
+//! The PDF service report: the data handed to the template ([`data`]), the plots
+//! ([`plots`]), typesetting through an embedded Typst engine with embedded fonts, and atomic
+//! writes. Data reaches the template as JSON, never as markup, so nothing from the job file
+//! is ever evaluated.
+
+pub mod data;
+pub mod plots;
+
+use std::fmt;
+use std::path::Path;
+
+use typst::foundations::{Datetime, Smart};
+use typst::{World, WorldExt};
+use typst_layout::PagedDocument;
+use typst_as_lib::typst_kit_options::TypstKitFontOptions;
+use typst_as_lib::TypstEngine;
+use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
+
+use crate::analysis::Findings;
+use crate::model::{Job, Template};
+
+pub const LIB_TYP: &str = include_str!("../../templates/lib.typ");
+pub const CUSTOMER_TYP: &str = include_str!("../../templates/customer.typ");
+pub const ARCHIVE_TYP: &str = include_str!("../../templates/archive.typ");
+pub const SALE_TYP: &str = include_str!("../../templates/sale.typ");
+
+#[derive(Debug)]
+pub enum ReportError {
+    /// A shop's template file could not be read.
+    TemplateFile { path: String, error: std::io::Error },
+    /// The template has errors; each with its file, line and column.
+    Template { messages: Vec<String> },
+    /// The PDF could not be written out (an internal problem).
+    Pdf(String),
+}
+
+impl fmt::Display for ReportError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ReportError::TemplateFile { path, error } => write!(f, "cannot read the template {path}: {error}"),
+            ReportError::Template { messages } => write!(f, "the report template has problems:\n{}", messages.join("\n")),
+            ReportError::Pdf(m) => write!(f, "internal error writing the PDF: {m}; please report this"),
+        }
+    }
+}
+
+impl std::error::Error for ReportError {}
+
+/// Renders the report to PDF bytes. The same job and findings always give the same bytes.
+pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, ReportError> {
+    let (main_name, main_text) = match template {
+        Template::Customer => ("customer.typ".to_string(), CUSTOMER_TYP.to_string()),
+        Template::Archive => ("archive.typ".to_string(), ARCHIVE_TYP.to_string()),
+        Template::Sale => ("sale.typ".to_string(), SALE_TYP.to_string()),
+        Template::File(p) => {
+            let text = std::fs::read_to_string(p).map_err(|error| ReportError::TemplateFile { path: p.display().to_string(), error })?;
+            (p.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text)
+        }
+    };
+    let archive = matches!(template, Template::Archive);
+    let results = serde_json::to_vec_pretty(&crate::results::json(job, f)).map_err(|e| ReportError::Pdf(e.to_string()))?;
+    let report_data = data::build(job, f, template);
+    let data_json = serde_json::to_vec(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
+
+    let mut binaries: Vec<(String, Vec<u8>)> = vec![("data.json".into(), data_json), ("results.json".into(), results)];
+    for (name, svg) in plots::all(job, f) {
+        binaries.push((format!("plots/{name}.svg"), svg.into_bytes()));
+    }
+    for (i, input) in job.inputs.iter().enumerate() {
+        binaries.push((format!("inputs/{i}"), input.bytes.clone()));
+    }
+    let engine = TypstEngine::builder()
+        .search_fonts_with(TypstKitFontOptions::default().include_system_fonts(false).include_embedded_fonts(true))
+        .with_static_source_file_resolver([("lib.typ", LIB_TYP.to_string()), (main_name.as_str(), main_text.clone())])
+        .with_static_file_resolver(binaries.iter().map(|(n, b)| (n.as_str(), b.as_slice())))
+        .build();
+    let doc = engine
+        .with_world(main_name.as_str(), |world| typst::compile::<PagedDocument>(world).output.map_err(|diags| template_error(world, &diags)))
+        .map_err(|e| ReportError::Template { messages: vec![format!("{main_name}: {e}")] })??;
+
+    let date = Datetime::from_ymd(report_data.date.year, report_data.date.month, report_data.date.day);
+    let standards = if archive { PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| ReportError::Pdf(format!("{e:?}")))? } else { PdfStandards::default() };
+    let options = PdfOptions {
+        ident: Smart::Custom(format!("voicekeep {} {}", job.info.number, job.info.date)),
+        creator: Smart::Custom(Some(format!("voicekeep {}", crate::results::VERSION))),
+        timestamp: date.map(Timestamp::new_utc),
+        standards,
+        ..Default::default()
+    };
+    typst_pdf::pdf(&doc, &options).map_err(|diags| ReportError::Pdf(diags.iter().map(|d| d.message.to_string()).collect::<Vec<_>>().join("; ")))
+}
+
+/// Typst's diagnostics carry spans, not places: turn them into `file:line:column: message`.
+fn template_error(world: &dyn World, diags: &[typst::diag::SourceDiagnostic]) -> ReportError {
+    let place = |span: typst::syntax::DiagSpan| -> String {
+        let Some(id) = span.id() else { return "template".to_string() };
+        let path = id.vpath().get_without_slash().to_string();
+        let (Some(range), Ok(source)) = (world.range(span), world.source(id)) else { return path };
+        match source.lines().byte_to_line_column(range.start) {
+            Some((line, col)) => format!("{path}:{}:{}", line + 1, col + 1),
+            None => path,
+        }
+    };
+    let messages = diags
+        .iter()
+        .map(|d| {
+            let mut m = format!("{}: {}", place(d.span), d.message);
+            for h in &d.hints {
+                m.push_str(&format!("\n  hint: {}", h.v));
+            }
+            m
+        })
+        .collect();
+    ReportError::Template { messages }
+}
+
+/// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so a
+/// reader never sees half a file and an existing file is replaced only whole.
+pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    use std::io::Write;
+    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "out".into());
+    let tmp = dir.join(format!(".{}.{}.tmp", name, std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn atomic_write_replaces_whole_and_leaves_no_temporary() {
+        let dir = std::env::temp_dir().join(format!("vk-atomic-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let p = dir.join("r.pdf");
+        write_atomically(&p, b"first").unwrap();
+        write_atomically(&p, b"second").unwrap();
+        assert_eq!(std::fs::read(&p).unwrap(), b"second");
+        let left: Vec<_> = std::fs::read_dir(&dir).unwrap().filter_map(|e| e.ok()).filter(|e| e.file_name().to_string_lossy().ends_with(".tmp")).collect();
+        assert!(left.is_empty());
+        assert!(write_atomically(&dir.join("no-such-dir/r.pdf"), b"x").is_err());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+}

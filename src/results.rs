@@ -1,0 +1,172 @@
+//! The machine-readable results (`solve --format json`) and the terminal tables.
+//! The JSON keys listed in the job-format design are a contract outside checks read.
+
+use serde::Serialize;
+use serde_json::{json, Map, Value};
+use std::fmt::Write;
+
+use crate::analysis::Findings;
+use crate::model::{Job, Scenario};
+use crate::units::{format_si, trim_number, Quantity};
+
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");
+
+fn round(v: f64, places: i32) -> f64 {
+    let m = 10f64.powi(places);
+    (v * m).round() / m
+}
+
+fn to_value<T: Serialize>(t: &T) -> Value {
+    serde_json::to_value(t).unwrap_or(Value::Null)
+}
+
+/// The full results as JSON. Curves are rounded to 4 decimals (0.0001 dB, 0.0001 degree),
+/// well inside the engine's agreement with its references.
+pub fn json(job: &Job, f: &Findings) -> Value {
+    let mut scenarios = Map::new();
+    for s in &f.scenes {
+        let mut drivers = Map::new();
+        for (i, d) in s.network.drivers.iter().enumerate() {
+            drivers.insert(d.name.clone(), json!({
+                "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+                "phase_deg": s.phase[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+            }));
+        }
+        let (ohm, ph): (Vec<f64>, Vec<f64>) = s.z.iter().map(|z| (round(z.norm(), 4), round(crate::engine::wrap_deg(z.arg().to_degrees()), 4))).unzip();
+        scenarios.insert(s.scenario.key().into(), json!({ "drivers": drivers, "impedance": { "ohm": ohm, "phase_deg": ph } }));
+    }
+    let mut load = Map::new();
+    for (s, l) in Scenario::ALL.iter().zip(&f.loads) {
+        load.insert(s.key().into(), to_value(l));
+    }
+    let stress: Vec<Value> = f.stress.rows.iter().map(to_value).collect();
+    let mut out = json!({
+        "voicekeep": VERSION,
+        "job": { "number": job.info.number, "date": job.info.date },
+        "frequencies_hz": f.freqs.iter().map(|v| round(*v, 6)).collect::<Vec<_>>(),
+        "scenarios": scenarios,
+        "levels": f.levels.iter().map(to_value).collect::<Vec<_>>(),
+        "compensation": f.compensation.fits.iter().map(to_value).collect::<Vec<_>>(),
+        "alternatives": f.compensation.alternatives.iter().map(to_value).collect::<Vec<_>>(),
+        "warnings": f.compensation.warnings.iter().map(to_value).collect::<Vec<_>>(),
+        "crossovers": f.crossovers.iter().map(to_value).collect::<Vec<_>>(),
+        "corners": f.corners.iter().map(to_value).collect::<Vec<_>>(),
+        "stress": stress,
+        "driver_power": f.stress.drivers.iter().map(to_value).collect::<Vec<_>>(),
+        "drive": { "e_rms_v": f.stress.e_rms, "amplifier": f.stress.amplifier, "programme": f.stress.programme, "programme_text": f.stress.programme_text },
+        "load": load,
+        "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
+    });
+    if let Some(t) = &f.tolerance {
+        out["tolerance"] = json!({ "runs": t.runs, "seed": t.seed, "distribution": t.distribution, "levels": t.levels, "ranking": t.ranking });
+    }
+    if let Some(a) = &f.acoustic {
+        let mut m = Map::new();
+        for (s, v) in Scenario::ALL.iter().zip(a) {
+            m.insert(s.key().into(), json!(v.iter().map(|x| round(*x, 4)).collect::<Vec<_>>()));
+        }
+        out["acoustic_sum_db"] = Value::Object(m);
+    }
+    out
+}
+
+pub fn ohm(v: f64) -> String {
+    format_si(v, Quantity::Resistance, 3)
+}
+
+pub fn hz(v: Option<f64>) -> String {
+    match v {
+        Some(f) => format_si(f, Quantity::Frequency, 3),
+        None => "-".into(),
+    }
+}
+
+pub fn db(v: f64) -> String {
+    format!("{:+.2} dB", v)
+}
+
+/// Plain-text tables for the terminal: the compensation plan first, then levels,
+/// crossovers, load and stress.
+pub fn text(job: &Job, f: &Findings) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "voicekeep {VERSION} - job {} ({}), {}", job.info.number, job.info.date, job.info.speaker_description);
+    let _ = writeln!(s, "sweep {} to {}, {} points; amplifier {}", hz(f.freqs.first().copied()), hz(f.freqs.last().copied()), f.freqs.len(), f.stress.amplifier);
+    let _ = writeln!(s);
+    let _ = writeln!(s, "COMPENSATION");
+    if f.compensation.fits.is_empty() {
+        let _ = writeln!(s, "  no `value: auto` parts in this job");
+    }
+    for c in &f.compensation.fits {
+        let rating = f.stress.rows.iter().find(|r| r.scenario == Scenario::AsLeft && r.part == c.part).and_then(|r| r.rating_w).map(|w| format!(", {} W", trim_number(w, 3))).unwrap_or_default();
+        if c.cannot_raise {
+            let _ = writeln!(s, "  {}: none - {} is already {:.2} dB below its {} level", c.part, c.driver, -c.excess_db, c.reference.label());
+        } else if c.fitted_ohm == 0.0 {
+            let _ = writeln!(s, "  {}: none needed (exact {} is under {})", c.part, ohm(c.exact_ohm), ohm(crate::analysis::compensate::SMALLEST_FITTED_OHM));
+        } else {
+            let _ = writeln!(s, "  fit {} = {} ({}{}) {}", c.part, ohm(c.fitted_ohm), c.series, rating, c.placement);
+        }
+        let _ = writeln!(s, "    exact {}; {} matches {} over {}-{} within {:.3} dB RMS (worst {:+.3} dB)", ohm(c.exact_ohm), c.driver, c.reference.label(), hz(Some(c.band_hz[0])), hz(Some(c.band_hz[1])), c.residual_db, c.worst_db);
+        if let Some(p) = &c.pair {
+            let _ = writeln!(s, "    closer with stock E12: {} {} {} = {} ({:.3} dB RMS)", ohm(p.a_ohm), if p.parallel { "parallel with" } else { "in series with" }, ohm(p.b_ohm), ohm(p.value_ohm), p.residual_db);
+        }
+    }
+    for a in &f.compensation.alternatives {
+        let _ = writeln!(s, "  alternative for {}: {}", a.driver, a.description);
+        let _ = writeln!(s, "    {:.3} dB RMS (worst {:+.3} dB); {}", a.residual_db, a.worst_db, a.verdict);
+    }
+    for w in &f.compensation.warnings {
+        let _ = writeln!(s, "  warning ({}): {}", w.subject, w.message);
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "LEVELS (band mean, dB re as designed)");
+    let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  {}", "driver", "role", "band", "designed", "found", "left", "as left");
+    for l in &f.levels {
+        let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == "compensate" { "fit" } else { "pass" });
+        let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);
+    }
+    if !f.crossovers.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "CROSSOVERS (where adjacent drivers' levels cross)");
+        for c in &f.crossovers {
+            let _ = writeln!(s, "  {}/{}: designed {}, found {}, left {}", c.lower, c.upper, hz(c.as_designed_hz), hz(c.as_found_hz), hz(c.as_left_hz));
+        }
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "LOAD (at the amplifier terminals)");
+    for (sc, l) in Scenario::ALL.iter().zip(&f.loads) {
+        let _ = writeln!(
+            s,
+            "  {:<12} min |Z| {} at {}, EPDR {} at {}, 80 % rule {}: {}",
+            sc.label(),
+            ohm(l.min_ohm),
+            hz(Some(l.min_at_hz)),
+            ohm(l.epdr_min_ohm),
+            hz(Some(l.epdr_at_hz)),
+            if l.rated_impedance_holds { "holds" } else { "fails" },
+            l.verdict
+        );
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "STRESS as left ({}, {})", f.stress.amplifier, f.stress.programme_text);
+    for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft) {
+        let _ = writeln!(s, "  {:<8} {:<5} {}", r.part, r.verdict, r.reason);
+    }
+    for d in f.stress.drivers.iter().filter(|r| r.scenario == Scenario::AsLeft) {
+        let _ = writeln!(s, "  {:<8} {:<5} {}", d.driver, d.verdict, d.reason);
+    }
+    if !f.health.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "PART HEALTH (bench readings)");
+        for h in &f.health {
+            let _ = writeln!(s, "  {}: {} ({:+.2} dB on {})", h.part, h.message, h.effect_db, h.effect_driver);
+        }
+    }
+    if let Some(t) = &f.tolerance {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "TOLERANCE ({} runs, seed {}, {:?})", t.runs, t.seed, t.distribution);
+        for l in t.levels.iter().filter(|l| l.scenario == Scenario::AsLeft) {
+            let _ = writeln!(s, "  {:<8} as left: 5-95 % band {:+.2} to {:+.2} dB", l.driver, l.p5_db, l.p95_db);
+        }
+    }
+    s
+}

@@ -1,0 +1,361 @@
+//! Physical values as technicians write them: a number, an SI prefix and a unit (`3.3 uF`),
+//! or the IEC 60062 RKM marking code printed on parts (`2R2`, `4k7`, `4u7`, `270n`).
+//!
+//! A value is always checked against the quantity its field expects, so `3.3 mH` in a
+//! capacitor's `value` is refused with the unit that was expected.
+
+use std::fmt;
+
+/// The quantity a field holds; decides which units and RKM letters are accepted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Quantity {
+    Capacitance,
+    Inductance,
+    Resistance,
+    Power,
+    Voltage,
+    Current,
+    Frequency,
+    Percent,
+    Decibel,
+}
+
+impl Quantity {
+    /// The unit symbol used when printing values of this quantity.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Quantity::Capacitance => "F",
+            Quantity::Inductance => "H",
+            Quantity::Resistance => "ohm",
+            Quantity::Power => "W",
+            Quantity::Voltage => "V",
+            Quantity::Current => "A",
+            Quantity::Frequency => "Hz",
+            Quantity::Percent => "%",
+            Quantity::Decibel => "dB",
+        }
+    }
+
+    /// The noun used in messages ("expected a capacitance such as ...").
+    pub fn noun(self) -> &'static str {
+        match self {
+            Quantity::Capacitance => "a capacitance",
+            Quantity::Inductance => "an inductance",
+            Quantity::Resistance => "a resistance",
+            Quantity::Power => "a power",
+            Quantity::Voltage => "a voltage",
+            Quantity::Current => "a current",
+            Quantity::Frequency => "a frequency",
+            Quantity::Percent => "a percentage",
+            Quantity::Decibel => "a level in dB",
+        }
+    }
+
+    /// A typical value, shown in messages.
+    pub fn example(self) -> &'static str {
+        match self {
+            Quantity::Capacitance => "4.7 uF",
+            Quantity::Inductance => "0.27 mH",
+            Quantity::Resistance => "2.2 ohm",
+            Quantity::Power => "10 W",
+            Quantity::Voltage => "100 V",
+            Quantity::Current => "2 A",
+            Quantity::Frequency => "3 kHz",
+            Quantity::Percent => "5 %",
+            Quantity::Decibel => "89 dB",
+        }
+    }
+
+    fn from_unit(unit: &str) -> Option<Quantity> {
+        Some(match unit {
+            "F" => Quantity::Capacitance,
+            "H" => Quantity::Inductance,
+            "ohm" | "ohms" | "Ohm" | "Ohms" | "\u{3a9}" | "\u{2126}" => Quantity::Resistance,
+            "W" => Quantity::Power,
+            "V" => Quantity::Voltage,
+            "A" => Quantity::Current,
+            "Hz" | "hz" => Quantity::Frequency,
+            "%" => Quantity::Percent,
+            "dB" | "db" => Quantity::Decibel,
+            _ => return None,
+        })
+    }
+
+    /// RKM letters IEC 60062 allows for this quantity, with their multipliers.
+    fn rkm_letters(self) -> &'static [(char, f64)] {
+        match self {
+            Quantity::Resistance => &[('R', 1.0), ('r', 1.0), ('k', 1e3), ('K', 1e3), ('M', 1e6)],
+            Quantity::Capacitance => &[('p', 1e-12), ('n', 1e-9), ('u', 1e-6), ('µ', 1e-6), ('μ', 1e-6), ('m', 1e-3)],
+            Quantity::Inductance => &[('n', 1e-9), ('u', 1e-6), ('µ', 1e-6), ('μ', 1e-6), ('m', 1e-3)],
+            _ => &[],
+        }
+    }
+}
+
+/// Why a value could not be read; the wording goes straight into a diagnostic.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ValueError {
+    pub message: String,
+    pub hint: Option<String>,
+}
+
+impl fmt::Display for ValueError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+fn prefix_factor(c: char) -> Option<f64> {
+    Some(match c {
+        'p' => 1e-12,
+        'n' => 1e-9,
+        'u' | 'µ' | 'μ' => 1e-6,
+        'm' => 1e-3,
+        'k' => 1e3,
+        'M' => 1e6,
+        _ => return None,
+    })
+}
+
+/// Splits `text` into its leading number and the rest.
+fn split_number(text: &str) -> Option<(f64, &str)> {
+    let bytes = text.as_bytes();
+    let mut end = 0;
+    if end < bytes.len() && (bytes[end] == b'+' || bytes[end] == b'-') {
+        end += 1;
+    }
+    let digits_start = end;
+    while end < bytes.len() && (bytes[end].is_ascii_digit() || bytes[end] == b'.') {
+        end += 1;
+    }
+    if end == digits_start {
+        return None;
+    }
+    // An exponent only counts when digits follow it ("1e-3"), so "3 e" stays a unit error.
+    if end < bytes.len() && (bytes[end] == b'e' || bytes[end] == b'E') {
+        let mut k = end + 1;
+        if k < bytes.len() && (bytes[k] == b'+' || bytes[k] == b'-') {
+            k += 1;
+        }
+        let exp_digits = k;
+        while k < bytes.len() && bytes[k].is_ascii_digit() {
+            k += 1;
+        }
+        if k > exp_digits {
+            end = k;
+        }
+    }
+    let number: f64 = text[..end].parse().ok()?;
+    Some((number, &text[end..]))
+}
+
+/// The IEC 60062 RKM code: digits, one letter in the decimal point's place, digits
+/// (`2R2`, `R47`, `4k7`, `4u7`, `270n`).
+fn parse_rkm(text: &str, quantity: Quantity) -> Option<f64> {
+    let letters = quantity.rkm_letters();
+    let mut found = None;
+    for (i, c) in text.char_indices() {
+        if c.is_ascii_digit() {
+            continue;
+        }
+        if found.is_some() {
+            return None;
+        }
+        let factor = letters.iter().find(|(l, _)| *l == c)?.1;
+        found = Some((i, c, factor));
+    }
+    let (i, c, factor) = found?;
+    let (whole, frac) = (&text[..i], &text[i + c.len_utf8()..]);
+    if whole.is_empty() && frac.is_empty() {
+        return None;
+    }
+    let number: f64 = format!("{}.{}", if whole.is_empty() { "0" } else { whole }, if frac.is_empty() { "0" } else { frac })
+        .parse()
+        .ok()?;
+    Some(number * factor)
+}
+
+/// Reads a physical value of the given quantity, in SI base units (farad, henry, ohm, watt,
+/// volt, ampere, hertz; a percentage as a fraction, 10 % -> 0.10; a level in dB as dB).
+pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
+    let t = text.trim();
+    let expected = || format!("expected {} such as \"{}\", found \"{}\"", quantity.noun(), quantity.example(), t);
+    if t.is_empty() {
+        return Err(ValueError { message: format!("expected {} such as \"{}\", found nothing", quantity.noun(), quantity.example()), hint: None });
+    }
+    if let Some(v) = parse_rkm(t, quantity) {
+        return Ok(v);
+    }
+    let Some((number, rest)) = split_number(t) else {
+        return Err(ValueError { message: expected(), hint: Some(format!("write a number and a unit, e.g. \"{}\"", quantity.example())) });
+    };
+    let rest = rest.trim();
+    if rest.is_empty() {
+        return Err(ValueError {
+            message: format!("{} needs a unit: expected {} such as \"{}\", found the bare number \"{}\"", t, quantity.noun(), quantity.example(), t),
+            hint: Some(format!("add the unit, e.g. \"{} {}\"", t, quantity.symbol())),
+        });
+    }
+    // Exact unit first (so "m" in "mH" and the lone "m" of metres are told apart), then prefix + unit.
+    let (factor, unit) = if let Some(q) = Quantity::from_unit(rest) {
+        (1.0, (q, rest))
+    } else {
+        let mut chars = rest.chars();
+        let first = chars.next().unwrap_or(' ');
+        let tail = chars.as_str();
+        match (prefix_factor(first), Quantity::from_unit(tail)) {
+            (Some(f), Some(q)) => (f, (q, tail)),
+            _ => {
+                return Err(ValueError {
+                    message: format!("{}: unknown unit \"{}\"", expected(), rest),
+                    hint: Some(format!("units are F, H, ohm (or Ω), W, V, A, Hz, %, dB with prefixes p n u µ m k M; this field takes {}", quantity.symbol())),
+                })
+            }
+        }
+    };
+    if unit.0 != quantity {
+        return Err(ValueError {
+            message: expected(),
+            hint: Some(format!("\"{}\" is {}; this field takes {} in {}", unit.1, unit.0.noun(), quantity.noun(), quantity.symbol())),
+        });
+    }
+    if quantity == Quantity::Percent || quantity == Quantity::Decibel {
+        if factor != 1.0 {
+            return Err(ValueError { message: expected(), hint: Some(format!("{} takes no SI prefix", quantity.symbol())) });
+        }
+        return Ok(if quantity == Quantity::Percent { number / 100.0 } else { number });
+    }
+    let value = number * factor;
+    if !value.is_finite() {
+        return Err(ValueError { message: format!("{} is not a finite number", t), hint: None });
+    }
+    Ok(value)
+}
+
+/// Formats a value with an SI prefix and about `digits` significant digits: `3.3 uF`, `680 mohm`.
+pub fn format_si(value: f64, quantity: Quantity, digits: usize) -> String {
+    let unit = quantity.symbol();
+    if quantity == Quantity::Percent {
+        return format!("{} %", trim_number(value * 100.0, digits));
+    }
+    if quantity == Quantity::Decibel {
+        return format!("{:.1} dB", value);
+    }
+    if value == 0.0 || !value.is_finite() {
+        return format!("{} {}", value, unit);
+    }
+    const PREFIXES: [(f64, &str); 7] = [(1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "u"), (1e-9, "n"), (1e-12, "p")];
+    let a = value.abs();
+    // Ohms under 1 and watts under 1 read better as decimals in the trade (0.68 ohm, 0.4 W).
+    let plain_small = matches!(quantity, Quantity::Resistance | Quantity::Power | Quantity::Voltage | Quantity::Current) && a >= 0.01;
+    let (scale, prefix) = if plain_small && a < 1000.0 {
+        (1.0, "")
+    } else {
+        *PREFIXES.iter().find(|(s, _)| a >= *s * 0.9995).unwrap_or(&PREFIXES[6])
+    };
+    format!("{} {}{}", trim_number(value / scale, digits), prefix, unit)
+}
+
+/// A number with `digits` significant digits and no trailing zeros.
+pub fn trim_number(v: f64, digits: usize) -> String {
+    if v == 0.0 {
+        return "0".into();
+    }
+    let mag = v.abs().log10().floor() as i32;
+    let decimals = (digits as i32 - 1 - mag).max(0) as usize;
+    let s = format!("{:.*}", decimals, v);
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use Quantity::*;
+
+    fn close(a: f64, b: f64) -> bool {
+        (a - b).abs() <= 1e-12 * b.abs().max(1e-30)
+    }
+
+    #[test]
+    fn parses_values_with_units_and_prefixes() {
+        let cases: &[(&str, Quantity, f64)] = &[
+            ("3.3 uF", Capacitance, 3.3e-6),
+            ("3.3uF", Capacitance, 3.3e-6),
+            ("3.3 µF", Capacitance, 3.3e-6),
+            ("0.27 mH", Inductance, 0.27e-3),
+            ("270 uH", Inductance, 270e-6),
+            ("2.2 ohm", Resistance, 2.2),
+            ("2.2 Ω", Resistance, 2.2),
+            ("60 W", Power, 60.0),
+            ("250 V", Voltage, 250.0),
+            ("1.2 kHz", Frequency, 1200.0),
+            ("10 %", Percent, 0.10),
+            ("89 dB", Decibel, 89.0),
+            ("-3 dB", Decibel, -3.0),
+            ("12 mohm", Resistance, 0.012),
+            ("1e-3 F", Capacitance, 1e-3),
+            ("4.7 kohm", Resistance, 4700.0),
+        ];
+        for (text, q, want) in cases {
+            let got = parse_value(text, *q).unwrap_or_else(|e| panic!("{text}: {e}"));
+            assert!(close(got, *want), "{text}: got {got}, want {want}");
+        }
+    }
+
+    #[test]
+    fn parses_iec_60062_rkm_codes() {
+        // IEC 60062: the letter stands in the decimal point's place and gives the multiplier.
+        let cases: &[(&str, Quantity, f64)] = &[
+            ("2R2", Resistance, 2.2),
+            ("0R68", Resistance, 0.68),
+            ("R47", Resistance, 0.47),
+            ("4k7", Resistance, 4700.0),
+            ("1M0", Resistance, 1e6),
+            ("4u7", Capacitance, 4.7e-6),
+            ("470n", Capacitance, 470e-9),
+            ("270n", Capacitance, 270e-9),
+            ("2p2", Capacitance, 2.2e-12),
+            ("330u", Inductance, 330e-6),
+        ];
+        for (text, q, want) in cases {
+            let got = parse_value(text, *q).unwrap_or_else(|e| panic!("{text}: {e}"));
+            assert!(close(got, *want), "{text}: got {got}, want {want}");
+        }
+    }
+
+    #[test]
+    fn refuses_wrong_or_missing_units() {
+        let cases: &[(&str, Quantity, &str)] = &[
+            ("3.3 mH", Capacitance, "expected a capacitance such as \"4.7 uF\", found \"3.3 mH\""),
+            ("3.3", Capacitance, "needs a unit"),
+            ("2.2", Resistance, "bare number"),
+            ("4u7", Resistance, "expected a resistance"),
+            ("2R2", Capacitance, "expected a capacitance"),
+            ("ten ohm", Resistance, "expected a resistance"),
+            ("3 furlongs", Frequency, "unknown unit \"furlongs\""),
+            ("10 k%", Percent, "expected a percentage"),
+            ("", Power, "found nothing"),
+            ("60 V", Power, "expected a power"),
+        ];
+        for (text, q, want) in cases {
+            let err = parse_value(text, *q).expect_err(text);
+            assert!(err.message.contains(want), "{text}: message {:?} lacks {want:?}", err.message);
+        }
+    }
+
+    #[test]
+    fn formats_with_si_prefixes() {
+        assert_eq!(format_si(3.3e-6, Capacitance, 3), "3.3 uF");
+        assert_eq!(format_si(0.27e-3, Inductance, 3), "270 uH");
+        assert_eq!(format_si(0.68, Resistance, 3), "0.68 ohm");
+        assert_eq!(format_si(4700.0, Resistance, 3), "4.7 kohm");
+        assert_eq!(format_si(0.012, Resistance, 2), "0.012 ohm");
+        assert_eq!(format_si(0.004, Resistance, 2), "4 mohm");
+        assert_eq!(format_si(2150.0, Frequency, 3), "2.15 kHz");
+        assert_eq!(format_si(0.1, Percent, 3), "10 %");
+    }
+}
