@@ -13,7 +13,8 @@ pub struct Pos {
 
 impl From<Marker> for Pos {
     fn from(m: Marker) -> Self {
-        Pos { line: m.line(), col: m.col() }
+        // yaml-rust2 counts lines from 1 and columns from 0.
+        Pos { line: m.line(), col: m.col() + 1 }
     }
 }
 
@@ -142,7 +143,7 @@ pub fn parse(text: &str) -> Result<Node, SyntaxError> {
     let mut parser = Parser::new_from_str(text);
     if let Err(e) = parser.load(&mut builder, false) {
         let m = e.marker();
-        return Err(SyntaxError { pos: Pos { line: m.line(), col: m.col() }, message: e.info().to_string() });
+        return Err(SyntaxError { pos: Pos::from(*m), message: e.info().to_string() });
     }
     if let Some(e) = builder.error {
         return Err(e);
@@ -165,7 +166,7 @@ mod tests {
         assert_eq!(entries[0].0.pos, Pos { line: 3, col: 5 });
         let Node::Map { entries, .. } = &entries[0].1 else { panic!() };
         assert_eq!(entries[1].0.name, "value");
-        assert_eq!(entries[1].1.pos(), Pos { line: 3, col: 37 });
+        assert_eq!(entries[1].1.pos(), Pos { line: 3, col: 35 });
     }
 
     #[test]

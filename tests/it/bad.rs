@@ -1,0 +1,259 @@
+//! Bad jobs: each names its mistake, and the test checks the exit code, the line and column
+//! (found independently, by searching the text for the offending spot) and the message words.
+
+use crate::util::Cli;
+
+const BASE: &str = "voicekeep: 1
+job:
+  number: T-1
+  date: 2026-11-28
+  speaker: { rated_impedance: 8 ohm }
+amplifier: { power: 60 W, into: 8 ohm }
+network:
+  input: [IN, COM]
+  parts:
+    C1: { kind: capacitor, between: [IN, H1], value: 3.3 uF, esr: 0.9 ohm }
+    L1: { kind: inductor, between: [H1, COM], value: 0.27 mH, dcr: 0.35 ohm }
+    L2: { kind: inductor, between: [IN, W1], value: 1.2 mH, dcr: 0.4 ohm }
+  drivers:
+    HF: { role: tweeter, between: [H1, COM], model: { re: 4.6 ohm, le: 0.04 mH } }
+    LF: { role: woofer, between: [W1, COM], model: { resistance: 6 ohm } }
+measured:
+  C1: { value: 2.9 uF, esr: 1.6 ohm }
+changes:
+  - replace: C1
+    with: { value: 3.3 uF, esr: 0.01 ohm }
+  - insert:
+      R9: { kind: resistor, between: [IN, C1], value: auto }
+compensate:
+  R9: { driver: HF, band: [3 kHz, 15 kHz] }
+analysis:
+  sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }
+";
+
+/// Line and column (1-based) of the `nth` occurrence of `needle` in `text`.
+fn pos_of(text: &str, needle: &str, nth: usize) -> String {
+    let at = text.match_indices(needle).nth(nth).unwrap_or_else(|| panic!("{needle:?} not in job")).0;
+    let line = text[..at].matches('\n').count() + 1;
+    let col = text[..at].rsplit('\n').next().unwrap().chars().count() + 1;
+    format!("job.yaml:{line}:{col}:")
+}
+
+/// Replace `from` with `to` in BASE, run `check`, and expect exit 1 with the message at the
+/// place where `spot` (the nth occurrence) sits in the new text.
+fn bad(from: &str, to: &str, spot: &str, nth: usize, words: &[&str]) {
+    assert!(BASE.contains(from), "case does not apply: {from:?}");
+    let text = BASE.replacen(from, to, 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1);
+    let place = pos_of(&text, spot, nth);
+    o.stderr_has(&place);
+    for w in words {
+        o.stderr_has(w);
+    }
+}
+
+#[test]
+fn base_job_is_good() {
+    Cli::new().job(BASE).args(["check", "{job}"]).run().code(0).stdout_has("ok");
+}
+
+#[test]
+fn other_format_version() {
+    bad("voicekeep: 1", "voicekeep: 2", "2", 0, &["version \"2\"", "reads version 1"]);
+}
+
+#[test]
+fn misspelt_field_gets_a_suggestion() {
+    bad("value: 0.27 mH", "valeu: 0.27 mH", "valeu", 0, &["unknown field `valeu`", "did you mean `value`?"]);
+}
+
+#[test]
+fn unknown_top_level_section() {
+    bad("measured:", "mesured:", "mesured", 0, &["unknown field `mesured`", "did you mean `measured`?"]);
+}
+
+#[test]
+fn wrong_unit_for_a_capacitor() {
+    bad("value: 3.3 uF, esr: 0.9", "value: 3.3 mH, esr: 0.9", "3.3 mH", 0, &["network.parts.C1.value", "expected a capacitance such as \"4.7 uF\", found \"3.3 mH\""]);
+}
+
+#[test]
+fn bare_number_needs_a_unit() {
+    bad("dcr: 0.35 ohm", "dcr: 0.35", "0.35 }", 0, &["network.parts.L1.dcr", "needs a unit", "hint: add the unit, e.g. \"0.35 ohm\""]);
+}
+
+#[test]
+fn negative_value() {
+    bad("value: 1.2 mH", "value: -1.2 mH", "-1.2 mH", 0, &["must be more than zero"]);
+}
+
+#[test]
+fn zero_capacitance() {
+    bad("value: 3.3 uF, esr: 0.9", "value: 0 uF, esr: 0.9", "0 uF", 0, &["must be more than zero"]);
+}
+
+#[test]
+fn yaml_duplicate_key() {
+    bad("    L2: { kind: inductor", "    L1: { kind: inductor", "L1", 1, &["appears twice"]);
+}
+
+#[test]
+fn part_and_driver_share_a_reference() {
+    bad("    LF: { role: woofer", "    L2: { role: woofer", "L2", 1, &["both a part and a driver"]);
+}
+
+#[test]
+fn reading_for_a_part_that_does_not_exist() {
+    bad("  C1: { value: 2.9 uF", "  C2: { value: 2.9 uF", "C2", 0, &["no part or driver C2", "did you mean `C1`?"]);
+}
+
+#[test]
+fn replacing_a_part_that_does_not_exist() {
+    bad("  - replace: C1", "  - replace: C11", "C11", 0, &["no part or driver C11", "did you mean `C1`?"]);
+}
+
+#[test]
+fn compensating_a_part_that_does_not_exist() {
+    bad("  R9: { driver: HF", "  R8: { driver: HF", "R8", 0, &["no part R8", "did you mean `R9`?"]);
+}
+
+#[test]
+fn auto_value_without_compensate_entry() {
+    bad("compensate:\n  R9: { driver: HF, band: [3 kHz, 15 kHz] }\n", "", "R9", 0, &["has `value: auto` but no `compensate` entry"]);
+}
+
+#[test]
+fn node_touched_by_one_terminal() {
+    bad("between: [H1, COM], value: 0.27 mH", "between: [H1, X7], value: 0.27 mH", "L1", 0, &["node X7 is touched by L1 alone"]);
+}
+
+#[test]
+fn part_not_connected_to_the_input() {
+    bad(
+        "    L2: { kind: inductor, between: [IN, W1], value: 1.2 mH, dcr: 0.4 ohm }\n",
+        "    L2: { kind: inductor, between: [IN, W1], value: 1.2 mH, dcr: 0.4 ohm }\n    R5: { kind: resistor, between: [Q1, Q2], value: 1 ohm }\n    R6: { kind: resistor, between: [Q1, Q2], value: 1 ohm }\n",
+        "R5",
+        0,
+        &["R5 is not connected to the input"],
+    );
+}
+
+#[test]
+fn driver_without_model() {
+    bad(", model: { resistance: 6 ohm } }", " }", "LF:", 0, &["driver LF has no `model`", "hint:"]);
+}
+
+#[test]
+fn unknown_role_gets_a_suggestion() {
+    bad("role: tweeter", "role: tweter", "tweter", 0, &["unknown choice \"tweter\"", "did you mean `tweeter`?"]);
+}
+
+#[test]
+fn bad_date() {
+    bad("date: 2026-11-28", "date: 28/11/2026", "28/11/2026", 0, &["expected an ISO date"]);
+}
+
+#[test]
+fn impossible_date() {
+    bad("date: 2026-11-28", "date: 2026-02-30", "2026-02-30", 0, &["expected an ISO date"]);
+}
+
+#[test]
+fn missing_amplifier() {
+    bad("amplifier: { power: 60 W, into: 8 ohm }\n", "", "voicekeep", 0, &["missing `amplifier`"]);
+}
+
+#[test]
+fn esr_and_tan_delta_together() {
+    bad("esr: 0.9 ohm }", "esr: 0.9 ohm, tan_delta: 0.01 }", "{ kind: capacitor", 0, &["either `esr` or `tan_delta`"]);
+}
+
+#[test]
+fn esr_on_an_inductor() {
+    bad("value: 1.2 mH, dcr: 0.4 ohm", "value: 1.2 mH, dcr: 0.4 ohm, esr: 0.1 ohm", "0.1 ohm", 0, &["an inductor has no `esr`"]);
+}
+
+#[test]
+fn inductor_without_dcr() {
+    bad("value: 1.2 mH, dcr: 0.4 ohm", "value: 1.2 mH", "{ kind: inductor, between: [IN", 0, &["inductor L2 needs its `dcr`"]);
+}
+
+#[test]
+fn sweep_ending_below_its_start() {
+    bad("to: 20 kHz", "to: 10 Hz", "{ from", 0, &["must end above where it starts"]);
+}
+
+#[test]
+fn insert_beside_a_part_off_that_node() {
+    bad("between: [IN, C1], value: auto", "between: [COM, C1], value: auto", "- insert", 0, &["C1 does not touch node COM"]);
+}
+
+#[test]
+fn auto_value_on_a_capacitor() {
+    bad("with: { value: 3.3 uF, esr: 0.01 ohm }", "with: { value: auto, esr: 0.01 ohm }", "auto, esr", 0, &["`auto` is for resistors only"]);
+}
+
+#[test]
+fn band_with_no_sweep_points() {
+    bad("sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }", "sweep: { at: [100 Hz, 1 kHz] }", "R9: { driver", 0, &["no sweep point falls in this band"]);
+}
+
+#[test]
+fn yaml_syntax_error() {
+    bad("  number: T-1", "  number: [T-1", "\n", 4, &["YAML syntax"]);
+}
+
+#[test]
+fn missing_table_file() {
+    bad("model: { resistance: 6 ohm }", "model: { table: nowhere.csv }", "nowhere.csv", 0, &["cannot read table file", "relative to the job file's folder"]);
+}
+
+fn table_case(table: &str, words: &[&str]) {
+    let text = BASE.replacen("model: { resistance: 6 ohm }", "model: { table: lf.csv }", 1);
+    let o = Cli::new().job(&text).file("lf.csv", table.as_bytes()).args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "lf.csv", 0));
+    for w in words {
+        o.stderr_has(w);
+    }
+}
+
+#[test]
+fn table_with_text_in_a_row() {
+    table_case("10, 6.1, 0\n1000, six, 3\n30000, 9, 40\n", &["lf.csv:2: \"six\" is not a number"]);
+}
+
+#[test]
+fn table_out_of_order() {
+    table_case("10, 6.1, 0\n1000, 6.5, 3\n500, 6.4, 2\n30000, 9, 40\n", &["lf.csv:3: frequency 500 Hz does not rise"]);
+}
+
+#[test]
+fn table_too_short() {
+    table_case("# one row only\n1000, 6.5, 3\n", &["1 rows of numbers; at least 2 are needed"]);
+}
+
+#[test]
+fn table_not_covering_the_sweep() {
+    table_case("100, 6.1, 0\n10000, 6.5, 3\n", &["covers 100 Hz to 10000 Hz but the sweep runs from 20 Hz"]);
+}
+
+#[test]
+fn every_problem_is_listed_not_only_the_first() {
+    let text = BASE.replacen("value: 0.27 mH", "valeu: 0.27 mH", 1).replacen("role: tweeter", "role: tweter", 1).replacen("to: 20 kHz", "to: 10 Hz", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("unknown field `valeu`").stderr_has("unknown choice \"tweter\"").stderr_has("must end above where it starts");
+}
+
+#[test]
+fn missing_job_file_is_an_io_failure() {
+    Cli::new().args(["check", "no/such/job.yaml"]).run().code(3).stderr_has("cannot read the job file");
+}
+
+#[test]
+fn usage_errors_exit_2() {
+    Cli::new().args(["solve"]).run().code(2);
+    Cli::new().args(["frobnicate"]).run().code(2);
+    Cli::new().args(["solve", "{job}", "--format", "xml"]).job(BASE).run().code(2);
+    Cli::new().args(["new", "--example", "nine-way"]).run().code(2).stderr_has("two-way");
+}

@@ -1,0 +1,9 @@
+//! voicekeep's integration tests: one binary (the CLI cases, the engine against ngspice and
+//! textbook formulas, and the report).
+
+mod analytic;
+mod bad;
+mod commands;
+mod reference;
+mod report;
+mod util;

@@ -1,0 +1,130 @@
+//! The PDF report: every sample under every template, its text against `solve`, byte-identical
+//! renders, literal notes, attachments, and shop templates. Uses pdftotext and pdfdetach
+//! (Debian's poppler-utils).
+
+use std::path::Path;
+use std::process::Command;
+
+use crate::commands::SAMPLES;
+use crate::util::{root, Cli};
+
+fn pdftotext(pdf: &Path) -> String {
+    let o = Command::new("pdftotext").args(["-layout"]).arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
+    assert!(o.status.success());
+    // Join the words of wrapped table cells so phrases can be found whole.
+    String::from_utf8_lossy(&o.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+fn render(sample: &str, template: &str) -> (std::path::PathBuf, String) {
+    let o = Cli::new().args(["report", sample, "--template", template, "-o", "{dir}/out.pdf"]).run();
+    o.code(0);
+    let pdf = o.dir.join("out.pdf");
+    let text = pdftotext(&pdf);
+    (pdf, text)
+}
+
+#[test]
+fn every_sample_renders_under_every_template_and_matches_solve() {
+    for sample in SAMPLES {
+        let o = Cli::new().args(["solve", sample, "--format", "json"]).run();
+        let json: serde_json::Value = serde_json::from_str(&o.stdout).unwrap();
+        for template in ["customer", "archive", "sale"] {
+            let (pdf, text) = render(sample, template);
+            assert!(std::fs::read(&pdf).unwrap().starts_with(b"%PDF-"));
+            assert!(text.contains(json["job"]["number"].as_str().unwrap()));
+            assert!(text.contains("page 1 of"), "{sample} {template}: page numbers in the footer");
+            for l in json["levels"].as_array().unwrap() {
+                let left = format!("{:+.2} dB", l["as_left_db"].as_f64().unwrap());
+                assert!(text.contains(&left), "{sample} {template}: level {left} missing");
+            }
+            let verdict = json["load"]["as_left"]["verdict"].as_str().unwrap();
+            assert!(text.contains(verdict));
+            if template != "sale" {
+                for c in json["compensation"].as_array().unwrap() {
+                    let fitted = voicekeep::results::ohm(c["fitted_ohm"].as_f64().unwrap());
+                    assert!(text.contains(&format!("{} {}", c["part"].as_str().unwrap(), c["driver"].as_str().unwrap())), "{sample} {template}");
+                    assert!(text.contains(&fitted), "{sample} {template}: fitted {fitted} missing");
+                }
+            }
+            assert!(text.contains("local electrical codes"), "{sample} {template}: safety notes");
+        }
+    }
+}
+
+#[test]
+fn renders_are_byte_identical_and_a_changed_note_changes_the_pdf() {
+    let job = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let a = Cli::new().job(&job).args(["report", "{job}", "-o", "{dir}/a.pdf"]).run();
+    let b = Cli::new().job(&job).args(["report", "{job}", "-o", "{dir}/b.pdf"]).run();
+    let (pa, pb) = (std::fs::read(a.dir.join("a.pdf")).unwrap(), std::fs::read(b.dir.join("b.pdf")).unwrap());
+    assert!(pa == pb, "two renders of the same job differ");
+    let changed = job.replace("harsh, forward treble", "harsh, bright treble");
+    let c = Cli::new().job(&changed).args(["report", "{job}", "-o", "{dir}/c.pdf"]).run();
+    assert!(std::fs::read(c.dir.join("c.pdf")).unwrap() != pa);
+}
+
+#[test]
+fn notes_with_markup_print_literally() {
+    let job = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let note = "    Tried #read(\"/etc/passwd\") and ] and $x$ and *bold* and <tag> and #panic()\n";
+    let job = job.replace("    Original electrolytics found in the box; readings below are from those.\n", note);
+    let o = Cli::new().job(&job).args(["report", "{job}", "-o", "{dir}/n.pdf"]).run();
+    o.code(0);
+    let text = pdftotext(&o.dir.join("n.pdf"));
+    assert!(text.contains("Tried #read(\"/etc/passwd\") and ] and $x$ and *bold* and <tag> and #panic()"), "{text}");
+    assert!(!text.contains("root:x:0"));
+}
+
+#[test]
+fn job_file_tables_and_results_are_attached() {
+    let o = Cli::new().args(["report", "samples/three-way-mid-table.yaml", "--template", "archive", "-o", "{dir}/a.pdf"]).run();
+    o.code(0);
+    let pdf = o.dir.join("a.pdf");
+    let list = Command::new("pdfdetach").arg("-list").arg(&pdf).output().expect("pdfdetach (poppler-utils)");
+    let list = String::from_utf8_lossy(&list.stdout).to_string();
+    for name in ["three-way-mid-table.yaml", "mid-impedance.csv", "lf-spl.csv", "results.json"] {
+        assert!(list.contains(name), "{name} not attached:\n{list}");
+    }
+    let out = o.dir.join("job-out.yaml");
+    let save = Command::new("pdfdetach").arg("-savefile").arg("three-way-mid-table.yaml").arg("-o").arg(&out).arg(&pdf).status().unwrap();
+    assert!(save.success());
+    assert_eq!(std::fs::read(&out).unwrap(), std::fs::read(root().join("samples/three-way-mid-table.yaml")).unwrap());
+    // The archive is PDF/A-3b: its metadata says so.
+    let bytes = std::fs::read(&pdf).unwrap();
+    let hay = String::from_utf8_lossy(&bytes);
+    assert!(hay.contains("pdfaid:part") && hay.contains("pdfaid:conformance"), "no PDF/A identification");
+}
+
+#[test]
+fn a_shop_template_works_and_a_broken_one_names_its_line() {
+    let job = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let shop = "#import \"lib.typ\": *\n#show: setup.with(title: \"Harbour Hi-Fi service note\")\n= Harbour Hi-Fi service note\n#levels-block()\n#load-block()\n";
+    let o = Cli::new().job(&job).file("shop.typ", shop.as_bytes()).args(["report", "{job}", "--template", "{dir}/shop.typ", "-o", "{dir}/s.pdf"]).run();
+    o.code(0);
+    assert!(pdftotext(&o.dir.join("s.pdf")).contains("Harbour Hi-Fi service note"));
+    let broken = "#import \"lib.typ\": *\n#show: setup\n= Title\n#levels-block(\n";
+    let o = Cli::new().job(&job).file("broken.typ", broken.as_bytes()).args(["report", "{job}", "--template", "{dir}/broken.typ", "-o", "{dir}/b.pdf"]).run();
+    o.code(1).stderr_has("broken.typ:4:");
+    assert!(!o.dir.join("b.pdf").exists(), "no partly written report");
+}
+
+#[test]
+fn plot_writes_svg_and_png() {
+    let o = Cli::new().args(["plot", "samples/three-way-mid-table.yaml", "--out", "{dir}/plots"]).run();
+    o.code(0);
+    for n in ["response", "change", "impedance", "phase", "tolerance", "acoustic"] {
+        let svg = std::fs::read_to_string(o.dir.join(format!("plots/{n}.svg"))).unwrap();
+        assert!(svg.starts_with("<svg") && svg.contains("frequency (Hz)"), "{n}");
+    }
+    let o = Cli::new().args(["plot", "samples/two-way-recap.yaml", "--out", "{dir}/p", "--format", "png"]).run();
+    o.code(0);
+    assert!(std::fs::read(o.dir.join("p/response.png")).unwrap().starts_with(b"\x89PNG"));
+}
+
+#[test]
+fn batch_reports_good_jobs_and_names_bad_ones() {
+    let good = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let o = Cli::new().file("a.yaml", good.as_bytes()).file("b.yaml", b"voicekeep: 1\nnetwork: [\n").args(["batch", "{dir}", "--out", "{dir}/out"]).run();
+    o.code(1).stdout_has("1 of 2 jobs reported").stderr_has("b.yaml");
+    assert!(o.dir.join("out/a.pdf").exists());
+}
