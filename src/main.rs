@@ -1,1 +1,3 @@
-fn main() -> std::process::ExitCode { voicekeep::cli::run(std::env::args_os()) }
+fn main() -> std::process::ExitCode {
+    voicekeep::cli::run(std::env::args_os())
+}

@@ -127,7 +127,10 @@ pub enum VoiceCoilInductance {
     /// Le in henry.
     Simple(f64),
     /// Leach's lossy inductance K (j w)^n, K in ohm s^n.
-    Leach { k: f64, n: f64 },
+    Leach {
+        k: f64,
+        n: f64,
+    },
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -354,11 +357,22 @@ pub struct Reading {
 
 #[derive(Debug, Clone, PartialEq)]
 pub enum ChangeStep {
-    Replace { target: String, with: Patch },
+    Replace {
+        target: String,
+        with: Patch,
+    },
     /// A new part in series where part `next_to` meets `node`.
-    Insert { part: Part, node: String, next_to: String },
-    Remove { target: String },
-    Add { parts: Vec<Part> },
+    Insert {
+        part: Part,
+        node: String,
+        next_to: String,
+    },
+    Remove {
+        target: String,
+    },
+    Add {
+        parts: Vec<Part>,
+    },
 }
 
 #[derive(Debug, Clone, PartialEq)]

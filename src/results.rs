@@ -27,10 +27,13 @@ pub fn json(job: &Job, f: &Findings) -> Value {
     for s in &f.scenes {
         let mut drivers = Map::new();
         for (i, d) in s.network.drivers.iter().enumerate() {
-            drivers.insert(d.name.clone(), json!({
-                "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
-                "phase_deg": s.phase[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
-            }));
+            drivers.insert(
+                d.name.clone(),
+                json!({
+                    "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+                    "phase_deg": s.phase[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+                }),
+            );
         }
         let (ohm, ph): (Vec<f64>, Vec<f64>) = s.z.iter().map(|z| (round(z.norm(), 4), round(crate::engine::wrap_deg(z.arg().to_degrees()), 4))).unzip();
         scenarios.insert(s.scenario.key().into(), json!({ "drivers": drivers, "impedance": { "ohm": ohm, "phase_deg": ph } }));
@@ -97,7 +100,14 @@ pub fn text(job: &Job, f: &Findings) -> String {
         let _ = writeln!(s, "  no `value: auto` parts in this job");
     }
     for c in &f.compensation.fits {
-        let rating = f.stress.rows.iter().find(|r| r.scenario == Scenario::AsLeft && r.part == c.part).and_then(|r| r.rating_w).map(|w| format!(", {} W", trim_number(w, 3))).unwrap_or_default();
+        let rating = f
+            .stress
+            .rows
+            .iter()
+            .find(|r| r.scenario == Scenario::AsLeft && r.part == c.part)
+            .and_then(|r| r.rating_w)
+            .map(|w| format!(", {} W", trim_number(w, 3)))
+            .unwrap_or_default();
         if c.cannot_raise {
             let _ = writeln!(s, "  {}: none - {} is already {:.2} dB below its {} level", c.part, c.driver, -c.excess_db, c.reference.label());
         } else if c.fitted_ohm == 0.0 {
@@ -105,9 +115,27 @@ pub fn text(job: &Job, f: &Findings) -> String {
         } else {
             let _ = writeln!(s, "  fit {} = {} ({}{}) {}", c.part, ohm(c.fitted_ohm), c.series, rating, c.placement);
         }
-        let _ = writeln!(s, "    exact {}; {} matches {} over {}-{} within {:.3} dB RMS (worst {:+.3} dB)", ohm(c.exact_ohm), c.driver, c.reference.label(), hz(Some(c.band_hz[0])), hz(Some(c.band_hz[1])), c.residual_db, c.worst_db);
+        let _ = writeln!(
+            s,
+            "    exact {}; {} matches {} over {}-{} within {:.3} dB RMS (worst {:+.3} dB)",
+            ohm(c.exact_ohm),
+            c.driver,
+            c.reference.label(),
+            hz(Some(c.band_hz[0])),
+            hz(Some(c.band_hz[1])),
+            c.residual_db,
+            c.worst_db
+        );
         if let Some(p) = &c.pair {
-            let _ = writeln!(s, "    closer with stock E12: {} {} {} = {} ({:.3} dB RMS)", ohm(p.a_ohm), if p.parallel { "parallel with" } else { "in series with" }, ohm(p.b_ohm), ohm(p.value_ohm), p.residual_db);
+            let _ = writeln!(
+                s,
+                "    closer with stock E12: {} {} {} = {} ({:.3} dB RMS)",
+                ohm(p.a_ohm),
+                if p.parallel { "parallel with" } else { "in series with" },
+                ohm(p.b_ohm),
+                ohm(p.value_ohm),
+                p.residual_db
+            );
         }
     }
     for a in &f.compensation.alternatives {
@@ -119,7 +147,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
     }
     let _ = writeln!(s);
     let _ = writeln!(s, "LEVELS (band mean, dB re as designed)");
-    let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  {}", "driver", "role", "band", "designed", "found", "left", "as left");
+    let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
     for l in &f.levels {
         let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == "compensate" { "fit" } else { "pass" });
         let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);

@@ -169,9 +169,7 @@ fn parse_rkm(text: &str, quantity: Quantity) -> Option<f64> {
     if whole.is_empty() && frac.is_empty() {
         return None;
     }
-    let number: f64 = format!("{}.{}", if whole.is_empty() { "0" } else { whole }, if frac.is_empty() { "0" } else { frac })
-        .parse()
-        .ok()?;
+    let number: f64 = format!("{}.{}", if whole.is_empty() { "0" } else { whole }, if frac.is_empty() { "0" } else { frac }).parse().ok()?;
     Some(number * factor)
 }
 
@@ -214,10 +212,7 @@ pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
         }
     };
     if unit.0 != quantity {
-        return Err(ValueError {
-            message: expected(),
-            hint: Some(format!("\"{}\" is {}; this field takes {} in {}", unit.1, unit.0.noun(), quantity.noun(), quantity.symbol())),
-        });
+        return Err(ValueError { message: expected(), hint: Some(format!("\"{}\" is {}; this field takes {} in {}", unit.1, unit.0.noun(), quantity.noun(), quantity.symbol())) });
     }
     if quantity == Quantity::Percent || quantity == Quantity::Decibel {
         if factor != 1.0 {
@@ -248,11 +243,7 @@ pub fn format_si(value: f64, quantity: Quantity, digits: usize) -> String {
     let a = value.abs();
     // Ohms under 1 and watts under 1 read better as decimals in the trade (0.68 ohm, 0.4 W).
     let plain_small = matches!(quantity, Quantity::Resistance | Quantity::Power | Quantity::Voltage | Quantity::Current) && a >= 0.01;
-    let (scale, prefix) = if plain_small && a < 1000.0 {
-        (1.0, "")
-    } else {
-        *PREFIXES.iter().find(|(s, _)| a >= *s * 0.9995).unwrap_or(&PREFIXES[6])
-    };
+    let (scale, prefix) = if plain_small && a < 1000.0 { (1.0, "") } else { *PREFIXES.iter().find(|(s, _)| a >= *s * 0.9995).unwrap_or(&PREFIXES[6]) };
     format!("{} {}{}", trim_number(value / scale, digits), prefix, unit)
 }
 

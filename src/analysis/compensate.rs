@@ -352,7 +352,10 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
         let fix = judge(job, &plan.network, freqs, bands, reference, di)?;
         if !fit.at_input {
             if let (Some(a), Some(r)) = (fix.crossover, ref_x) {
-                plan.warnings.push(Warning { subject: fit.part.clone(), message: format!("With {} where it is, the crossover of {} moves from {:.0} Hz to {:.0} Hz ({:+.0} Hz).", fit.part, fit.driver, r, a, a - r) });
+                plan.warnings.push(Warning {
+                    subject: fit.part.clone(),
+                    message: format!("With {} where it is, the crossover of {} moves from {:.0} Hz to {:.0} Hz ({:+.0} Hz).", fit.part, fit.driver, r, a, a - r),
+                });
             }
         }
         // An L-pad at the driver when more than about 3 dB must go (common practice).
@@ -375,7 +378,15 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
                 kind: "l-pad",
                 driver: fit.driver.clone(),
                 parts: vec![("series".into(), rs), ("shunt".into(), rp)],
-                description: format!("an L-pad at {}: {} ohm in series and {} ohm across the driver (for {:.1} dB into about {:.1} ohm), in place of {}", fit.driver, crate::units::trim_number(rs, 3), crate::units::trim_number(rp, 3), fit.excess_db, zd, fit.part),
+                description: format!(
+                    "an L-pad at {}: {} ohm in series and {} ohm across the driver (for {:.1} dB into about {:.1} ohm), in place of {}",
+                    fit.driver,
+                    crate::units::trim_number(rs, 3),
+                    crate::units::trim_number(rp, 3),
+                    fit.excess_db,
+                    zd,
+                    fit.part
+                ),
                 residual_db: j.rms,
                 worst_db: j.worst,
                 crossover_hz: j.crossover,

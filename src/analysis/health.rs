@@ -64,7 +64,12 @@ pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], scenes: &[Scene; 3]) -> V
             let dev = v / p.value - 1.0;
             if dev.abs() > t {
                 let (e, d) = effect(job, freqs, bands, &scenes[0], &p.name, |q| q.value = v);
-                out.push(Flag { part: p.name.clone(), message: format!("measures {:+.1} % from nominal, outside its {:.0} % tolerance", dev * 100.0, t * 100.0), effect_db: e, effect_driver: d });
+                out.push(Flag {
+                    part: p.name.clone(),
+                    message: format!("measures {:+.1} % from nominal, outside its {:.0} % tolerance", dev * 100.0, t * 100.0),
+                    effect_db: e,
+                    effect_driver: d,
+                });
             }
         }
         if p.kind == PartKind::Capacitor {
@@ -79,7 +84,18 @@ pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], scenes: &[Scene; 3]) -> V
             if let (Some(td), Some((typ, name))) = (td, p.type_text.as_deref().and_then(|t| typical_tan_delta(t, rating))) {
                 if td > 2.0 * typ {
                     let (e, d) = effect(job, freqs, bands, &scenes[0], &p.name, |q| m.apply_reading(q));
-                    out.push(Flag { part: p.name.clone(), message: format!("dissipation factor {:.3} at {} Hz is over twice the {:.4} typical of {}: the capacitor is ageing", td, crate::units::trim_number(at, 3), typ, name), effect_db: e, effect_driver: d });
+                    out.push(Flag {
+                        part: p.name.clone(),
+                        message: format!(
+                            "dissipation factor {:.3} at {} Hz is over twice the {:.4} typical of {}: the capacitor is ageing",
+                            td,
+                            crate::units::trim_number(at, 3),
+                            typ,
+                            name
+                        ),
+                        effect_db: e,
+                        effect_driver: d,
+                    });
                 }
             }
         }
@@ -87,7 +103,12 @@ pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], scenes: &[Scene; 3]) -> V
             if let Some(dcr) = m.dcr {
                 if p.dcr > 0.0 && dcr > p.dcr * 1.1 {
                     let (e, d) = effect(job, freqs, bands, &scenes[0], &p.name, |q| q.dcr = dcr);
-                    out.push(Flag { part: p.name.clone(), message: format!("DCR has risen {:.0} % (from {:.3} to {:.3} ohm): check its joints and windings", (dcr / p.dcr - 1.0) * 100.0, p.dcr, dcr), effect_db: e, effect_driver: d });
+                    out.push(Flag {
+                        part: p.name.clone(),
+                        message: format!("DCR has risen {:.0} % (from {:.3} to {:.3} ohm): check its joints and windings", (dcr / p.dcr - 1.0) * 100.0, p.dcr, dcr),
+                        effect_db: e,
+                        effect_driver: d,
+                    });
                 }
             }
         }

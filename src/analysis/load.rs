@@ -59,10 +59,14 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
     let (verdict, reason) = if min.0 < 2.0 || emin.0 < 1.5 {
         ("over", format!("the load falls to {:.2} ohm (EPDR {:.2} ohm): too low for most amplifiers; check the amplifier maker's minimum load", min.0, emin.0))
     } else if min.0 < 3.0 || emin.0 < 2.0 || !holds {
-        let why = if holds { String::new() } else { format!("|Z| falls to {:.2} ohm, below 80 % of the rated {} ohm (IEC 60268-5); ", rmin, crate::units::trim_number(rated_ohm, 3)) };
+        let why =
+            if holds { String::new() } else { format!("|Z| falls to {:.2} ohm, below 80 % of the rated {} ohm (IEC 60268-5); ", rmin, crate::units::trim_number(rated_ohm, 3)) };
         ("check", format!("{why}minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm: hard on many amplifiers at high level", min.0, crate::units::trim_number(min.1, 3), emin.0))
     } else {
-        ("ok", format!("minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm at {} Hz: a normal load", min.0, crate::units::trim_number(min.1, 3), emin.0, crate::units::trim_number(emin.1, 3)))
+        (
+            "ok",
+            format!("minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm at {} Hz: a normal load", min.0, crate::units::trim_number(min.1, 3), emin.0, crate::units::trim_number(emin.1, 3)),
+        )
     };
     Load {
         min_ohm: min.0,
@@ -89,7 +93,8 @@ mod tests {
             assert!((epdr(z) - ratio).abs() < 1e-4, "{deg} deg: {} vs {ratio}", epdr(z));
         }
         let z = Complex64::from_polar(4.0, f64::to_radians(45.0));
-        assert!((epdr(z) - 1.4142).abs() < 1e-4);
+        // 4 ohm at 45 degrees: exact 1.4142 ohm (check-values.md).
+        assert!((epdr(z) - 4.0 * 0.35355).abs() < 1e-4);
     }
 
     #[test]

@@ -239,7 +239,13 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
             let from = (bands[lo].lo_hz * bands[lo].hi_hz).sqrt();
             let to = (bands[hi].lo_hz * bands[hi].hi_hz).sqrt();
             let at = |s: &Scene| crossing(&freqs, &s.db[lo], &s.db[hi], from, to);
-            CrossoverRow { lower: job.network.drivers[lo].name.clone(), upper: job.network.drivers[hi].name.clone(), as_designed_hz: at(&scenes[0]), as_found_hz: at(&scenes[1]), as_left_hz: at(&scenes[2]) }
+            CrossoverRow {
+                lower: job.network.drivers[lo].name.clone(),
+                upper: job.network.drivers[hi].name.clone(),
+                as_designed_hz: at(&scenes[0]),
+                as_found_hz: at(&scenes[1]),
+                as_left_hz: at(&scenes[2]),
+            }
         })
         .collect();
     let corners_rows = scenes

@@ -114,12 +114,26 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
             if el.is_driver {
                 let d = s.network.driver(&el.name).expect("driver");
                 let (verdict, reason) = match d.rated_power {
-                    Some(r) if prog > r => ("over", format!("takes {} W of programme, above its {} W rating: limit the amplifier's level", trim_number(prog, 3), trim_number(r, 3))),
-                    Some(r) if sine.0 > r => ("check", format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", khz(sine.1), trim_number(sine.0, 3), trim_number(r, 3))),
+                    Some(r) if prog > r => {
+                        ("over", format!("takes {} W of programme, above its {} W rating: limit the amplifier's level", trim_number(prog, 3), trim_number(r, 3)))
+                    }
+                    Some(r) if sine.0 > r => (
+                        "check",
+                        format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", khz(sine.1), trim_number(sine.0, 3), trim_number(r, 3)),
+                    ),
                     Some(r) => ("ok", format!("{} W of programme against a {} W rating", trim_number(prog, 3), trim_number(r, 3))),
                     None => ("ok", "no power rating on record for this driver".to_string()),
                 };
-                drivers.push(DriverPower { scenario: s.scenario, driver: el.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason });
+                drivers.push(DriverPower {
+                    scenario: s.scenario,
+                    driver: el.name.clone(),
+                    sine_w: sine.0,
+                    sine_at_hz: sine.1,
+                    programme_w: prog,
+                    rated_w: d.rated_power,
+                    verdict,
+                    reason,
+                });
                 continue;
             }
             let part = s.network.part(&el.name).expect("part");
@@ -157,11 +171,36 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
                         ("ok", "not fitted (0 ohm)".to_string())
                     } else {
                         match rating {
-                            None => ("check", format!("no power rating on record: fit at least {} W (twice the programme figure, common practice)", trim_number(choose_rating(prog), 3))),
-                            Some(r) if prog > r => ("over", format!("dissipates {} W on programme, above its {} W rating: fit a {} W part", trim_number(prog, 3), trim_number(r, 3), trim_number(choose_rating(prog), 3))),
-                            Some(r) if RESISTOR_MARGIN * prog > r => ("check", format!("{} W on programme leaves less than the 2x margin under its {} W rating (common practice)", trim_number(prog, 3), trim_number(r, 3))),
-                            Some(r) if sine.0 > r => ("check", format!("a full-level test tone near {} overheats {} ({} W in a {} W part): keep bench test levels low", khz(sine.1), el.name, trim_number(sine.0, 3), trim_number(r, 3))),
-                            Some(r) => ("ok", format!("{} W on programme, {} W with a full-level sine, in a {} W part", trim_number(prog, 2), trim_number(sine.0, 2), trim_number(r, 3))),
+                            None => (
+                                "check",
+                                format!("no power rating on record: fit at least {} W (twice the programme figure, common practice)", trim_number(choose_rating(prog), 3)),
+                            ),
+                            Some(r) if prog > r => (
+                                "over",
+                                format!(
+                                    "dissipates {} W on programme, above its {} W rating: fit a {} W part",
+                                    trim_number(prog, 3),
+                                    trim_number(r, 3),
+                                    trim_number(choose_rating(prog), 3)
+                                ),
+                            ),
+                            Some(r) if RESISTOR_MARGIN * prog > r => (
+                                "check",
+                                format!("{} W on programme leaves less than the 2x margin under its {} W rating (common practice)", trim_number(prog, 3), trim_number(r, 3)),
+                            ),
+                            Some(r) if sine.0 > r => (
+                                "check",
+                                format!(
+                                    "a full-level test tone near {} overheats {} ({} W in a {} W part): keep bench test levels low",
+                                    khz(sine.1),
+                                    el.name,
+                                    trim_number(sine.0, 3),
+                                    trim_number(r, 3)
+                                ),
+                            ),
+                            Some(r) => {
+                                ("ok", format!("{} W on programme, {} W with a full-level sine, in a {} W part", trim_number(prog, 2), trim_number(sine.0, 2), trim_number(r, 3)))
+                            }
                         }
                     };
                 }
@@ -176,7 +215,9 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
                     (row.verdict, row.reason) = match rating {
                         None => ("check", format!("peaks at {} V near {}; no voltage rating on record", trim_number(peak.0, 3), khz(peak.1))),
                         Some(r) if peak.0 > r => ("over", format!("peaks at {} V near {}, above its {} V rating", trim_number(peak.0, 3), khz(peak.1), trim_number(r, 3))),
-                        Some(r) if peak.0 > CAPACITOR_MARGIN * r => ("check", format!("peaks at {} V, above 80 % of its {} V rating (common practice)", trim_number(peak.0, 3), trim_number(r, 3))),
+                        Some(r) if peak.0 > CAPACITOR_MARGIN * r => {
+                            ("check", format!("peaks at {} V, above 80 % of its {} V rating (common practice)", trim_number(peak.0, 3), trim_number(r, 3)))
+                        }
                         Some(r) => ("ok", format!("peaks at {} V near {} against a {} V rating", trim_number(peak.0, 3), khz(peak.1), trim_number(r, 3))),
                     };
                 }

@@ -87,8 +87,22 @@ pub enum SolveError {
 impl fmt::Display for SolveError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            SolveError::Floating { nodes, parts } => write!(f, "node{} {} ha{} no path to the amplifier's return; parts involved: {}", if nodes.len() > 1 { "s" } else { "" }, nodes.join(", "), if nodes.len() > 1 { "ve" } else { "s" }, parts.join(", ")),
-            SolveError::Singular { f_hz, nodes, parts } => write!(f, "the network cannot be solved at {} Hz: the equations at node{} {} are singular (a short circuit or a loop of zero-impedance parts); parts involved: {}", crate::units::trim_number(*f_hz, 4), if nodes.len() > 1 { "s" } else { "" }, nodes.join(", "), parts.join(", ")),
+            SolveError::Floating { nodes, parts } => write!(
+                f,
+                "node{} {} ha{} no path to the amplifier's return; parts involved: {}",
+                if nodes.len() > 1 { "s" } else { "" },
+                nodes.join(", "),
+                if nodes.len() > 1 { "ve" } else { "s" },
+                parts.join(", ")
+            ),
+            SolveError::Singular { f_hz, nodes, parts } => write!(
+                f,
+                "the network cannot be solved at {} Hz: the equations at node{} {} are singular (a short circuit or a loop of zero-impedance parts); parts involved: {}",
+                crate::units::trim_number(*f_hz, 4),
+                if nodes.len() > 1 { "s" } else { "" },
+                nodes.join(", "),
+                parts.join(", ")
+            ),
         }
     }
 }

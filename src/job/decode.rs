@@ -26,6 +26,10 @@ impl<'n> Fields<'n> {
         self.entries.iter().find(|(k, _)| k.name == key).map(|(_, v)| v).filter(|v| !v.is_null())
     }
 
+    pub fn key_pos(&self, key: &str) -> Option<Pos> {
+        self.entries.iter().find(|(k, _)| k.name == key).map(|(k, _)| k.pos)
+    }
+
     pub fn at(&self, key: &str) -> String {
         if self.path.is_empty() {
             key.to_string()
@@ -215,13 +219,23 @@ impl<'a> Ctx<'a> {
                 return None;
             }
             if let Some(bad) = nums.iter().take(3).position(|n| n.is_none()) {
-                self.error(node.pos(), path, format!("{name}:{}: \"{}\" is not a number", i + 1, cells[bad]), Some("a header line is allowed only before the first row of numbers".into()));
+                self.error(
+                    node.pos(),
+                    path,
+                    format!("{name}:{}: \"{}\" is not a number", i + 1, cells[bad]),
+                    Some("a header line is allowed only before the first row of numbers".into()),
+                );
                 return None;
             }
             let f = nums[0].unwrap_or(0.0);
             if let Some(&last) = cols[0].last() {
                 if f <= last {
-                    self.error(node.pos(), path, format!("{name}:{}: frequency {f} Hz does not rise above the previous row's {last} Hz", i + 1), Some("sort the table by frequency, lowest first, without repeats".into()));
+                    self.error(
+                        node.pos(),
+                        path,
+                        format!("{name}:{}: frequency {f} Hz does not rise above the previous row's {last} Hz", i + 1),
+                        Some("sort the table by frequency, lowest first, without repeats".into()),
+                    );
                     return None;
                 }
             }
@@ -251,13 +265,20 @@ const REPLACE_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "tolera
 const REPLACE_DRIVER_KEYS: &[&str] = &["model", "sensitivity", "response", "rated_power", "note"];
 
 pub fn decode(root: &Node, ctx: &mut Ctx) -> Option<Job> {
-    let top = ctx.fields(root, "", JOB_KEYS)?;
+    let mut top = ctx.fields(root, "", JOB_KEYS)?;
+    // A missing section is reported at the top of the file.
+    top.pos = Pos { line: 1, col: 1 };
 
     match top.get("voicekeep") {
         None => ctx.error(Pos { line: 1, col: 1 }, "voicekeep", "missing `voicekeep: 1` (the job format version)", Some("add `voicekeep: 1` as the first line".into())),
         Some(n) => {
             if n.as_scalar() != Some("1") {
-                ctx.error(n.pos(), "voicekeep", format!("this is job format version \"{}\"; this voicekeep reads version 1", n.as_scalar().unwrap_or("?")), Some("write `voicekeep: 1`, or use the voicekeep release that wrote this file".into()));
+                ctx.error(
+                    n.pos(),
+                    "voicekeep",
+                    format!("this is job format version \"{}\"; this voicekeep reads version 1", n.as_scalar().unwrap_or("?")),
+                    Some("write `voicekeep: 1`, or use the voicekeep release that wrote this file".into()),
+                );
             }
         }
     }
@@ -281,38 +302,35 @@ pub fn decode(root: &Node, ctx: &mut Ctx) -> Option<Job> {
     let network = network?;
     let measured = top.get("measured").map(|n| decode_measured(n, &network, ctx)).unwrap_or_default();
     let changes = top.get("changes").map(|n| decode_changes(n, &network, ctx)).unwrap_or_default();
-    let compensate = top.get("compensate").map(|n| decode_compensate(n, &network, &changes, ctx)).unwrap_or_default();
+    let empty = Node::Map { entries: Vec::new(), pos: top.pos };
+    let compensate = decode_compensate(top.get("compensate").unwrap_or(&empty), &network, &changes, ctx);
     let (template, blocks) = top.get("report").map(|n| decode_report(n, ctx)).unwrap_or((Template::Customer, None));
 
-    let job = Job {
-        info,
-        amplifier: amplifier?,
-        network,
-        measured,
-        changes,
-        compensate,
-        analysis: analysis?,
-        template,
-        blocks,
-        inputs: std::mem::take(&mut ctx.inputs),
-    };
-    check_scenarios(&job, ctx);
+    let job = Job { info, amplifier: amplifier?, network, measured, changes, compensate, analysis: analysis?, template, blocks, inputs: std::mem::take(&mut ctx.inputs) };
+    // Connection problems are only meaningful once every part and driver was read.
+    if ctx.diags.is_empty() {
+        check_scenarios(&job, ctx);
+    }
     Some(job)
 }
 
 fn decode_info(node: &Node, ctx: &mut Ctx) -> Option<JobInfo> {
     let f = ctx.fields(node, "job", &["number", "date", "work", "technician", "shop", "customer", "speaker", "notes"])?;
     let mut info = JobInfo { rated_range: (20.0, 20_000.0), ..Default::default() };
-    match ctx.req(&f, "number", "the shop's job number") {
-        Some(n) => info.number = ctx.text(n, &f.at("number")).unwrap_or_default(),
-        None => {}
+    if let Some(n) = ctx.req(&f, "number", "the shop's job number") {
+        info.number = ctx.text(n, &f.at("number")).unwrap_or_default();
     }
     if let Some(n) = ctx.req(&f, "date", "the report's date, as 2026-11-28") {
         if let Some(t) = ctx.text(n, &f.at("date")) {
             if valid_iso_date(&t) {
                 info.date = t;
             } else {
-                ctx.error(n.pos(), &f.at("date"), format!("expected an ISO date such as 2026-11-28, found \"{t}\""), Some("the report's date comes from here, never from the clock, so reports can be reproduced".into()));
+                ctx.error(
+                    n.pos(),
+                    &f.at("date"),
+                    format!("expected an ISO date such as 2026-11-28, found \"{t}\""),
+                    Some("the report's date comes from here, never from the clock, so reports can be reproduced".into()),
+                );
             }
         }
     }
@@ -385,9 +403,15 @@ fn map_entries<'n>(node: &'n Node, path: &str, ctx: &mut Ctx) -> &'n [(Key, Node
 }
 
 fn check_reference(ctx: &mut Ctx, key: &Key, path: &str) -> bool {
-    let ok = !key.name.is_empty() && key.name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-') && key.name.chars().next().is_some_and(|c| c.is_ascii_alphabetic());
+    let ok =
+        !key.name.is_empty() && key.name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-') && key.name.chars().next().is_some_and(|c| c.is_ascii_alphabetic());
     if !ok {
-        ctx.error(key.pos, path, format!("\"{}\" is not a usable reference", key.name), Some("references start with a letter and use letters, digits, _ and -, like C1 or HF".into()));
+        ctx.error(
+            key.pos,
+            path,
+            format!("\"{}\" is not a usable reference", key.name),
+            Some("references start with a letter and use letters, digits, _ and -, like C1 or HF".into()),
+        );
     }
     ok
 }
@@ -410,26 +434,23 @@ fn decode_network(node: &Node, ctx: &mut Ctx) -> Option<Network> {
         }
     }
     let mut drivers = Vec::new();
-    match ctx.req(&f, "drivers", "at least one driver") {
-        Some(n) => {
-            for (k, v) in map_entries(n, &f.at("drivers"), ctx) {
-                let path = format!("network.drivers.{}", k.name);
-                if !check_reference(ctx, k, &path) {
-                    continue;
-                }
-                if parts.iter().any(|p: &Part| p.name == k.name) {
-                    ctx.error(k.pos, &path, format!("{} is both a part and a driver", k.name), Some("give every part and driver its own reference".into()));
-                    continue;
-                }
-                if let Some(d) = decode_driver(k, v, &path, ctx) {
-                    drivers.push(d);
-                }
+    if let Some(n) = ctx.req(&f, "drivers", "at least one driver") {
+        for (k, v) in map_entries(n, &f.at("drivers"), ctx) {
+            let path = format!("network.drivers.{}", k.name);
+            if !check_reference(ctx, k, &path) {
+                continue;
             }
-            if drivers.is_empty() && matches!(n, Node::Map { entries, .. } if entries.is_empty()) {
-                ctx.error(n.pos(), &f.at("drivers"), "no drivers: the network must drive at least one", None);
+            if parts.iter().any(|p: &Part| p.name == k.name) {
+                ctx.error(k.pos, &path, format!("{} is both a part and a driver", k.name), Some("give every part and driver its own reference".into()));
+                continue;
+            }
+            if let Some(d) = decode_driver(k, v, &path, ctx) {
+                drivers.push(d);
             }
         }
-        None => {}
+        if drivers.is_empty() && matches!(n, Node::Map { entries, .. } if entries.is_empty()) {
+            ctx.error(n.pos(), &f.at("drivers"), "no drivers: the network must drive at least one", None);
+        }
     }
     let net = Network { input: input?, parts, drivers };
     Some(net)
@@ -451,7 +472,12 @@ fn decode_part(key: &Key, node: &Node, path: &str, ctx: &mut Ctx) -> Option<Part
         return None;
     }
     if kind == PartKind::Inductor && f.get("dcr").is_none() {
-        ctx.error(f.pos, &f.at("dcr"), format!("inductor {} needs its `dcr` (DC resistance, e.g. 0.35 ohm)", key.name), Some("the DCR shapes the level the driver plays at; measure it with an ohmmeter, or write 0 ohm if it is truly negligible".into()));
+        ctx.error(
+            key.pos,
+            &f.at("dcr"),
+            format!("inductor {} needs its `dcr` (DC resistance, e.g. 0.35 ohm)", key.name),
+            Some("the DCR shapes the level the driver plays at; measure it with an ohmmeter, or write 0 ohm if it is truly negligible".into()),
+        );
     }
     let mut part = Part {
         name: key.name.clone(),
@@ -492,7 +518,12 @@ fn decode_part_fields(f: &Fields, kind: PartKind, ctx: &mut Ctx, allow_auto: boo
             if allow_auto && kind == PartKind::Resistor {
                 p.auto_value = true;
             } else {
-                ctx.error(n.pos(), &f.at("value"), if kind == PartKind::Resistor { "`auto` is not allowed here".to_string() } else { format!("`auto` is for resistors only; a {} needs its value", kind.name()) }, Some("voicekeep solves compensating resistors; give capacitors and inductors their values".into()));
+                ctx.error(
+                    n.pos(),
+                    &f.at("value"),
+                    if kind == PartKind::Resistor { "`auto` is not allowed here".to_string() } else { format!("`auto` is for resistors only; a {} needs its value", kind.name()) },
+                    Some("voicekeep solves compensating resistors; give capacitors and inductors their values".into()),
+                );
                 ok = false;
             }
         } else {
@@ -508,7 +539,7 @@ fn decode_part_fields(f: &Fields, kind: PartKind, ctx: &mut Ctx, allow_auto: boo
                     PartKind::Inductor => "an inductor's loss is `dcr`",
                     PartKind::Resistor => "a resistor's value is its resistance; it takes no esr, tan_delta or dcr",
                 };
-                ctx.error(n.pos(), &f.at(key), format!("a {} has no `{}`", kind.name(), key), Some(hint.into()));
+                ctx.error(n.pos(), &f.at(key), format!("{} {} has no `{}`", if kind == PartKind::Inductor { "an" } else { "a" }, kind.name(), key), Some(hint.into()));
                 ok = false;
             }
         }
@@ -522,7 +553,9 @@ fn decode_part_fields(f: &Fields, kind: PartKind, ctx: &mut Ctx, allow_auto: boo
         if let Some(n) = f.get("tan_delta") {
             match ctx.bare_number(n, &f.at("tan_delta")) {
                 Some(v) if (0.0..1.0).contains(&v) => p.tan_delta = Some(v),
-                Some(v) => ctx.error(n.pos(), &f.at("tan_delta"), format!("tan_delta {v} is outside 0 to 1"), Some("write the dissipation factor as a number, 0.08 for 8 %".into())),
+                Some(v) => {
+                    ctx.error(n.pos(), &f.at("tan_delta"), format!("tan_delta {v} is outside 0 to 1"), Some("write the dissipation factor as a number, 0.08 for 8 %".into()))
+                }
                 None => {}
             }
         }
@@ -542,7 +575,12 @@ fn decode_part_fields(f: &Fields, kind: PartKind, ctx: &mut Ctx, allow_auto: boo
             if kind == PartKind::Resistor {
                 p.rating = Some(Rating::Auto);
             } else {
-                ctx.error(n.pos(), &f.at("rating"), "`rating: auto` is for resistors (voicekeep picks their wattage)", Some("give a capacitor's voltage rating, e.g. 250 V".into()));
+                ctx.error(
+                    n.pos(),
+                    &f.at("rating"),
+                    "`rating: auto` is for resistors (voicekeep picks their wattage)",
+                    Some("give a capacitor's voltage rating, e.g. 250 V".into()),
+                );
             }
         } else {
             let q = match kind {
@@ -565,14 +603,23 @@ fn decode_part_fields(f: &Fields, kind: PartKind, ctx: &mut Ctx, allow_auto: boo
 fn decode_driver(key: &Key, node: &Node, path: &str, ctx: &mut Ctx) -> Option<Driver> {
     let f = ctx.fields(node, path, DRIVER_KEYS)?;
     let role = match ctx.req(&f, "role", "tweeter, midrange, woofer, full-range or other") {
-        Some(n) => ctx.choice(n, &f.at("role"), &[("tweeter", Role::Tweeter), ("midrange", Role::Midrange), ("woofer", Role::Woofer), ("full-range", Role::FullRange), ("other", Role::Other)]),
+        Some(n) => ctx.choice(
+            n,
+            &f.at("role"),
+            &[("tweeter", Role::Tweeter), ("midrange", Role::Midrange), ("woofer", Role::Woofer), ("full-range", Role::FullRange), ("other", Role::Other)],
+        ),
         None => None,
     };
     let between = ctx.req(&f, "between", "its + and - nodes").and_then(|n| ctx.pair_of_nodes(n, &f.at("between")));
     let model = match f.get("model") {
         Some(n) => decode_model(n, &f.at("model"), ctx),
         None => {
-            ctx.error(f.pos, &f.at("model"), format!("driver {} has no `model`", key.name), Some("give { resistance: 8 ohm }, { re: 6.2 ohm, le: 0.5 mH } (with fs, qms, qes for its resonance), or { table: file.csv }".into()));
+            ctx.error(
+                key.pos,
+                &f.at("model"),
+                format!("driver {} has no `model`", key.name),
+                Some("give { resistance: 8 ohm }, { re: 6.2 ohm, le: 0.5 mH } (with fs, qms, qes for its resonance), or { table: file.csv }".into()),
+            );
             None
         }
     };
@@ -658,7 +705,12 @@ fn decode_model(node: &Node, path: &str, ctx: &mut Ctx) -> Option<DriverModel> {
         }
     } else {
         let missing: Vec<&str> = ["fs", "qms", "qes"].iter().zip(&res).filter(|(_, n)| n.is_none()).map(|(k, _)| *k).collect();
-        ctx.error(f.pos, path, format!("the resonance needs fs, qms and qes together; missing {}", missing.join(", ")), Some("leave all three out for a model without resonance".into()));
+        ctx.error(
+            f.pos,
+            path,
+            format!("the resonance needs fs, qms and qes together; missing {}", missing.join(", ")),
+            Some("leave all three out for a model without resonance".into()),
+        );
         None
     };
     Some(DriverModel::VoiceCoil { re: re?, inductance: inductance?, resonance: resonance? })
@@ -732,7 +784,12 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
         let Some(f) = ctx.fields(item, &path, &["replace", "with", "insert", "remove", "add"]) else { continue };
         let verbs: Vec<&str> = ["replace", "insert", "remove", "add"].into_iter().filter(|k| f.get(k).is_some()).collect();
         if verbs.len() != 1 {
-            ctx.error(item.pos(), &path, if verbs.is_empty() { "a step needs one of replace, insert, remove or add".to_string() } else { format!("one step, one action: found {}", verbs.join(" and ")) }, Some("write each action as its own `- ` item".into()));
+            ctx.error(
+                item.pos(),
+                &path,
+                if verbs.is_empty() { "a step needs one of replace, insert, remove or add".to_string() } else { format!("one step, one action: found {}", verbs.join(" and ")) },
+                Some("write each action as its own `- ` item".into()),
+            );
             continue;
         }
         let step = match verbs[0] {
@@ -767,7 +824,12 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
                 let Some(target) = ctx.text(n, &f.at("remove")) else { continue };
                 match find_target(net, &added, &target, n.pos(), &f.at("remove"), ctx) {
                     Some(Target::Driver) => {
-                        ctx.error(n.pos(), &f.at("remove"), format!("{target} is a driver; `remove` takes parts"), Some("to fit a different driver, use `replace` with a new model".into()));
+                        ctx.error(
+                            n.pos(),
+                            &f.at("remove"),
+                            format!("{target} is a driver; `remove` takes parts"),
+                            Some("to fit a different driver, use `replace` with a new model".into()),
+                        );
                         continue;
                     }
                     _ if net.part(&target).is_none() && !added.contains(&target) => continue,
@@ -812,7 +874,12 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
                         (false, true) => (a, b),
                         (true, false) => (b, a),
                         _ => {
-                            ctx.error(k.pos, &format!("{}.{}.between", f.at(verb), k.name), "insert takes `between: [NODE, PART]`: the node and the part it goes in series with", Some("e.g. between: [IN, C1] puts the new part between node IN and C1".into()));
+                            ctx.error(
+                                k.pos,
+                                &format!("{}.{}.between", f.at(verb), k.name),
+                                "insert takes `between: [NODE, PART]`: the node and the part it goes in series with",
+                                Some("e.g. between: [IN, C1] puts the new part between node IN and C1".into()),
+                            );
                             continue;
                         }
                     };
@@ -823,7 +890,8 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
             }
             _ => continue,
         };
-        out.push(Change { number, step, pos: item.pos() });
+        let pos = f.key_pos(verbs[0]).unwrap_or(item.pos());
+        out.push(Change { number, step, pos });
     }
     out
 }
@@ -846,7 +914,12 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
         match auto_parts.iter().find(|p| p.name == k.name) {
             Some(p) if p.auto_value || replaced_auto => {}
             Some(_) => {
-                ctx.error(k.pos, &path, format!("{} has a fixed value; only `value: auto` parts are solved", k.name), Some(format!("write `value: auto` for {} to have voicekeep solve it", k.name)));
+                ctx.error(
+                    k.pos,
+                    &path,
+                    format!("{} has a fixed value; only `value: auto` parts are solved", k.name),
+                    Some(format!("write `value: auto` for {} to have voicekeep solve it", k.name)),
+                );
                 continue;
             }
             None => {
@@ -881,7 +954,12 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
     // Every auto value needs its entry.
     for p in &auto_parts {
         if p.auto_value && !out.iter().any(|c| c.part == p.name) && !ctx.diags.iter().any(|d| d.field == format!("compensate.{}", p.name)) {
-            ctx.error(p.pos, &p.name, format!("{} has `value: auto` but no `compensate` entry says what to solve it for", p.name), Some(format!("add `compensate: {{ {}: {{ driver: HF, band: [3 kHz, 15 kHz] }} }}`", p.name)));
+            ctx.error(
+                p.pos,
+                &p.name,
+                format!("{} has `value: auto` but no `compensate` entry says what to solve it for", p.name),
+                Some(format!("add `compensate: {{ {}: {{ driver: HF, band: [3 kHz, 15 kHz] }} }}`", p.name)),
+            );
         }
     }
     for c in changes {
@@ -916,7 +994,7 @@ fn decode_analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
             let tf = ctx.fields(n, &f.at("tolerance"), &["runs", "seed", "distribution"])?;
             let runs = match tf.get("runs") {
                 Some(n) => match ctx.bare_number(n, &tf.at("runs")) {
-                    Some(r) if r >= 10.0 && r <= 1e6 && r.fract() == 0.0 => Some(r as usize),
+                    Some(r) if (10.0..=1e6).contains(&r) && r.fract() == 0.0 => Some(r as usize),
                     Some(_) => {
                         ctx.error(n.pos(), &tf.at("runs"), "runs must be a whole number from 10 to 1000000", None);
                         None
@@ -968,7 +1046,7 @@ fn decode_sweep(node: &Node, ctx: &mut Ctx) -> Option<Sweep> {
     let to = ctx.req(&f, "to", "the highest frequency").and_then(|n| ctx.positive(n, &f.at("to"), Quantity::Frequency, false));
     let per_octave = match f.get("per_octave") {
         Some(n) => match ctx.bare_number(n, &f.at("per_octave")) {
-            Some(v) if v >= 1.0 && v <= 10_000.0 => Some(v),
+            Some(v) if (1.0..=10_000.0).contains(&v) => Some(v),
             Some(_) => {
                 ctx.error(n.pos(), &f.at("per_octave"), "points per octave must be from 1 to 10000", None);
                 None
@@ -1001,7 +1079,9 @@ fn decode_report(node: &Node, ctx: &mut Ctx) -> (Template, Option<Vec<Block>>) {
             path if path.ends_with(".typ") => Template::File(ctx.base_dir.join(path)),
             other => {
                 let pos = f.get("template").map(|n| n.pos()).unwrap_or(f.pos);
-                let hint = suggest(other, ["customer", "archive", "sale"]).map(|s| format!("did you mean `{s}`?")).unwrap_or_else(|| "choose customer, archive, sale, or the path of a .typ file".into());
+                let hint = suggest(other, ["customer", "archive", "sale"])
+                    .map(|s| format!("did you mean `{s}`?"))
+                    .unwrap_or_else(|| "choose customer, archive, sale, or the path of a .typ file".into());
                 ctx.error(pos, &f.at("template"), format!("unknown template \"{other}\""), Some(hint));
                 Template::Customer
             }
@@ -1029,7 +1109,9 @@ fn decode_report(node: &Node, ctx: &mut Ctx) -> (Template, Option<Vec<Block>>) {
                         "safety" => Block::Safety,
                         "appendix" => Block::Appendix,
                         other => {
-                            let hint = suggest(other, names.iter().copied()).map(|s| format!("did you mean `{s}`?")).unwrap_or_else(|| format!("blocks are: {}, `text: ...` and `plot: ...`", names.join(", ")));
+                            let hint = suggest(other, names.iter().copied())
+                                .map(|s| format!("did you mean `{s}`?"))
+                                .unwrap_or_else(|| format!("blocks are: {}, `text: ...` and `plot: ...`", names.join(", ")));
                             ctx.error(*pos, &path, format!("unknown block \"{other}\""), Some(hint));
                             continue;
                         }
@@ -1061,7 +1143,12 @@ fn decode_report(node: &Node, ctx: &mut Ctx) -> (Template, Option<Vec<Block>>) {
 fn check_scenarios(job: &Job, ctx: &mut Ctx) {
     let pos_of = |name: &str, net: &Network| net.part(name).map(|p| p.pos).or_else(|| net.driver(name).map(|d| d.pos)).unwrap_or(Pos { line: 1, col: 1 });
     for (name, msg) in job.network.connection_problems() {
-        ctx.error(pos_of(&name, &job.network), &format!("network.{}", if name.is_empty() { "input".to_string() } else { name.clone() }), msg, Some("check the `between` nodes: every node needs two or more terminals".into()));
+        ctx.error(
+            pos_of(&name, &job.network),
+            &format!("network.{}", if name.is_empty() { "input".to_string() } else { name.clone() }),
+            msg,
+            Some("check the `between` nodes: every node needs two or more terminals".into()),
+        );
     }
     match job.as_left_unsolved() {
         Err(e) => ctx.error(e.pos, &format!("changes[{}]", e.number), e.message, None),
@@ -1082,7 +1169,19 @@ fn check_scenarios(job: &Job, ctx: &mut Ctx) {
         if let DriverModel::Table(t) = &d.model {
             let (tlo, thi) = (t.freq_hz[0], t.freq_hz[t.freq_hz.len() - 1]);
             if lo < tlo * (1.0 - 1e-9) || hi > thi * (1.0 + 1e-9) {
-                ctx.error(d.pos, &format!("network.drivers.{}.model.table", d.name), format!("{} covers {} Hz to {} Hz but the sweep runs from {} Hz to {} Hz", t.file, tlo, thi, crate::units::trim_number(lo, 4), crate::units::trim_number(hi, 4)), Some("narrow the sweep to the table's range, or measure the driver over the whole sweep".into()));
+                ctx.error(
+                    d.pos,
+                    &format!("network.drivers.{}.model.table", d.name),
+                    format!(
+                        "{} covers {} Hz to {} Hz but the sweep runs from {} Hz to {} Hz",
+                        t.file,
+                        tlo,
+                        thi,
+                        crate::units::trim_number(lo, 4),
+                        crate::units::trim_number(hi, 4)
+                    ),
+                    Some("narrow the sweep to the table's range, or measure the driver over the whole sweep".into()),
+                );
             }
         }
     }

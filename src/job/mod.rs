@@ -47,7 +47,8 @@ pub fn load_bytes(bytes: &[u8], display: &str, name: &str, base: &Path) -> Resul
             return Err(problems(vec![Diagnostic::new(yaml::Pos { line, col: 1 }, "", "the file is not UTF-8 text").hint("save the job file as UTF-8")], ""));
         }
     };
-    let root = yaml::parse(text).map_err(|e| problems(vec![Diagnostic::new(e.pos, "", format!("YAML syntax: {}", e.message)).hint("check indentation (spaces, not tabs), colons and brackets")], text))?;
+    let root = yaml::parse(text)
+        .map_err(|e| problems(vec![Diagnostic::new(e.pos, "", format!("YAML syntax: {}", e.message)).hint("check indentation (spaces, not tabs), colons and brackets")], text))?;
     let mut ctx = decode::Ctx::new(base);
     ctx.inputs.push(InputFile { name: name.to_string(), bytes: bytes.to_vec() });
     let job = decode::decode(&root, &mut ctx);

@@ -21,9 +21,19 @@ impl From<Marker> for Pos {
 #[derive(Debug, Clone, PartialEq)]
 pub enum Node {
     /// A scalar as written; `quoted` tells `"auto"` from auto (both mean the same here).
-    Scalar { text: String, quoted: bool, pos: Pos },
-    Seq { items: Vec<Node>, pos: Pos },
-    Map { entries: Vec<(Key, Node)>, pos: Pos },
+    Scalar {
+        text: String,
+        quoted: bool,
+        pos: Pos,
+    },
+    Seq {
+        items: Vec<Node>,
+        pos: Pos,
+    },
+    Map {
+        entries: Vec<(Key, Node)>,
+        pos: Pos,
+    },
 }
 
 #[derive(Debug, Clone, PartialEq)]

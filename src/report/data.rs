@@ -85,6 +85,16 @@ pub fn part_text(p: &Part) -> String {
     }
 }
 
+fn mime(name: &str) -> &'static str {
+    if name.ends_with(".yaml") || name.ends_with(".yml") {
+        "application/yaml"
+    } else if name.ends_with(".csv") {
+        "text/csv"
+    } else {
+        "text/plain"
+    }
+}
+
 fn sha256(bytes: &[u8]) -> String {
     Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
 }
@@ -108,7 +118,12 @@ fn block_data(b: &Block) -> BlockData {
 
 pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
     let date_parts: Vec<i64> = job.info.date.split('-').filter_map(|p| p.parse().ok()).collect();
-    let date = Date { year: date_parts.first().copied().unwrap_or(2000) as i32, month: date_parts.get(1).copied().unwrap_or(1) as u8, day: date_parts.get(2).copied().unwrap_or(1) as u8, text: job.info.date.clone() };
+    let date = Date {
+        year: date_parts.first().copied().unwrap_or(2000) as i32,
+        month: date_parts.get(1).copied().unwrap_or(1) as u8,
+        day: date_parts.get(2).copied().unwrap_or(1) as u8,
+        text: job.info.date.clone(),
+    };
     let [designed, found, left] = &f.scenes;
 
     // Parts: every part in any scenario, in the order first seen.
@@ -125,7 +140,8 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
         .map(|n| {
             let (d, fo, l) = (designed.network.part(n), found.network.part(n), left.network.part(n));
             let any = d.or(fo).or(l).expect("named part exists");
-            let where_ = format!("{}, {} - {}", any.kind.name(), crate::analysis::compensate::display_node(&any.between[0]), crate::analysis::compensate::display_node(&any.between[1]));
+            let where_ =
+                format!("{}, {} - {}", any.kind.name(), crate::analysis::compensate::display_node(&any.between[0]), crate::analysis::compensate::display_node(&any.between[1]));
             let t = |p: Option<&Part>| p.map(part_text).unwrap_or_else(|| "-".into());
             let change = match (fo, l) {
                 (None, Some(_)) => "added".to_string(),
@@ -170,7 +186,13 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
                 }
                 crate::model::DriverModel::Table(t) => format!("measured table {}", t.file),
             };
-            Row(vec![d.name.clone(), d.role.name().into(), model, d.rated_power.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()), if d.inverted { "inverted".into() } else { "normal".into() }])
+            Row(vec![
+                d.name.clone(),
+                d.role.name().into(),
+                model,
+                d.rated_power.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
+                if d.inverted { "inverted".into() } else { "normal".into() },
+            ])
         })
         .collect();
 
@@ -182,17 +204,36 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
                 let (a, b) = (found.network.part(target), left.network.part(target));
                 format!("{}. Replaced {}: {} -> {}", c.number, target, a.map(part_text).unwrap_or_default(), b.map(part_text).unwrap_or_default())
             }
-            ChangeStep::Replace { target, with: Patch::Driver(p) } => format!("{}. Replaced driver {}{}", c.number, target, p.note.as_ref().map(|n| format!(": {n}")).unwrap_or_default()),
-            ChangeStep::Insert { part, node, next_to } => format!("{}. Inserted {} ({}) between node {} and {}", c.number, part.name, left.network.part(&part.name).map(part_text).unwrap_or_default(), node, next_to),
+            ChangeStep::Replace { target, with: Patch::Driver(p) } => {
+                format!("{}. Replaced driver {}{}", c.number, target, p.note.as_ref().map(|n| format!(": {n}")).unwrap_or_default())
+            }
+            ChangeStep::Insert { part, node, next_to } => {
+                format!("{}. Inserted {} ({}) between node {} and {}", c.number, part.name, left.network.part(&part.name).map(part_text).unwrap_or_default(), node, next_to)
+            }
             ChangeStep::Remove { target } => format!("{}. Removed {}", c.number, target),
-            ChangeStep::Add { parts } => format!("{}. Added {}", c.number, parts.iter().map(|p| format!("{} ({}, {} - {})", p.name, part_text(p), p.between[0], p.between[1])).collect::<Vec<_>>().join(", ")),
+            ChangeStep::Add { parts } => format!(
+                "{}. Added {}",
+                c.number,
+                parts.iter().map(|p| format!("{} ({}, {} - {})", p.name, part_text(p), p.between[0], p.between[1])).collect::<Vec<_>>().join(", ")
+            ),
         })
         .collect();
 
     let levels = f
         .levels
         .iter()
-        .map(|l| Row(vec![l.driver.clone(), l.role.clone(), format!("{} - {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))), db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), db(l.found_to_left_db), l.left_flag.clone()]))
+        .map(|l| {
+            Row(vec![
+                l.driver.clone(),
+                l.role.clone(),
+                format!("{} - {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))),
+                db(l.as_designed_db),
+                db(l.as_found_db),
+                db(l.as_left_db),
+                db(l.found_to_left_db),
+                l.left_flag.clone(),
+            ])
+        })
         .collect();
     let crossovers = f.crossovers.iter().map(|c| Row(vec![format!("{} / {}", c.lower, c.upper), hz(c.as_designed_hz), hz(c.as_found_hz), hz(c.as_left_hz)])).collect();
 
@@ -204,17 +245,46 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
         .map(|c| {
             let rating = rating_of(&c.part).map(|(w, chosen)| format!("{} W{}", trim_number(w, 3), if chosen { " (chosen)" } else { "" })).unwrap_or_else(|| "-".into());
             let fitted = if c.cannot_raise || c.fitted_ohm == 0.0 { "none".to_string() } else { ohm(c.fitted_ohm) };
-            Row(vec![c.part.clone(), c.driver.clone(), ohm(c.exact_ohm), fitted, c.series.to_string(), format!("{:.3} dB", c.residual_db), format!("{:+.3} dB", c.worst_db), rating])
+            Row(vec![
+                c.part.clone(),
+                c.driver.clone(),
+                ohm(c.exact_ohm),
+                fitted,
+                c.series.to_string(),
+                format!("{:.3} dB", c.residual_db),
+                format!("{:+.3} dB", c.worst_db),
+                rating,
+            ])
         })
         .collect();
     let mut compensation_notes = Vec::new();
     for c in &f.compensation.fits {
-        compensation_notes.push(format!("{} goes {}. It is fitted so {} plays at its {} level over {} - {}.", c.part, c.placement, c.driver, c.reference.label(), hz(Some(c.band_hz[0])), hz(Some(c.band_hz[1]))));
+        compensation_notes.push(format!(
+            "{} goes {}. It is fitted so {} plays at its {} level over {} - {}.",
+            c.part,
+            c.placement,
+            c.driver,
+            c.reference.label(),
+            hz(Some(c.band_hz[0])),
+            hz(Some(c.band_hz[1]))
+        ));
         if let Some(p) = &c.pair {
-            compensation_notes.push(format!("Closer with stock E12 parts: {} {} {} = {} ({:.3} dB RMS).", ohm(p.a_ohm), if p.parallel { "in parallel with" } else { "in series with" }, ohm(p.b_ohm), ohm(p.value_ohm), p.residual_db));
+            compensation_notes.push(format!(
+                "Closer with stock E12 parts: {} {} {} = {} ({:.3} dB RMS).",
+                ohm(p.a_ohm),
+                if p.parallel { "in parallel with" } else { "in series with" },
+                ohm(p.b_ohm),
+                ohm(p.value_ohm),
+                p.residual_db
+            ));
         }
     }
-    let alternatives = f.compensation.alternatives.iter().map(|a| Row(vec![a.driver.clone(), a.description.clone(), format!("{:.3} dB", a.residual_db), hz(a.crossover_hz), a.verdict.clone()])).collect();
+    let alternatives = f
+        .compensation
+        .alternatives
+        .iter()
+        .map(|a| Row(vec![a.driver.clone(), a.description.clone(), format!("{:.3} dB", a.residual_db), hz(a.crossover_hz), a.verdict.clone()]))
+        .collect();
     let warnings = f.compensation.warnings.iter().map(|w| w.message.clone()).collect();
 
     let stress_row = |r: &crate::analysis::stress::StressRow| {
@@ -223,8 +293,22 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
             (_, Some(a)) => format!("{} A", trim_number(a, 3)),
             _ => "-".into(),
         };
-        let rating = r.rating_w.map(|w| format!("{} W", trim_number(w, 3))).or(r.rating_v.map(|v| format!("{} V", trim_number(v, 3)))).or(r.rating_a.map(|a| format!("{} A", trim_number(a, 3)))).unwrap_or_else(|| "-".into());
-        Row(vec![r.scenario.label().into(), r.part.clone(), format!("{} W", trim_number(r.sine_w, 3)), format!("{} W", trim_number(r.programme_w, 3)), figure, rating, r.verdict.into(), r.reason.clone()])
+        let rating = r
+            .rating_w
+            .map(|w| format!("{} W", trim_number(w, 3)))
+            .or(r.rating_v.map(|v| format!("{} V", trim_number(v, 3))))
+            .or(r.rating_a.map(|a| format!("{} A", trim_number(a, 3))))
+            .unwrap_or_else(|| "-".into());
+        Row(vec![
+            r.scenario.label().into(),
+            r.part.clone(),
+            format!("{} W", trim_number(r.sine_w, 3)),
+            format!("{} W", trim_number(r.programme_w, 3)),
+            figure,
+            rating,
+            r.verdict.into(),
+            r.reason.clone(),
+        ])
     };
     let stress = f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft).map(stress_row).collect();
     let stress_all = f.stress.rows.iter().map(stress_row).collect();
@@ -233,12 +317,29 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
         .drivers
         .iter()
         .filter(|d| d.scenario == Scenario::AsLeft)
-        .map(|d| Row(vec![d.driver.clone(), format!("{} W", trim_number(d.programme_w, 3)), format!("{} W near {}", trim_number(d.sine_w, 3), hz(Some(d.sine_at_hz))), d.rated_w.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()), d.verdict.into(), d.reason.clone()]))
+        .map(|d| {
+            Row(vec![
+                d.driver.clone(),
+                format!("{} W", trim_number(d.programme_w, 3)),
+                format!("{} W near {}", trim_number(d.sine_w, 3), hz(Some(d.sine_at_hz))),
+                d.rated_w.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
+                d.verdict.into(),
+                d.reason.clone(),
+            ])
+        })
         .collect();
     let load = Scenario::ALL
         .iter()
         .zip(&f.loads)
-        .map(|(s, l)| Row(vec![s.label().into(), format!("{} at {}", ohm(l.min_ohm), hz(Some(l.min_at_hz))), format!("{} at {}", ohm(l.epdr_min_ohm), hz(Some(l.epdr_at_hz))), if l.rated_impedance_holds { "holds".into() } else { "fails".into() }, l.verdict.clone()]))
+        .map(|(s, l)| {
+            Row(vec![
+                s.label().into(),
+                format!("{} at {}", ohm(l.min_ohm), hz(Some(l.min_at_hz))),
+                format!("{} at {}", ohm(l.epdr_min_ohm), hz(Some(l.epdr_at_hz))),
+                if l.rated_impedance_holds { "holds".into() } else { "fails".into() },
+                l.verdict.clone(),
+            ])
+        })
         .collect();
     let (lf, ll) = (&f.loads[1], &f.loads[2]);
     let load_change = format!(
@@ -260,7 +361,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
     let summary = summary(job, f);
     let safety = safety(job, f);
     let inputs = job.inputs.iter().map(|i| Row(vec![i.name.clone(), format!("{} bytes", i.bytes.len()), sha256(&i.bytes)])).collect();
-    let attachments = job.inputs.iter().enumerate().map(|(i, inp)| serde_json::json!({ "name": inp.name, "file": format!("/inputs/{i}") })).collect();
+    let attachments = job.inputs.iter().enumerate().map(|(i, inp)| serde_json::json!({ "name": inp.name, "file": format!("/inputs/{i}"), "mime": mime(&inp.name) })).collect();
     let plots = crate::report::plots::all(job, f).into_iter().map(|(n, _)| n.to_string()).collect();
     let sweep = format!("{} to {}, {} points", hz(f.freqs.first().copied()), hz(f.freqs.last().copied()), f.freqs.len());
 
@@ -323,7 +424,12 @@ fn summary(job: &Job, f: &Findings) -> Vec<String> {
         out.push(format!("As found, the level differed from the original design by more than 0.5 dB for: {}.", off.join(", ")));
     }
     if !f.health.is_empty() {
-        out.push(format!("Bench readings flagged {} part{}: {}.", f.health.len(), if f.health.len() == 1 { "" } else { "s" }, f.health.iter().map(|h| h.part.as_str()).collect::<Vec<_>>().join(", ")));
+        out.push(format!(
+            "Bench readings flagged {} part{}: {}.",
+            f.health.len(),
+            if f.health.len() == 1 { "" } else { "s" },
+            f.health.iter().map(|h| h.part.as_str()).collect::<Vec<_>>().join(", ")
+        ));
     }
     out.push(format!("{} change step{} recorded (listed below).", job.changes.len(), if job.changes.len() == 1 { " was" } else { "s were" }));
     for c in &f.compensation.fits {
@@ -344,7 +450,8 @@ fn summary(job: &Job, f: &Findings) -> Vec<String> {
 /// Cautions suited to what this job does.
 fn safety(job: &Job, f: &Findings) -> Vec<String> {
     let mut s = vec!["All figures here are computed from the job's values and models; confirm them by measurement before relying on them.".to_string()];
-    let resistors: Vec<&crate::analysis::stress::StressRow> = f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.kind == "resistor" && r.programme_w > 0.0).collect();
+    let resistors: Vec<&crate::analysis::stress::StressRow> =
+        f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.kind == "resistor" && r.programme_w > 0.0).collect();
     if !resistors.is_empty() {
         let hottest = resistors.iter().cloned().max_by(|a, b| a.sine_w.partial_cmp(&b.sine_w).unwrap_or(std::cmp::Ordering::Equal));
         s.push(format!(
@@ -360,7 +467,10 @@ fn safety(job: &Job, f: &Findings) -> Vec<String> {
     }
     s.push(format!("The amplifier's load: {}. Follow the amplifier maker's minimum load rating.", f.loads[2].reason));
     s.push("Disconnect the amplifier before working on the crossover, and let large capacitors in the amplifier discharge as its maker describes.".into());
-    s.push("Bench tests: start at a low level, keep test tones short, and wear hearing protection near the drivers; a tweeter driven with a full-level sine can fail in seconds.".into());
+    s.push(
+        "Bench tests: start at a low level, keep test tones short, and wear hearing protection near the drivers; a tweeter driven with a full-level sine can fail in seconds."
+            .into(),
+    );
     s.push("Soldering: work in a ventilated place, extract the fumes, and wash your hands after handling old parts and solder.".into());
     s.push("These notes defer to local electrical codes, to the amplifier's and drivers' makers' ratings, and to qualified service practice.".into());
     s

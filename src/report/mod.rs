@@ -11,9 +11,9 @@ use std::path::Path;
 
 use typst::foundations::{Datetime, Smart};
 use typst::{World, WorldExt};
-use typst_layout::PagedDocument;
 use typst_as_lib::typst_kit_options::TypstKitFontOptions;
 use typst_as_lib::TypstEngine;
+use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 use crate::analysis::Findings;

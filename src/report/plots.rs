@@ -42,9 +42,15 @@ struct Curve {
     points: Vec<(f64, f64)>,
 }
 
+/// A shaded band: (frequency, low, high) points and its colour.
+type Shaded = (Vec<(f64, f64, f64)>, RGBColor);
+
 type DrawResult = Result<(), Box<dyn std::error::Error>>;
 
-fn draw_curve<DB: DrawingBackend, CT: plotters::coord::CoordTranslate<From = (f64, f64)>>(chart: &mut ChartContext<DB, CT>, c: &Curve) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
+fn draw_curve<DB: DrawingBackend, CT: plotters::coord::CoordTranslate<From = (f64, f64)>>(
+    chart: &mut ChartContext<DB, CT>,
+    c: &Curve,
+) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
     let style = ShapeStyle::from(&c.colour).stroke_width(2);
     match c.pattern {
         Pattern::Solid => chart.draw_series(LineSeries::new(c.points.iter().cloned(), style)).map(|_| ()),
@@ -73,7 +79,7 @@ fn legend(area: &DrawingArea<SVGBackend, Shift>, items: &[(String, RGBColor, Pat
     Ok(())
 }
 
-fn log_chart(title: &str, y_label: &str, x: (f64, f64), y: (f64, f64), curves: &[Curve], hlines: &[(f64, String)], bands: &[(Vec<(f64, f64, f64)>, RGBColor)]) -> Result<String, Box<dyn std::error::Error>> {
+fn log_chart(title: &str, y_label: &str, x: (f64, f64), y: (f64, f64), curves: &[Curve], hlines: &[(f64, String)], bands: &[Shaded]) -> Result<String, Box<dyn std::error::Error>> {
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (W, H)).into_drawing_area();
@@ -158,7 +164,12 @@ fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error
     for (di, d) in job.network.drivers.iter().enumerate() {
         for s in &f.scenes {
             let Some(k) = s.driver_index(&d.name) else { continue };
-            curves.push(Curve { label: format!("{} {}", d.name, s.scenario.label()), colour: COLOURS[di % COLOURS.len()], pattern: pattern(s.scenario), points: f.freqs.iter().cloned().zip(s.db[k].iter().cloned()).collect() });
+            curves.push(Curve {
+                label: format!("{} {}", d.name, s.scenario.label()),
+                colour: COLOURS[di % COLOURS.len()],
+                pattern: pattern(s.scenario),
+                points: f.freqs.iter().cloned().zip(s.db[k].iter().cloned()).collect(),
+            });
         }
     }
     let max = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max);
@@ -180,7 +191,16 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
 }
 
 fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves: Vec<Curve> = f.scenes.iter().map(|s| Curve { label: format!("|Z| {}", s.scenario.label()), colour: COLOURS[0], pattern: pattern(s.scenario), points: f.freqs.iter().cloned().zip(s.z.iter().map(|z| z.norm())).collect() }).collect();
+    let curves: Vec<Curve> = f
+        .scenes
+        .iter()
+        .map(|s| Curve {
+            label: format!("|Z| {}", s.scenario.label()),
+            colour: COLOURS[0],
+            pattern: pattern(s.scenario),
+            points: f.freqs.iter().cloned().zip(s.z.iter().map(|z| z.norm())).collect(),
+        })
+        .collect();
     let rated = job.info.rated_impedance.unwrap_or(job.amplifier.into_ohm);
     let floor = crate::analysis::load::rated_floor(rated);
     let (_, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.0, 1.0);
@@ -196,7 +216,16 @@ fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
 }
 
 fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves: Vec<Curve> = f.scenes.iter().map(|s| Curve { label: format!("phase {}", s.scenario.label()), colour: COLOURS[1], pattern: pattern(s.scenario), points: f.freqs.iter().cloned().zip(s.z.iter().map(|z| z.arg().to_degrees())).collect() }).collect();
+    let curves: Vec<Curve> = f
+        .scenes
+        .iter()
+        .map(|s| Curve {
+            label: format!("phase {}", s.scenario.label()),
+            colour: COLOURS[1],
+            pattern: pattern(s.scenario),
+            points: f.freqs.iter().cloned().zip(s.z.iter().map(|z| z.arg().to_degrees())).collect(),
+        })
+        .collect();
     log_chart("Input impedance phase", "phase (degrees)", xr(f), (-90.0, 90.0), &curves, &[(0.0, String::new())], &[])
 }
 
@@ -208,7 +237,12 @@ fn tolerance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
         let colour = COLOURS[di % COLOURS.len()];
         bands.push((t.curve_hz.iter().zip(lo.iter().zip(hi)).map(|(f, (a, b))| (*f, *a, *b)).collect(), colour));
         if let Some(k) = f.scenes[2].driver_index(name) {
-            curves.push(Curve { label: format!("{name} as left, nominal parts (band: 5-95 %)"), colour, pattern: Pattern::Solid, points: f.freqs.iter().cloned().zip(f.scenes[2].db[k].iter().cloned()).collect() });
+            curves.push(Curve {
+                label: format!("{name} as left, nominal parts (band: 5-95 %)"),
+                colour,
+                pattern: Pattern::Solid,
+                points: f.freqs.iter().cloned().zip(f.scenes[2].db[k].iter().cloned()).collect(),
+            });
         }
     }
     let _ = job;
@@ -218,7 +252,11 @@ fn tolerance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
 
 fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let a = f.acoustic.as_ref().ok_or("no acoustic sum")?;
-    let curves: Vec<Curve> = Scenario::ALL.iter().zip(a).map(|(s, v)| Curve { label: format!("sum {}", s.label()), colour: COLOURS[2], pattern: pattern(*s), points: f.freqs.iter().cloned().zip(v.iter().cloned()).collect() }).collect();
+    let curves: Vec<Curve> = Scenario::ALL
+        .iter()
+        .zip(a)
+        .map(|(s, v)| Curve { label: format!("sum {}", s.label()), colour: COLOURS[2], pattern: pattern(*s), points: f.freqs.iter().cloned().zip(v.iter().cloned()).collect() })
+        .collect();
     let max = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max);
     log_chart("Acoustic sum from the drivers' measured responses (dB SPL at 2.83 V, 1 m)", "SPL (dB)", xr(f), (max - 40.0, max + 5.0), &curves, &[], &[])
 }

@@ -54,10 +54,20 @@ impl Cli {
         for (n, b) in &self.files {
             std::fs::write(self.dir.path().join(n), b).unwrap();
         }
-        let args: Vec<String> = self.args.iter().map(|a| a.replace("{job}", &self.dir.path().join("job.yaml").display().to_string()).replace("{dir}", &self.dir.path().display().to_string())).collect();
+        let args: Vec<String> = self
+            .args
+            .iter()
+            .map(|a| a.replace("{job}", &self.dir.path().join("job.yaml").display().to_string()).replace("{dir}", &self.dir.path().display().to_string()))
+            .collect();
         let o = Command::new(bin()).args(&args).current_dir(root()).output().unwrap();
         let dir = self.dir.keep();
-        Output { code: o.status.code().unwrap_or(-1), stdout: String::from_utf8_lossy(&o.stdout).into(), stderr: String::from_utf8_lossy(&o.stderr).into(), dir, cmd: format!("voicekeep {}", args.join(" ")) }
+        Output {
+            code: o.status.code().unwrap_or(-1),
+            stdout: String::from_utf8_lossy(&o.stdout).into(),
+            stderr: String::from_utf8_lossy(&o.stderr).into(),
+            dir,
+            cmd: format!("voicekeep {}", args.join(" ")),
+        }
     }
 }
 
