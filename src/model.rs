@@ -85,6 +85,11 @@ pub struct Part {
 }
 
 impl Part {
+    /// A part with no loss, tolerance, rating or type yet.
+    pub fn new(name: &str, kind: PartKind, between: [String; 2], value: f64, pos: Pos) -> Part {
+        Part { name: name.into(), kind, between, value, auto_value: false, esr: 0.0, tan_delta: None, dcr: 0.0, tolerance: None, rating: Rating::None, type_text: None, pos }
+    }
+
     /// The part's own loss resistance at frequency `f_hz` (a resistor's value, a capacitor's
     /// ESR, an inductor's DCR).
     pub fn loss_ohm(&self, f_hz: f64) -> f64 {

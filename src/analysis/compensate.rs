@@ -5,7 +5,7 @@
 use crate::analysis::eseries::{best_e12_pair, round_to};
 use crate::analysis::{crossing, frequency_order, Band, Scene};
 use crate::engine::{self, Circuit, ElementModel, SolveError, Workspace};
-use crate::model::{ChangeStep, CompensateEntry, ESeries, Job, Network, Part, PartKind, Patch, Rating, Role, Scenario};
+use crate::model::{ChangeStep, CompensateEntry, ESeries, Job, Network, Part, PartKind, Patch, Role, Scenario};
 
 /// Below this the exact value is no resistor at all (common practice: crossover resistors
 /// under 0.1 ohm are not stocked, and wiring is of that order).
@@ -308,20 +308,7 @@ pub fn neighbour_crossover(freqs: &[f64], bands: &[Band], db: &[Vec<f64>], drive
 }
 
 fn new_resistor(name: &str, a: &str, b: &str, r: f64) -> Part {
-    Part {
-        name: name.into(),
-        kind: PartKind::Resistor,
-        between: [a.into(), b.into()],
-        value: r,
-        auto_value: false,
-        esr: 0.0,
-        tan_delta: None,
-        dcr: 0.0,
-        tolerance: None,
-        rating: Rating::None,
-        type_text: None,
-        pos: Default::default(),
-    }
+    Part::new(name, PartKind::Resistor, [a.into(), b.into()], r, Default::default())
 }
 
 fn shift_text(alt: Option<f64>, fix: Option<f64>, reference: Option<f64>) -> String {

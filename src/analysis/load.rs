@@ -61,11 +61,25 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
     } else if min.0 < 3.0 || emin.0 < 2.0 || !holds {
         let why =
             if holds { String::new() } else { format!("|Z| falls to {:.2} ohm, below 80 % of the rated {} ohm (IEC 60268-5); ", rmin, crate::units::trim_number(rated_ohm, 3)) };
-        ("check", format!("{why}minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm: hard on many amplifiers at high level", min.0, crate::units::trim_number(min.1, 3), emin.0))
+        (
+            "check",
+            format!(
+                "{why}minimum {:.2} ohm at {}, EPDR {:.2} ohm: hard on many amplifiers at high level",
+                min.0,
+                crate::units::format_si(min.1, crate::units::Quantity::Frequency, 3),
+                emin.0
+            ),
+        )
     } else {
         (
             "ok",
-            format!("minimum {:.2} ohm at {} Hz, EPDR {:.2} ohm at {} Hz: a normal load", min.0, crate::units::trim_number(min.1, 3), emin.0, crate::units::trim_number(emin.1, 3)),
+            format!(
+                "minimum {:.2} ohm at {}, EPDR {:.2} ohm at {}: a normal load",
+                min.0,
+                crate::units::format_si(min.1, crate::units::Quantity::Frequency, 3),
+                emin.0,
+                crate::units::format_si(emin.1, crate::units::Quantity::Frequency, 3)
+            ),
         )
     };
     Load {

@@ -167,12 +167,8 @@ fn check(path: &Path) -> u8 {
 }
 
 fn solve(path: &Path, format: Format) -> u8 {
-    let job = match load(path) {
-        Ok(j) => j,
-        Err(c) => return c,
-    };
-    let f = match analyse(path, &job) {
-        Ok(f) => f,
+    let (job, f) = match load(path).and_then(|job| analyse(path, &job).map(|f| (job, f))) {
+        Ok(both) => both,
         Err(c) => return c,
     };
     match format {
@@ -233,12 +229,8 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Resu
 }
 
 fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
-    let job = match load(path) {
-        Ok(j) => j,
-        Err(c) => return c,
-    };
-    let f = match analyse(path, &job) {
-        Ok(f) => f,
+    let (job, f) = match load(path).and_then(|job| analyse(path, &job).map(|f| (job, f))) {
+        Ok(both) => both,
         Err(c) => return c,
     };
     if let Err(e) = std::fs::create_dir_all(dir) {

@@ -479,20 +479,7 @@ fn decode_part(key: &Key, node: &Node, path: &str, ctx: &mut Ctx) -> Option<Part
             Some("the DCR shapes the level the driver plays at; measure it with an ohmmeter, or write 0 ohm if it is truly negligible".into()),
         );
     }
-    let mut part = Part {
-        name: key.name.clone(),
-        kind,
-        between: between?,
-        value: 0.0,
-        auto_value: false,
-        esr: 0.0,
-        tan_delta: None,
-        dcr: 0.0,
-        tolerance: None,
-        rating: Rating::None,
-        type_text: None,
-        pos: key.pos,
-    };
+    let mut part = Part::new(&key.name, kind, between?, 0.0, key.pos);
     part.value = patch.value.unwrap_or(0.0);
     part.auto_value = patch.auto_value;
     part.esr = patch.esr.unwrap_or(0.0);
