@@ -423,13 +423,10 @@ fn summary(job: &Job, f: &Findings) -> Vec<String> {
     } else {
         out.push(format!("As found, the level differed from the original design by more than 0.5 dB for: {}.", off.join(", ")));
     }
-    if !f.health.is_empty() {
-        out.push(format!(
-            "Bench readings flagged {} part{}: {}.",
-            f.health.len(),
-            if f.health.len() == 1 { "" } else { "s" },
-            f.health.iter().map(|h| h.part.as_str()).collect::<Vec<_>>().join(", ")
-        ));
+    let mut flagged: Vec<&str> = f.health.iter().map(|h| h.part.as_str()).collect();
+    flagged.dedup();
+    if !flagged.is_empty() {
+        out.push(format!("Bench readings flagged {} part{}: {}.", flagged.len(), if flagged.len() == 1 { "" } else { "s" }, flagged.join(", ")));
     }
     out.push(format!("{} change step{} recorded (listed below).", job.changes.len(), if job.changes.len() == 1 { " was" } else { "s were" }));
     for c in &f.compensation.fits {
