@@ -128,3 +128,16 @@ fn batch_reports_good_jobs_and_names_bad_ones() {
     o.code(1).stdout_has("1 of 2 jobs reported").stderr_has("b.yaml");
     assert!(o.dir.join("out/a.pdf").exists());
 }
+
+#[test]
+fn job_blocks_set_the_report_order() {
+    let job = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let job =
+        job.replace("  template: customer\n", "  template: customer\n  blocks:\n    - text: Opening words from the bench, in the job's own order.\n    - load\n    - levels\n");
+    let o = Cli::new().job(&job).args(["report", "{job}", "-o", "{dir}/b.pdf"]).run();
+    o.code(0);
+    let text = pdftotext(&o.dir.join("b.pdf"));
+    let (intro, load, levels) = (text.find("Opening words from the bench").unwrap(), text.find("The load on the amplifier").unwrap(), text.find("Driver levels").unwrap());
+    assert!(intro < load && load < levels, "blocks out of order");
+    assert!(!text.contains("Compensating resistors"), "a block the job left out was printed");
+}
