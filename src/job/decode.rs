@@ -13,6 +13,9 @@ pub struct Ctx<'a> {
     pub diags: Vec<Diagnostic>,
     pub base_dir: &'a Path,
     pub inputs: Vec<InputFile>,
+    /// References that were declared but could not be read: later mentions of them are not
+    /// reported again, so one mistake gives one message.
+    pub failed: Vec<String>,
 }
 
 pub struct Fields<'n> {
@@ -49,7 +52,7 @@ fn join(path: &str, key: &str) -> String {
 
 impl<'a> Ctx<'a> {
     pub fn new(base_dir: &'a Path) -> Self {
-        Ctx { diags: Vec::new(), base_dir, inputs: Vec::new() }
+        Ctx { diags: Vec::new(), base_dir, inputs: Vec::new(), failed: Vec::new() }
     }
 
     pub fn error(&mut self, pos: Pos, field: &str, message: impl Into<String>, hint: Option<String>) {
@@ -427,8 +430,9 @@ fn decode_network(node: &Node, ctx: &mut Ctx) -> Option<Network> {
         for (k, v) in map_entries(n, &f.at("parts"), ctx) {
             let path = format!("network.parts.{}", k.name);
             if check_reference(ctx, k, &path) {
-                if let Some(p) = decode_part(k, v, &path, ctx) {
-                    parts.push(p);
+                match decode_part(k, v, &path, ctx) {
+                    Some(p) => parts.push(p),
+                    None => ctx.failed.push(k.name.clone()),
                 }
             }
         }
@@ -444,8 +448,9 @@ fn decode_network(node: &Node, ctx: &mut Ctx) -> Option<Network> {
                 ctx.error(k.pos, &path, format!("{} is both a part and a driver", k.name), Some("give every part and driver its own reference".into()));
                 continue;
             }
-            if let Some(d) = decode_driver(k, v, &path, ctx) {
-                drivers.push(d);
+            match decode_driver(k, v, &path, ctx) {
+                Some(d) => drivers.push(d),
+                None => ctx.failed.push(k.name.clone()),
             }
         }
         if drivers.is_empty() && matches!(n, Node::Map { entries, .. } if entries.is_empty()) {
@@ -715,7 +720,7 @@ fn find_target<'a>(net: &'a Network, extra: &[String], key: &str, pos: Pos, path
     if net.driver(key).is_some() {
         return Some(Target::Driver);
     }
-    if extra.iter().any(|e| e == key) {
+    if extra.iter().any(|e| e == key) || ctx.failed.iter().any(|e| e == key) {
         return None;
     }
     let names: Vec<&str> = net.branches().map(|(n, _)| n).chain(extra.iter().map(|s| s.as_str())).collect();
@@ -856,6 +861,10 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
                     let (k, mut part) = parts.pop().expect("one part");
                     // between: [node, part]: the new part goes in series where that part meets the node.
                     let [a, b] = part.between.clone();
+                    if ctx.failed.contains(&a) || ctx.failed.contains(&b) {
+                        ctx.failed.push(part.name.clone());
+                        continue;
+                    }
                     let is_ref = |s: &str| net.part(s).is_some() || net.driver(s).is_some() || added.iter().any(|x| x == s);
                     let (node_name, next_to) = match (is_ref(&a), is_ref(&b)) {
                         (false, true) => (a, b),
@@ -909,6 +918,7 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
                 );
                 continue;
             }
+            None if ctx.failed.contains(&k.name) => continue,
             None => {
                 let names: Vec<&str> = auto_parts.iter().map(|p| p.name.as_str()).collect();
                 let hint = suggest(&k.name, names.iter().copied()).map(|s| format!("did you mean `{s}`?"));

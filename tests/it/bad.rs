@@ -262,3 +262,12 @@ fn usage_errors_exit_2() {
     Cli::new().args(["solve", "{job}", "--format", "xml"]).job(BASE).run().code(2);
     Cli::new().args(["new", "--example", "nine-way"]).run().code(2).stderr_has("two-way");
 }
+
+#[test]
+fn one_mistake_gives_one_message() {
+    // C1 cannot be read, so its reading, its replacement, the insert beside it and R9's entry
+    // are not reported again as unknown references.
+    let text = BASE.replacen("value: 3.3 uF, esr: 0.9", "value: 3.3 mH, esr: 0.9", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("1 problem found");
+}
