@@ -633,6 +633,12 @@ impl Job {
         Ok(net)
     }
 
+    /// The rated impedance the IEC 60268-5 rule is judged against: the speaker's, or the
+    /// amplifier's rated load when the job gives none.
+    pub fn rated_impedance_ohm(&self) -> f64 {
+        self.info.rated_impedance.unwrap_or(self.amplifier.into_ohm)
+    }
+
     pub fn driver_names(&self) -> Vec<&str> {
         self.network.drivers.iter().map(|d| d.name.as_str()).collect()
     }

@@ -248,20 +248,21 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
             }
         })
         .collect();
+    let sweep = freqs.as_slice();
     let corners_rows = scenes
         .iter()
         .flat_map(|s| {
             s.network.drivers.iter().enumerate().map(move |(i, d)| {
-                let (a, b) = corners(&s.solution.points.iter().map(|p| p.f_hz).collect::<Vec<_>>(), &s.db[i], 3.0);
-                let (c, e) = corners(&s.solution.points.iter().map(|p| p.f_hz).collect::<Vec<_>>(), &s.db[i], 6.0);
+                let (a, b) = corners(sweep, &s.db[i], 3.0);
+                let (c, e) = corners(sweep, &s.db[i], 6.0);
                 CornerRow { driver: d.name.clone(), scenario: s.scenario, minus3_hz: [a, b], minus6_hz: [c, e] }
             })
         })
         .collect();
 
-    let rated = job.info.rated_impedance.unwrap_or(job.amplifier.into_ohm);
+    let rated = job.rated_impedance_ohm();
     let loads = [0, 1, 2].map(|i| load::load(&freqs, &scenes[i].z, rated, job.info.rated_range));
-    let stress = stress::stress(job, &freqs, &scenes, &plan);
+    let stress = stress::stress(job, &freqs, &scenes);
     let health = health::flags(job, &freqs, &bands, &scenes);
     let tolerance = job.analysis.tolerance.as_ref().map(|t| tolerance::run(job, t, &freqs, &bands, &scenes));
     let acoustic = acoustic_sum(&scenes, &freqs);

@@ -3,12 +3,15 @@
 //! the worst frequency of the sweep and with the programme spectrum; power into each driver;
 //! ratings chosen for `rating: auto` resistors; a verdict with its reason.
 
-use crate::analysis::compensate::Plan;
 use crate::analysis::programme;
 use crate::analysis::Scene;
 use crate::engine::ElementModel;
 use crate::model::{Job, PartKind, Programme, Rating, Scenario};
-use crate::units::trim_number;
+use crate::units::{format_si, trim_number, Quantity};
+
+fn hz(f: f64) -> String {
+    format_si(f, Quantity::Frequency, 3)
+}
 
 /// Stock resistor wattages a rating is chosen from (common practice for crossover resistors).
 pub const STOCK_WATTS: [f64; 9] = [3.0, 5.0, 10.0, 15.0, 20.0, 25.0, 50.0, 75.0, 100.0];
@@ -74,15 +77,7 @@ pub fn choose_rating(programme_w: f64) -> f64 {
     STOCK_WATTS.iter().cloned().find(|w| *w >= need).unwrap_or(STOCK_WATTS[STOCK_WATTS.len() - 1])
 }
 
-fn khz(f: f64) -> String {
-    if f >= 1000.0 {
-        format!("{} kHz", trim_number(f / 1000.0, 3))
-    } else {
-        format!("{} Hz", trim_number(f, 3))
-    }
-}
-
-pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> Stress {
+pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
     let e = job.amplifier.e_rms();
     let e2 = e * e;
     let w = programme::weights(job.analysis.programme, freqs);
@@ -119,7 +114,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
                     }
                     Some(r) if sine.0 > r => (
                         "check",
-                        format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", khz(sine.1), trim_number(sine.0, 3), trim_number(r, 3)),
+                        format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", hz(sine.1), trim_number(sine.0, 3), trim_number(r, 3)),
                     ),
                     Some(r) => ("ok", format!("{} W of programme against a {} W rating", trim_number(prog, 3), trim_number(r, 3))),
                     None => ("ok", "no power rating on record for this driver".to_string()),
@@ -192,7 +187,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
                                 "check",
                                 format!(
                                     "a full-level test tone near {} overheats {} ({} W in a {} W part): keep bench test levels low",
-                                    khz(sine.1),
+                                    hz(sine.1),
                                     el.name,
                                     trim_number(sine.0, 3),
                                     trim_number(r, 3)
@@ -213,12 +208,12 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
                     };
                     row.rating_v = rating;
                     (row.verdict, row.reason) = match rating {
-                        None => ("check", format!("peaks at {} V near {}; no voltage rating on record", trim_number(peak.0, 3), khz(peak.1))),
-                        Some(r) if peak.0 > r => ("over", format!("peaks at {} V near {}, above its {} V rating", trim_number(peak.0, 3), khz(peak.1), trim_number(r, 3))),
+                        None => ("check", format!("peaks at {} V near {}; no voltage rating on record", trim_number(peak.0, 3), hz(peak.1))),
+                        Some(r) if peak.0 > r => ("over", format!("peaks at {} V near {}, above its {} V rating", trim_number(peak.0, 3), hz(peak.1), trim_number(r, 3))),
                         Some(r) if peak.0 > CAPACITOR_MARGIN * r => {
                             ("check", format!("peaks at {} V, above 80 % of its {} V rating (common practice)", trim_number(peak.0, 3), trim_number(r, 3)))
                         }
-                        Some(r) => ("ok", format!("peaks at {} V near {} against a {} V rating", trim_number(peak.0, 3), khz(peak.1), trim_number(r, 3))),
+                        Some(r) => ("ok", format!("peaks at {} V near {} against a {} V rating", trim_number(peak.0, 3), hz(peak.1), trim_number(r, 3))),
                     };
                 }
                 PartKind::Inductor => {
@@ -230,9 +225,9 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3], _plan: &Plan) -> St
                     };
                     row.rating_a = rating;
                     (row.verdict, row.reason) = match rating {
-                        Some(r) if irms.0 > r => ("over", format!("carries {} A near {}, above its {} A rating", trim_number(irms.0, 3), khz(irms.1), trim_number(r, 3))),
+                        Some(r) if irms.0 > r => ("over", format!("carries {} A near {}, above its {} A rating", trim_number(irms.0, 3), hz(irms.1), trim_number(r, 3))),
                         Some(r) if irms.0 > CAPACITOR_MARGIN * r => ("check", format!("carries {} A, above 80 % of its {} A rating", trim_number(irms.0, 3), trim_number(r, 3))),
-                        _ => ("ok", format!("carries up to {} A near {}; {} W in its DCR on programme", trim_number(irms.0, 3), khz(irms.1), trim_number(prog, 2))),
+                        _ => ("ok", format!("carries up to {} A near {}; {} W in its DCR on programme", trim_number(irms.0, 3), hz(irms.1), trim_number(prog, 2))),
                     };
                 }
             }

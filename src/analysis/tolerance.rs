@@ -134,13 +134,13 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
         .collect();
     let driver_names: Vec<&str> = job.network.drivers.iter().map(|d| d.name.as_str()).collect();
     let tol_of = |s: &Scene, k: usize| s.network.part(&s.circuit.elements[k].name).and_then(|p| p.tolerance);
-    let nominal: Vec<Vec<f64>> = {
+    // Every spread is relative to the original design with nominal parts.
+    let reference: Vec<f64> = {
         let c = &scenes[0].circuit;
         let mut ws = Workspace::new(c);
         let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
-        vec![band_levels(c, &mut ws, &grid, &ds, &grid_bands, &vec![1.0; c.elements.len()], None)]
+        band_levels(c, &mut ws, &grid, &ds, &grid_bands, &vec![1.0; c.elements.len()], None)
     };
-    let reference = &nominal[0];
     let progress = progress_bar(t.runs as u64 * 3);
     let mut levels = Vec::new();
     let mut curves = Vec::new();

@@ -966,14 +966,7 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
             }
         }
     }
-    if node_is_empty_map(node) {
-        return out;
-    }
     out
-}
-
-fn node_is_empty_map(node: &Node) -> bool {
-    matches!(node, Node::Map { entries, .. } if entries.is_empty())
 }
 
 fn decode_analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
@@ -1151,10 +1144,9 @@ fn check_scenarios(job: &Job, ctx: &mut Ctx) {
         Err(e) => ctx.error(e.pos, &format!("changes[{}]", e.number), e.message, None),
         Ok(left) => {
             if job.network.connection_problems().is_empty() {
-                for (name, msg) in left.connection_problems() {
+                for (_, msg) in left.connection_problems() {
                     let step = job.changes.last().map(|c| c.pos).unwrap_or(Pos { line: 1, col: 1 });
                     ctx.error(step, "changes", format!("after the changes, {msg}"), Some("a removed part leaves its nodes open; add or insert what replaces it".into()));
-                    let _ = name;
                 }
             }
         }

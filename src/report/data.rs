@@ -116,7 +116,8 @@ fn block_data(b: &Block) -> BlockData {
     BlockData { kind: kind.into(), text, plot }
 }
 
-pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
+/// `plots` names the plots drawn for this report, in order.
+pub fn build(job: &Job, f: &Findings, template: &Template, plots: Vec<String>) -> ReportData {
     let date_parts: Vec<i64> = job.info.date.split('-').filter_map(|p| p.parse().ok()).collect();
     let date = Date {
         year: date_parts.first().copied().unwrap_or(2000) as i32,
@@ -362,7 +363,6 @@ pub fn build(job: &Job, f: &Findings, template: &Template) -> ReportData {
     let safety = safety(job, f);
     let inputs = job.inputs.iter().map(|i| Row(vec![i.name.clone(), format!("{} bytes", i.bytes.len()), sha256(&i.bytes)])).collect();
     let attachments = job.inputs.iter().enumerate().map(|(i, inp)| serde_json::json!({ "name": inp.name, "file": format!("/inputs/{i}"), "mime": mime(&inp.name) })).collect();
-    let plots = crate::report::plots::all(job, f).into_iter().map(|(n, _)| n.to_string()).collect();
     let sweep = format!("{} to {}, {} points", hz(f.freqs.first().copied()), hz(f.freqs.last().copied()), f.freqs.len());
 
     let info = &job.info;

@@ -59,11 +59,12 @@ pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, R
     };
     let archive = matches!(template, Template::Archive);
     let results = serde_json::to_vec_pretty(&crate::results::json(job, f)).map_err(|e| ReportError::Pdf(e.to_string()))?;
-    let report_data = data::build(job, f, template);
+    let plots = plots::all(job, f);
+    let report_data = data::build(job, f, template, plots.iter().map(|(n, _)| n.to_string()).collect());
     let data_json = serde_json::to_vec(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
 
     let mut binaries: Vec<(String, Vec<u8>)> = vec![("data.json".into(), data_json), ("results.json".into(), results)];
-    for (name, svg) in plots::all(job, f) {
+    for (name, svg) in plots {
         binaries.push((format!("plots/{name}.svg"), svg.into_bytes()));
     }
     for (i, input) in job.inputs.iter().enumerate() {

@@ -147,7 +147,7 @@ pub fn all(job: &Job, f: &Findings) -> Vec<(&'static str, String)> {
     push("impedance", impedance(job, f));
     push("phase", phase(f));
     if f.tolerance.is_some() {
-        push("tolerance", tolerance(job, f));
+        push("tolerance", tolerance(f));
     }
     if f.acoustic.is_some() {
         push("acoustic", acoustic(f));
@@ -172,7 +172,7 @@ fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error
             });
         }
     }
-    let max = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max);
+    let max = peak(&curves);
     log_chart("Driver levels (dB re amplifier EMF)", "level (dB)", xr(f), (max - 40.0, max + 4.0), &curves, &[], &[])
 }
 
@@ -190,18 +190,27 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
     log_chart("Level change against the original design, over each driver's band", "difference (dB)", xr(f), (lo, hi), &curves, &[(0.0, "as designed".into())], &[])
 }
 
-fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves: Vec<Curve> = f
-        .scenes
+/// One curve per scenario of a quantity of the input impedance.
+fn impedance_curves(f: &Findings, what: &str, colour: RGBColor, value: impl Fn(&num_complex::Complex64) -> f64) -> Vec<Curve> {
+    f.scenes
         .iter()
         .map(|s| Curve {
-            label: format!("|Z| {}", s.scenario.label()),
-            colour: COLOURS[0],
+            label: format!("{what} {}", s.scenario.label()),
+            colour,
             pattern: pattern(s.scenario),
-            points: f.freqs.iter().cloned().zip(s.z.iter().map(|z| z.norm())).collect(),
+            points: f.freqs.iter().cloned().zip(s.z.iter().map(&value)).collect(),
         })
-        .collect();
-    let rated = job.info.rated_impedance.unwrap_or(job.amplifier.into_ohm);
+        .collect()
+}
+
+/// The highest value any curve reaches.
+fn peak(curves: &[Curve]) -> f64 {
+    curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max)
+}
+
+fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+    let curves = impedance_curves(f, "|Z|", COLOURS[0], |z| z.norm());
+    let rated = job.rated_impedance_ohm();
     let floor = crate::analysis::load::rated_floor(rated);
     let (_, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.0, 1.0);
     log_chart(
@@ -216,20 +225,11 @@ fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
 }
 
 fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves: Vec<Curve> = f
-        .scenes
-        .iter()
-        .map(|s| Curve {
-            label: format!("phase {}", s.scenario.label()),
-            colour: COLOURS[1],
-            pattern: pattern(s.scenario),
-            points: f.freqs.iter().cloned().zip(s.z.iter().map(|z| z.arg().to_degrees())).collect(),
-        })
-        .collect();
+    let curves = impedance_curves(f, "phase", COLOURS[1], |z| z.arg().to_degrees());
     log_chart("Input impedance phase", "phase (degrees)", xr(f), (-90.0, 90.0), &curves, &[(0.0, String::new())], &[])
 }
 
-fn tolerance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let t = f.tolerance.as_ref().ok_or("no tolerance runs")?;
     let mut bands = Vec::new();
     let mut curves = Vec::new();
@@ -245,8 +245,7 @@ fn tolerance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
             });
         }
     }
-    let _ = job;
-    let max = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max);
+    let max = peak(&curves);
     log_chart(&format!("Spread of driver levels from part tolerances ({} runs)", t.runs), "level (dB)", xr(f), (max - 30.0, max + 4.0), &curves, &[], &bands)
 }
 
@@ -257,7 +256,7 @@ fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
         .zip(a)
         .map(|(s, v)| Curve { label: format!("sum {}", s.label()), colour: COLOURS[2], pattern: pattern(*s), points: f.freqs.iter().cloned().zip(v.iter().cloned()).collect() })
         .collect();
-    let max = curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max);
+    let max = peak(&curves);
     log_chart("Acoustic sum from the drivers' measured responses (dB SPL at 2.83 V, 1 m)", "SPL (dB)", xr(f), (max - 40.0, max + 5.0), &curves, &[], &[])
 }
 
