@@ -929,8 +929,11 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
         let driver = ctx.req(&f, "driver", "the driver whose level it restores").and_then(|n| {
             let name = ctx.text(n, &f.at("driver"))?;
             if net.driver(&name).is_none() {
-                let hint = suggest(&name, net.drivers.iter().map(|d| d.name.as_str())).map(|s| format!("did you mean `{s}`?"));
-                ctx.error(n.pos(), &f.at("driver"), format!("there is no driver {name}"), hint);
+                let hint = match suggest(&name, net.drivers.iter().map(|d| d.name.as_str())) {
+                    Some(s) => format!("did you mean `{s}`?"),
+                    None => format!("the network's drivers are: {}", net.drivers.iter().map(|d| d.name.as_str()).collect::<Vec<_>>().join(", ")),
+                };
+                ctx.error(n.pos(), &f.at("driver"), format!("there is no driver {name}"), Some(hint));
                 return None;
             }
             Some(name)
@@ -944,13 +947,15 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
             Some(n) => ctx.choice(n, &f.at("series"), &[("E6", ESeries::E6), ("E12", ESeries::E12), ("E24", ESeries::E24), ("E48", ESeries::E48), ("E96", ESeries::E96)]),
             None => Some(ESeries::E24),
         };
-        if let (Some(driver), Some(reference), Some(series)) = (driver, reference, series) {
-            out.push(CompensateEntry { part: k.name.clone(), driver, reference, band, series, pos: k.pos });
+        match (driver, reference, series) {
+            (Some(driver), Some(reference), Some(series)) => out.push(CompensateEntry { part: k.name.clone(), driver, reference, band, series, pos: k.pos }),
+            // The entry is there but wrong: its own messages say so, not "no entry" again.
+            _ => ctx.failed.push(k.name.clone()),
         }
     }
     // Every auto value needs its entry.
     for p in &auto_parts {
-        if p.auto_value && !out.iter().any(|c| c.part == p.name) && !ctx.diags.iter().any(|d| d.field == format!("compensate.{}", p.name)) {
+        if p.auto_value && !out.iter().any(|c| c.part == p.name) && !ctx.failed.contains(&p.name) {
             ctx.error(
                 p.pos,
                 &p.name,
@@ -961,7 +966,7 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
     }
     for c in changes {
         if let ChangeStep::Replace { target, with: Patch::Part(p) } = &c.step {
-            if p.auto_value && !out.iter().any(|e| &e.part == target) {
+            if p.auto_value && !out.iter().any(|e| &e.part == target) && !ctx.failed.contains(target) {
                 ctx.error(c.pos, &format!("changes[{}]", c.number), format!("{target} is replaced with `value: auto` but has no `compensate` entry"), None);
             }
         }

@@ -271,3 +271,12 @@ fn one_mistake_gives_one_message() {
     let o = Cli::new().job(&text).args(["check", "{job}"]).run();
     o.code(1).stderr_has("1 problem found");
 }
+
+#[test]
+fn a_wrong_compensate_entry_is_not_also_called_missing() {
+    // The entry for R9 names no real driver: that is the one message, with the drivers listed.
+    let text = BASE.replacen("  R9: { driver: HF", "  R9: { driver: TW", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "TW", 0)).stderr_has("there is no driver TW").stderr_has("the network's drivers are: HF, LF").stderr_has("1 problem found");
+    assert!(!o.stderr.contains("no `compensate` entry"), "{}", o.stderr);
+}
