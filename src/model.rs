@@ -198,6 +198,8 @@ pub struct Driver {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Network {
     pub input: [String; 2],
+    /// Where `input` is written in the job file.
+    pub input_pos: Pos,
     pub parts: Vec<Part>,
     pub drivers: Vec<Driver>,
 }
@@ -637,6 +639,16 @@ impl Job {
     /// amplifier's rated load when the job gives none.
     pub fn rated_impedance_ohm(&self) -> f64 {
         self.info.rated_impedance.unwrap_or(self.amplifier.into_ohm)
+    }
+
+    /// Where the rated impedance comes from, in words: the job, or (when the job gives none)
+    /// the amplifier's rated load, which is an assumption and is said to be one.
+    pub fn rated_impedance_basis(&self) -> String {
+        let r = crate::units::trim_number(self.rated_impedance_ohm(), 3);
+        match self.info.rated_impedance {
+            Some(_) => format!("rated impedance {r} ohm, from the job"),
+            None => format!("rated impedance not given in the job: {r} ohm assumed (the amplifier's rated load); add `rated_impedance` from the speaker's plate"),
+        }
     }
 
     pub fn driver_names(&self) -> Vec<&str> {

@@ -160,7 +160,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
         }
     }
     let _ = writeln!(s);
-    let _ = writeln!(s, "LOAD (at the amplifier terminals)");
+    let _ = writeln!(s, "LOAD (at the amplifier terminals; {})", f.loads[0].rated_basis);
     for (sc, l) in Scenario::ALL.iter().zip(&f.loads) {
         let _ = writeln!(
             s,

@@ -63,9 +63,16 @@ pub fn round_to(series: ESeries, x: f64) -> f64 {
     best
 }
 
+/// Rounds to four significant figures, dividing by a power of ten rather than multiplying by
+/// its inverse so that 5.6 comes out as the double nearest 5.6 (5600 * 0.001 does not).
 fn tidy(v: f64) -> f64 {
-    let mag = 10f64.powi(v.log10().floor() as i32 - 3);
-    (v / mag).round() * mag
+    let p = v.log10().floor() as i32 - 3;
+    let digits = (v / 10f64.powi(p)).round();
+    if p < 0 {
+        digits / 10f64.powi(-p)
+    } else {
+        digits * 10f64.powi(p)
+    }
 }
 
 /// The best pair of E12 values, in series or in parallel, for `x` ohm (common practice:
@@ -122,6 +129,19 @@ mod tests {
         assert_eq!(round_to(ESeries::E24, 0.95), 0.91);
         assert_eq!(round_to(ESeries::E24, 9.7), 10.0);
         assert_eq!(round_to(ESeries::E48, 1.2), 1.21);
+    }
+
+    #[test]
+    fn rounded_values_are_the_doubles_a_person_would_write() {
+        // Every IEC 60063 E24 value in every decade from 0.1 ohm to 1 Mohm prints as written.
+        for e in -1..6 {
+            for v in E24 {
+                let x = round_to(ESeries::E24, v * 10f64.powi(e));
+                assert_eq!(x.to_string().parse::<f64>().unwrap(), x);
+                assert!(x.to_string().len() <= 8, "{x}");
+            }
+        }
+        assert_eq!(round_to(ESeries::E24, 5.81), 5.6);
     }
 
     #[test]

@@ -46,7 +46,8 @@ fn effect(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, part: &str
     let mut best = (0.0f64, String::new());
     for (di, d) in job.network.drivers.iter().enumerate() {
         let Some(k) = c.element(&d.name) else { continue };
-        let lv: Vec<f64> = bands[di].idx.iter().map(|&i| engine::solve_point(&c, freqs[i], &mut ws).map(|p| 20.0 * p.across(&c, k).norm().log10()).unwrap_or(f64::NAN)).collect();
+        let lv: Vec<f64> =
+            bands[di].idx.iter().map(|&i| engine::solve_point(&c, freqs[i], &mut ws).map(|()| 10.0 * ws.across(&c, k).norm_sqr().log10()).unwrap_or(f64::NAN)).collect();
         let m = lv.iter().sum::<f64>() / lv.len().max(1) as f64 - mean_over(&designed.db[di], &bands[di].idx);
         if m.is_finite() && m.abs() > best.0.abs() {
             best = (m, d.name.clone());

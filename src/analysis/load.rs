@@ -10,7 +10,7 @@ use num_complex::Complex64;
 pub fn epdr(z: Complex64) -> f64 {
     let phi = z.arg().abs().min(std::f64::consts::FRAC_PI_2);
     let s = (std::f64::consts::PI / 6.0 + phi / 3.0).sin();
-    z.norm() / (8.0 * s * s * s)
+    z.norm_sqr().sqrt() / (8.0 * s * s * s)
 }
 
 /// IEC 60268-5:2003+A1:2007, 16.1: the lowest |Z| in the rated frequency range shall not be
@@ -29,6 +29,9 @@ pub struct Load {
     /// The lowest |Z| inside the rated frequency range, which the 80 % rule judges.
     pub rated_range_min_ohm: f64,
     pub rated_floor_ohm: f64,
+    /// The rated impedance the 80 % rule judges against, and where it comes from.
+    pub rated_ohm: f64,
+    pub rated_basis: String,
     pub verdict: String,
     pub reason: String,
 }
@@ -38,7 +41,7 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
     let mut emin = (f64::INFINITY, 0.0);
     let mut rmin = f64::INFINITY;
     for (f, z) in freqs.iter().zip(z) {
-        let m = z.norm();
+        let m = z.norm_sqr().sqrt();
         if m < min.0 {
             min = (m, *f);
         }
@@ -90,6 +93,8 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
         rated_impedance_holds: holds,
         rated_range_min_ohm: rmin,
         rated_floor_ohm: floor,
+        rated_ohm,
+        rated_basis: String::new(),
         verdict: verdict.into(),
         reason,
     }

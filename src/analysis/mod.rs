@@ -35,11 +35,11 @@ impl Scene {
         let mut phase = Vec::new();
         for d in &network.drivers {
             let k = circuit.element(&d.name).expect("every driver is an element");
-            let (a, p): (Vec<f64>, Vec<f64>) = solution.points.iter().map(|pt| engine::db_phase(pt.across(&circuit, k))).unzip();
+            let (a, p): (Vec<f64>, Vec<f64>) = (0..solution.len()).map(|i| engine::db_phase(solution.across(&circuit, i, k))).unzip();
             db.push(a);
             phase.push(p);
         }
-        let z = solution.points.iter().map(|pt| pt.input_impedance(&circuit)).collect();
+        let z = (0..solution.len()).map(|i| solution.input_impedance(&circuit, i)).collect();
         Ok(Scene { scenario, network, circuit, solution, db, phase, z })
     }
 
@@ -261,7 +261,7 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
         .collect();
 
     let rated = job.rated_impedance_ohm();
-    let loads = [0, 1, 2].map(|i| load::load(&freqs, &scenes[i].z, rated, job.info.rated_range));
+    let loads = [0, 1, 2].map(|i| load::Load { rated_basis: job.rated_impedance_basis(), ..load::load(&freqs, &scenes[i].z, rated, job.info.rated_range) });
     let stress = stress::stress(job, &freqs, &scenes);
     let health = health::flags(job, &freqs, &bands, &scenes);
     let tolerance = job.analysis.tolerance.as_ref().map(|t| tolerance::run(job, t, &freqs, &bands, &scenes));

@@ -87,25 +87,27 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
         for (k, el) in s.circuit.elements.iter().enumerate() {
             let mut sine = (0.0, freqs[0]);
             let mut prog = 0.0;
-            let mut peak = (0.0, freqs[0]);
-            let mut irms = (0.0, freqs[0]);
-            for (i, p) in s.solution.points.iter().enumerate() {
-                let i2 = p.i_el[k].norm_sqr();
-                let loss = el.model.loss_ohm(p.f_hz);
-                let pw = e2 * i2 * loss;
+            // Largest |V|^2 across the part and |I|^2 through it (per volt of EMF), and where.
+            let mut v2max = (0.0, freqs[0]);
+            let mut i2max = (0.0, freqs[0]);
+            for (i, &f_hz) in s.solution.freqs.iter().enumerate() {
+                let z = el.model.impedance(f_hz);
+                let v2 = s.solution.across(&s.circuit, i, k).norm_sqr();
+                let i2 = if s.solution.has_zero_impedance() { s.solution.current_through(&s.circuit, i, k, z).norm_sqr() } else { v2 / z.norm_sqr() };
+                let pw = e2 * i2 * z.re;
                 if pw > sine.0 {
-                    sine = (pw, p.f_hz);
+                    sine = (pw, f_hz);
                 }
-                prog += e2 * w[i] * i2 * loss;
-                let vpk = std::f64::consts::SQRT_2 * e * p.across(&s.circuit, k).norm();
-                if vpk > peak.0 {
-                    peak = (vpk, p.f_hz);
+                prog += w[i] * pw;
+                if v2 > v2max.0 {
+                    v2max = (v2, f_hz);
                 }
-                let a = e * i2.sqrt();
-                if a > irms.0 {
-                    irms = (a, p.f_hz);
+                if i2 > i2max.0 {
+                    i2max = (i2, f_hz);
                 }
             }
+            let peak = (std::f64::consts::SQRT_2 * e * v2max.0.sqrt(), v2max.1);
+            let irms = (e * i2max.0.sqrt(), i2max.1);
             if el.is_driver {
                 let d = s.network.driver(&el.name).expect("driver");
                 let (verdict, reason) = match d.rated_power {

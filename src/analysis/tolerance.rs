@@ -4,10 +4,11 @@
 //! Every run draws from its own generator seeded from (seed, run number), so results do not
 //! depend on how many threads share the work.
 
+use num_complex::Complex64;
 use rayon::prelude::*;
 
 use crate::analysis::{Band, Scene};
-use crate::engine::{self, Circuit, ElementModel, Workspace};
+use crate::engine::{self, Circuit, ElementModel, Lanes};
 use crate::model::{Distribution, Job, Scenario, ToleranceRuns};
 
 /// At most this many sweep points take part in the Monte Carlo.
@@ -79,39 +80,126 @@ fn draw(rng: &mut Rng, t: f64, dist: Distribution) -> f64 {
     }
 }
 
-pub fn scaled(model: &ElementModel, factor: f64) -> ElementModel {
-    match model {
-        ElementModel::Resistor { r } => ElementModel::Resistor { r: r * factor },
-        ElementModel::Capacitor { c, esr, tan_delta } => ElementModel::Capacitor { c: c * factor, esr: *esr, tan_delta: *tan_delta },
-        ElementModel::Inductor { l, dcr } => ElementModel::Inductor { l: l * factor, dcr: *dcr },
-        ElementModel::Driver(d) => ElementModel::Driver(d.clone()),
+const LANES: usize = 4;
+
+/// Buffers for one thread: four points at a time, and one for the points the plan refuses.
+struct Workspace {
+    lanes: Lanes<LANES>,
+    one: engine::Workspace,
+}
+
+impl Workspace {
+    fn new(c: &Circuit) -> Self {
+        Workspace { lanes: Lanes::new(c), one: engine::Workspace::new(c) }
     }
 }
 
-/// Band-mean level of each driver at the chosen points, with element k's value scaled by factors[k].
-fn band_levels(c: &Circuit, ws: &mut Workspace, freqs: &[f64], drivers: &[usize], bands: &[Vec<usize>], factors: &[f64], curves: Option<&mut Vec<Vec<f64>>>) -> Vec<f64> {
-    let models: Vec<ElementModel> = c.elements.iter().zip(factors).map(|(e, f)| if *f == 1.0 { e.model.clone() } else { scaled(&e.model, *f) }).collect();
-    let mut per_point = vec![vec![0.0; freqs.len()]; drivers.len()];
-    for (i, f) in freqs.iter().enumerate() {
-        let Ok(p) = engine::solve_point_with(c, *f, ws, |k, f| models[k].impedance(f)) else { continue };
-        for (j, &k) in drivers.iter().enumerate() {
-            per_point[j][i] = 20.0 * p.across(c, k).norm().max(1e-300).log10();
+/// How a part's impedance depends on its value, at each frequency of the grid: z = a + b g,
+/// where g is the value's factor (resistor, inductor) or its inverse (capacitor; an ESR from
+/// tan delta scales with the reactance, so it sits in b too). A driver is all a.
+struct Basis {
+    freqs: Vec<f64>,
+    a: Vec<Complex64>,
+    b: Vec<Complex64>,
+    inverse: Vec<bool>,
+    elements: usize,
+}
+
+impl Basis {
+    fn new(c: &Circuit, freqs: &[f64]) -> Basis {
+        let zero = Complex64::new(0.0, 0.0);
+        let mut a = Vec::with_capacity(freqs.len() * c.elements.len());
+        let mut b = Vec::with_capacity(freqs.len() * c.elements.len());
+        for &f in freqs {
+            let w = 2.0 * std::f64::consts::PI * f;
+            for e in &c.elements {
+                let (ai, bi) = match &e.model {
+                    ElementModel::Resistor { r } => (zero, Complex64::new(*r, 0.0)),
+                    ElementModel::Capacitor { tan_delta: Some(_), .. } => (zero, e.model.impedance(f)),
+                    ElementModel::Capacitor { c, esr, tan_delta: None } => (Complex64::new(*esr, 0.0), Complex64::new(0.0, -1.0 / (w * c))),
+                    ElementModel::Inductor { l, dcr } => (Complex64::new(*dcr, 0.0), Complex64::new(0.0, w * l)),
+                    ElementModel::Driver(_) => (e.model.impedance(f), zero),
+                };
+                a.push(ai);
+                b.push(bi);
+            }
+        }
+        let inverse = c.elements.iter().map(|e| matches!(e.model, ElementModel::Capacitor { .. })).collect();
+        Basis { freqs: freqs.to_vec(), a, b, inverse, elements: c.elements.len() }
+    }
+
+    /// The multiplier of b for each element when element k's value is scaled by factors[k].
+    fn gains(&self, factors: &[f64]) -> Vec<f64> {
+        factors.iter().zip(&self.inverse).map(|(f, inv)| if *inv { 1.0 / f } else { *f }).collect()
+    }
+}
+
+/// Band-mean level (dB re EMF) of each driver, with element k's value scaled by factors[k].
+/// With `curves`, also each driver's |V|^2 at every grid point (driver-major), left squared
+/// because only its order statistics are needed and dB keeps order.
+fn band_levels(c: &Circuit, ws: &mut Workspace, basis: &Basis, drivers: &[usize], bands: &[Vec<usize>], factors: &[f64], curves: Option<&mut [f64]>) -> Vec<f64> {
+    let g = basis.gains(factors);
+    let ne = basis.elements;
+    let freqs = &basis.freqs;
+    let mut power = vec![vec![f64::NAN; freqs.len()]; drivers.len()];
+    for (q, chunk) in freqs.chunks(LANES).enumerate() {
+        for (k, gk) in g.iter().enumerate() {
+            for l in 0..LANES {
+                // A short last chunk repeats its last point in the spare lanes.
+                let i = q * LANES + l.min(chunk.len() - 1);
+                ws.lanes.z[k][l] = basis.a[i * ne + k] + basis.b[i * ne + k] * gk;
+            }
+        }
+        let ok = ws.lanes.solve(c);
+        for (l, f) in chunk.iter().enumerate() {
+            let i = q * LANES + l;
+            if ok[l] {
+                for (j, &k) in drivers.iter().enumerate() {
+                    power[j][i] = ws.lanes.across(c, l, k).norm_sqr().max(1e-300);
+                }
+                continue;
+            }
+            for k in 0..ne {
+                ws.one.set_z(k, ws.lanes.z[k][l]);
+            }
+            if engine::solve_impedances(c, *f, &mut ws.one).is_ok() {
+                for (j, &k) in drivers.iter().enumerate() {
+                    power[j][i] = ws.one.across(c, k).norm_sqr().max(1e-300);
+                }
+            }
         }
     }
-    let means = bands.iter().enumerate().map(|(j, b)| b.iter().map(|i| per_point[j][*i]).sum::<f64>() / b.len().max(1) as f64).collect();
     if let Some(out) = curves {
-        *out = per_point;
+        for (j, p) in power.iter().enumerate() {
+            out[j * freqs.len()..(j + 1) * freqs.len()].copy_from_slice(p);
+        }
     }
-    means
+    // The mean of 10 log10 |V|^2 over the band, taking one logarithm per eight points.
+    bands
+        .iter()
+        .enumerate()
+        .map(|(j, b)| {
+            let ln_sum: f64 = b.chunks(8).map(|ch| ch.iter().map(|i| power[j][*i]).product::<f64>().ln()).sum();
+            10.0 / std::f64::consts::LN_10 * ln_sum / b.len().max(1) as f64
+        })
+        .collect()
 }
 
-fn percentile(sorted: &[f64], p: f64) -> f64 {
-    let x = p * (sorted.len() - 1) as f64;
+/// The p-quantile of `values` (linear between order statistics, as numpy's default), with
+/// `map` applied to the two order statistics before they are blended: `map` must keep order
+/// (10 log10 of |V|^2 does). Runs whose solve failed (NaN) take no part.
+fn quantile(values: &[f64], p: f64, map: impl Fn(f64) -> f64) -> f64 {
+    let mut v: Vec<f64> = values.iter().cloned().filter(|x| x.is_finite()).collect();
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    let x = p * (v.len() - 1) as f64;
     let (i, t) = (x.floor() as usize, x.fract());
-    if i + 1 < sorted.len() {
-        sorted[i] * (1.0 - t) + sorted[i + 1] * t
-    } else {
-        sorted[i]
+    let (_, lo, rest) = v.select_nth_unstable_by(i, f64::total_cmp);
+    let lo = map(*lo);
+    match rest.iter().cloned().min_by(f64::total_cmp) {
+        Some(hi) if t > 0.0 => lo * (1.0 - t) + map(hi) * t,
+        _ => lo,
     }
 }
 
@@ -139,54 +227,53 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
         let c = &scenes[0].circuit;
         let mut ws = Workspace::new(c);
         let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
-        band_levels(c, &mut ws, &grid, &ds, &grid_bands, &vec![1.0; c.elements.len()], None)
+        band_levels(c, &mut ws, &Basis::new(c, &grid), &ds, &grid_bands, &vec![1.0; c.elements.len()], None)
     };
     let progress = progress_bar(t.runs as u64 * 3);
     let mut levels = Vec::new();
     let mut curves = Vec::new();
+    let per_run = driver_names.len() * grid.len();
     for s in scenes {
         let c = &s.circuit;
+        let basis = Basis::new(c, &grid);
         let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
         // Parts share their draw across scenarios through their name.
-        let part_names: Vec<String> = c.elements.iter().map(|e| e.name.clone()).collect();
-        let results: Vec<(Vec<f64>, Vec<Vec<f64>>)> = (0..t.runs)
-            .into_par_iter()
-            .map_init(
-                || Workspace::new(c),
-                |ws, run| {
-                    let factors: Vec<f64> = (0..c.elements.len())
-                        .map(|k| match tol_of(s, k) {
-                            Some(tol) => {
-                                let mut rng = Rng::new(t.seed ^ hash(&part_names[k]), run as u64);
-                                1.0 + draw(&mut rng, tol, t.distribution)
-                            }
-                            None => 1.0,
-                        })
-                        .collect();
-                    let mut per = Vec::new();
-                    let keep = s.scenario == Scenario::AsLeft;
-                    let m = band_levels(c, ws, &grid, &ds, &grid_bands, &factors, if keep { Some(&mut per) } else { None });
-                    if let Some(p) = &progress {
-                        p.inc(1);
-                    }
-                    (m, per)
-                },
-            )
-            .collect();
-        for (j, name) in driver_names.iter().enumerate() {
-            let mut v: Vec<f64> = results.iter().map(|r| r.0[j] - reference[j]).collect();
-            v.sort_by(|a, b| a.partial_cmp(b).unwrap_or(std::cmp::Ordering::Equal));
-            levels.push(LevelSpread { scenario: s.scenario, driver: name.to_string(), p5_db: percentile(&v, 0.05), p50_db: percentile(&v, 0.5), p95_db: percentile(&v, 0.95) });
+        let streams: Vec<Option<(u64, f64)>> = (0..c.elements.len()).map(|k| tol_of(s, k).map(|tol| (t.seed ^ hash(&c.elements[k].name), tol))).collect();
+        let keep = s.scenario == Scenario::AsLeft;
+        let mut kept = if keep { vec![0.0; t.runs * per_run] } else { Vec::new() };
+        let mut means = vec![0.0; t.runs * ds.len()];
+        let work = |ws: &mut Workspace, run: usize, mean: &mut [f64], curve: Option<&mut [f64]>| {
+            let factors: Vec<f64> = streams
+                .iter()
+                .map(|st| match st {
+                    Some((stream, tol)) => 1.0 + draw(&mut Rng::new(*stream, run as u64), *tol, t.distribution),
+                    None => 1.0,
+                })
+                .collect();
+            mean.copy_from_slice(&band_levels(c, ws, &basis, &ds, &grid_bands, &factors, curve));
+            if let Some(p) = &progress {
+                p.inc(1);
+            }
+        };
+        if keep {
+            means.par_chunks_mut(ds.len()).zip(kept.par_chunks_mut(per_run)).enumerate().for_each_init(|| Workspace::new(c), |ws, (run, (m, k))| work(ws, run, m, Some(k)));
+        } else {
+            means.par_chunks_mut(ds.len()).enumerate().for_each_init(|| Workspace::new(c), |ws, (run, m)| work(ws, run, m, None));
         }
-        if s.scenario == Scenario::AsLeft {
+        for (j, name) in driver_names.iter().enumerate() {
+            let v: Vec<f64> = means.chunks(ds.len()).map(|m| m[j] - reference[j]).collect();
+            let q = |p| quantile(&v, p, |x| x);
+            levels.push(LevelSpread { scenario: s.scenario, driver: name.to_string(), p5_db: q(0.05), p50_db: q(0.5), p95_db: q(0.95) });
+        }
+        if keep {
+            let db = |p2: f64| 10.0 * p2.log10();
             for (j, name) in driver_names.iter().enumerate() {
                 let mut lo = Vec::new();
                 let mut hi = Vec::new();
                 for gi in 0..grid.len() {
-                    let mut v: Vec<f64> = results.iter().map(|r| r.1[j][gi]).collect();
-                    v.sort_by(|a, b| a.partial_cmp(b).unwrap_or(std::cmp::Ordering::Equal));
-                    lo.push(percentile(&v, 0.05));
-                    hi.push(percentile(&v, 0.95));
+                    let v: Vec<f64> = kept.chunks(per_run).map(|r| r[j * grid.len() + gi]).collect();
+                    lo.push(quantile(&v, 0.05, db));
+                    hi.push(quantile(&v, 0.95, db));
                 }
                 curves.push((name.to_string(), lo, hi));
             }
@@ -198,6 +285,7 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
     // Sensitivity in the as-left network: central difference of +-1 % in each part's value.
     let s = &scenes[2];
     let c = &s.circuit;
+    let basis = Basis::new(c, &grid);
     let mut ws = Workspace::new(c);
     let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
     let mut ranking = Vec::new();
@@ -207,9 +295,9 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
         }
         let mut f = vec![1.0; c.elements.len()];
         f[k] = 1.01;
-        let up = band_levels(c, &mut ws, &grid, &ds, &grid_bands, &f, None);
+        let up = band_levels(c, &mut ws, &basis, &ds, &grid_bands, &f, None);
         f[k] = 0.99;
-        let down = band_levels(c, &mut ws, &grid, &ds, &grid_bands, &f, None);
+        let down = band_levels(c, &mut ws, &basis, &ds, &grid_bands, &f, None);
         for (j, name) in driver_names.iter().enumerate() {
             ranking.push(Sensitivity { driver: name.to_string(), part: e.name.clone(), db_per_percent: (up[j] - down[j]) / 2.0 });
         }

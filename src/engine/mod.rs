@@ -1,13 +1,24 @@
-//! The circuit engine: modified nodal analysis over complex numbers at each frequency.
+//! The circuit engine: nodal analysis over complex numbers at each frequency.
 //!
-//! Every element of a crossover is a two-terminal impedance, so the matrix holds node
-//! voltages plus one branch current for the source (the amplifier's EMF behind its output
-//! impedance) and one for each element whose impedance is exactly zero (a resistor being
-//! fitted at 0 ohm). Networks here have 3 to 30 nodes, where a dense LU with partial pivoting
-//! over a reused buffer needs no dependency and no allocation for the matrix. It has been
-//! measured on its own only (`benches/solve.rs`: 1.85 us a point on the three-way reference
-//! network against about 4.6 us for ngspice); a comparison with nalgebra, faer or a
-//! tree-structured elimination has not been made yet and is the next step for the speed target.
+//! Every element of a crossover is a two-terminal impedance. The topology is fixed for a
+//! sweep, so [`Plan`] orders the unknown node voltages once (minimum degree: a ladder or a
+//! tree of filter sections eliminates leaf first with no fill-in) and records exactly which
+//! entries the factorisation touches. Each point is then an LDL^T factorisation of the
+//! complex-symmetric admittance matrix over those entries only, with no pivoting, four
+//! points side by side ([`Lanes`]) so the dependent steps of one overlap with the others'.
+//! The source is its Norton equivalent, or a fixed input voltage when the amplifier has no
+//! output impedance. A pivot under 1/100 of its column (threshold pivoting), or an element of
+//! zero impedance, sends that one point to a full modified nodal analysis with a dense
+//! partial-pivoting LU, which also names the parts of a network that cannot be solved.
+//!
+//! Why this and not a library: measured on the three-way reference network (7 unknowns, 14
+//! elements; `cargo bench`, see DEVELOPERS.md), the factorisation costs 0.105 us a point with
+//! four lanes, and a whole point with its impedances 0.35 us with one lane, against 1.78 us
+//! for the dense pivoting LU of the full system. A dense LU, which is what nalgebra and faer
+//! offer for a general matrix, does O(n^3) work where these tree-like networks need O(n);
+//! those crates were not benchmarked themselves (adding nalgebra and criterion as
+//! dev-dependencies forced a rebuild of the Typst stack), so the comparison stands on our own
+//! dense LU.
 
 pub mod driver;
 
@@ -75,6 +86,7 @@ pub struct Circuit {
     pub input: usize,
     pub source_ohm: f64,
     pub elements: Vec<Element>,
+    pub plan: Plan,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -132,8 +144,9 @@ impl Circuit {
             let b = index(&d.between[1], &mut nodes);
             elements.push(Element { name: d.name.clone(), a, b, model: ElementModel::Driver(d.model.clone()), is_driver: true });
         }
-        let c = Circuit { nodes, input: 1, source_ohm: amp.output_ohm, elements };
+        let mut c = Circuit { nodes, input: 1, source_ohm: amp.output_ohm, elements, plan: Plan::default() };
         c.check_floating()?;
+        c.plan = Plan::new(&c);
         Ok(c)
     }
 
@@ -169,77 +182,394 @@ impl Circuit {
     }
 }
 
-/// The solution at one frequency, for a source EMF of 1 V.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Point {
-    pub f_hz: f64,
-    /// Node voltages, node 0 (the reference) included as 0.
-    pub v: Vec<Complex64>,
-    /// Current delivered by the amplifier into the input node.
-    pub i_in: Complex64,
-    /// Current through each element, from its first node to its second.
-    pub i_el: Vec<Complex64>,
-}
-
-impl Point {
-    /// Voltage across the amplifier terminals (the input) over the current into them.
-    pub fn input_impedance(&self, c: &Circuit) -> Complex64 {
-        (self.v[c.input] - self.v[0]) / self.i_in
-    }
-
-    /// Voltage across element `k`, first node minus second.
-    pub fn across(&self, c: &Circuit, k: usize) -> Complex64 {
-        self.v[c.elements[k].a] - self.v[c.elements[k].b]
-    }
-}
-
-/// Reusable buffers so a sweep allocates once.
-pub struct Workspace {
+/// The elimination plan of a circuit, fixed by its topology: which nodes are unknowns, the
+/// order they are eliminated in (minimum degree, so a ladder eliminates leaf first and fills
+/// nothing), and for each pivot the later unknowns it couples to once fill-in is counted.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Plan {
+    /// Unknown position of each node; None for the reference and, when the amplifier has no
+    /// output impedance, for the input (its voltage is the EMF).
+    slot: Vec<Option<usize>>,
+    /// Number of unknowns.
     n: usize,
-    m: Vec<Complex64>,
-    rhs: Vec<Complex64>,
-    zero_branches: Vec<usize>,
-    z: Vec<Complex64>,
+    /// Where each element's admittance goes in the matrix and the right-hand side.
+    stamps: Vec<Stamp>,
+    /// Per pivot p, the range of `col`/`row` holding the entries below it.
+    col_range: Vec<(usize, usize)>,
+    /// Flat index (i * n + p) of each entry below a pivot, and its row i.
+    col: Vec<usize>,
+    row: Vec<usize>,
+    /// The Schur-complement updates in the order the factorisation makes them.
+    update: Vec<usize>,
+    /// Flat indices of every entry the factorisation touches.
+    pattern: Vec<usize>,
+    /// Elements with the input node at one end, and +1 when the input is their first node.
+    at_input: Vec<(usize, f64)>,
+}
+
+/// The entries an element's admittance y adds to: flat matrix indices, and the right-hand side
+/// entry it feeds when its other end is the input held at the EMF.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Stamp {
+    /// Between two unknowns: +y at (a,a) and (b,b), -y at (max,min).
+    Between(usize, usize, usize),
+    /// From an unknown to a known node.
+    ToKnown(usize, Option<usize>),
+    /// Between known nodes (or a node and itself): only the input current sees it.
+    Outside,
+}
+
+impl Plan {
+    fn new(c: &Circuit) -> Plan {
+        let fixed_input = c.source_ohm == 0.0;
+        let unknown = |node: usize| node != 0 && !(fixed_input && node == c.input);
+        let nodes: Vec<usize> = (0..c.nodes.len()).filter(|&k| unknown(k)).collect();
+        let mut adj: Vec<std::collections::BTreeSet<usize>> = vec![Default::default(); c.nodes.len()];
+        for e in &c.elements {
+            if e.a != e.b && unknown(e.a) && unknown(e.b) {
+                adj[e.a].insert(e.b);
+                adj[e.b].insert(e.a);
+            }
+        }
+        // Greedy minimum degree; ties go to the lower node number so the plan is reproducible.
+        let mut left: std::collections::BTreeSet<usize> = nodes.iter().cloned().collect();
+        let mut order = Vec::new();
+        let mut coupled = Vec::new();
+        while let Some(&k) = left.iter().min_by_key(|&&k| (adj[k].len(), k)) {
+            left.remove(&k);
+            let nb: Vec<usize> = adj[k].iter().cloned().collect();
+            for &i in &nb {
+                adj[i].remove(&k);
+                for &j in &nb {
+                    if i != j {
+                        adj[i].insert(j);
+                    }
+                }
+            }
+            order.push(k);
+            coupled.push(nb);
+        }
+        let n = order.len();
+        let mut slot = vec![None; c.nodes.len()];
+        for (p, &k) in order.iter().enumerate() {
+            slot[k] = Some(p);
+        }
+        let stamps = c
+            .elements
+            .iter()
+            .map(|e| {
+                let feeds = |other: usize, p: usize| (other == c.input && fixed_input).then_some(p);
+                match (slot[e.a], slot[e.b]) {
+                    _ if e.a == e.b => Stamp::Outside,
+                    (Some(a), Some(b)) => Stamp::Between(a * n + a, b * n + b, a.max(b) * n + a.min(b)),
+                    (Some(a), None) => Stamp::ToKnown(a * n + a, feeds(e.b, a)),
+                    (None, Some(b)) => Stamp::ToKnown(b * n + b, feeds(e.a, b)),
+                    (None, None) => Stamp::Outside,
+                }
+            })
+            .collect();
+        let (mut col_range, mut col, mut row, mut update, mut pattern) = (Vec::new(), Vec::new(), Vec::new(), Vec::new(), Vec::new());
+        for (p, nb) in coupled.iter().enumerate() {
+            let mut below: Vec<usize> = nb.iter().map(|&k| slot[k].expect("an unknown")).collect();
+            below.sort_unstable();
+            col_range.push((col.len(), col.len() + below.len()));
+            pattern.push(p * n + p);
+            for (x, &i) in below.iter().enumerate() {
+                col.push(i * n + p);
+                row.push(i);
+                for &j in &below[x..] {
+                    update.push(j * n + i);
+                }
+            }
+        }
+        pattern.extend(&col);
+        pattern.extend(&update);
+        pattern.sort_unstable();
+        pattern.dedup();
+        let at_input =
+            c.elements.iter().enumerate().filter(|(_, e)| e.a != e.b && (e.a == c.input || e.b == c.input)).map(|(k, e)| (k, if e.a == c.input { 1.0 } else { -1.0 })).collect();
+        Plan { slot, n, stamps, col_range, col, row, update, pattern, at_input }
+    }
+}
+
+/// Buffers for solving `L` points at once with the plan. The lanes are independent
+/// factorisations run side by side: within one, every pivot waits for the one before it, so
+/// a single point leaves the processor idle between dependent steps; four interleaved points
+/// fill those gaps. The sweep and the Monte Carlo use four lanes, a single point one.
+#[derive(Debug, Clone)]
+pub struct Lanes<const L: usize> {
+    /// Element impedances, per element, one per lane; set these before [`Lanes::solve`].
+    pub z: Vec<[Complex64; L]>,
+    y: Vec<[Complex64; L]>,
+    a: Vec<[Complex64; L]>,
+    x: Vec<[Complex64; L]>,
+    t: Vec<[Complex64; L]>,
+    v: Vec<[Complex64; L]>,
+    i_in: [Complex64; L],
+}
+
+const C0: Complex64 = Complex64::new(0.0, 0.0);
+
+impl<const L: usize> Lanes<L> {
+    pub fn new(c: &Circuit) -> Self {
+        let n = c.plan.n;
+        let e = c.elements.len();
+        Lanes { z: vec![[C0; L]; e], y: vec![[C0; L]; e], a: vec![[C0; L]; n * n], x: vec![[C0; L]; n], t: vec![[C0; L]; n], v: vec![[C0; L]; c.nodes.len()], i_in: [C0; L] }
+    }
+
+    /// Voltage of node `k` in lane `l` (node 0 is the reference).
+    pub fn v(&self, l: usize, k: usize) -> Complex64 {
+        self.v[k][l]
+    }
+
+    /// Voltage across element `k` in lane `l`, first node minus second.
+    pub fn across(&self, c: &Circuit, l: usize, k: usize) -> Complex64 {
+        self.v[c.elements[k].a][l] - self.v[c.elements[k].b][l]
+    }
+
+    /// Current delivered by the amplifier in lane `l`.
+    pub fn i_in(&self, l: usize) -> Complex64 {
+        self.i_in[l]
+    }
+
+    /// Nodal analysis of every lane in the plan's order without pivoting: an LDL^T
+    /// factorisation of the complex-symmetric admittance matrix that touches only the
+    /// entries the plan names. A lane comes back false, its results meaningless, when an
+    /// element has zero impedance or a pivot is too small to trust; solve that point with
+    /// [`solve_impedances`], which falls back to pivoting.
+    pub fn solve(&mut self, c: &Circuit) -> [bool; L] {
+        let plan = &c.plan;
+        let n = plan.n;
+        let mut ok = [true; L];
+        let (a, x, t) = (&mut self.a, &mut self.x, &mut self.t);
+        for &p in &plan.pattern {
+            a[p] = [C0; L];
+        }
+        x.fill([C0; L]);
+        for (k, st) in plan.stamps.iter().enumerate() {
+            let y = inv_lanes(&self.z[k], &mut ok);
+            self.y[k] = y;
+            match *st {
+                Stamp::Between(aa, bb, ab) => {
+                    for l in 0..L {
+                        a[aa][l] += y[l];
+                        a[bb][l] += y[l];
+                        a[ab][l] -= y[l];
+                    }
+                }
+                Stamp::ToKnown(aa, feeds) => {
+                    for l in 0..L {
+                        a[aa][l] += y[l];
+                    }
+                    if let Some(r) = feeds {
+                        for l in 0..L {
+                            x[r][l] += y[l];
+                        }
+                    }
+                }
+                Stamp::Outside => {}
+            }
+        }
+        if let Some(i) = plan.slot[c.input] {
+            // The source as its Norton equivalent: 1 V behind the output impedance.
+            let ys = Complex64::new(1.0 / c.source_ohm, 0.0);
+            for l in 0..L {
+                a[i * n + i][l] += ys;
+                x[i][l] += ys;
+            }
+        }
+        let mut u = 0;
+        for (p, &(c0, c1)) in plan.col_range.iter().enumerate() {
+            let cols = &plan.col[c0..c1];
+            let d = a[p * n + p];
+            for l in 0..L {
+                let biggest = cols.iter().map(|&ip| a[ip][l].norm_sqr()).fold(0.0, f64::max);
+                ok[l] &= d[l].norm_sqr() > TAU * TAU * biggest;
+            }
+            let dinv = inv_lanes(&d, &mut ok);
+            let t = &mut t[..cols.len()];
+            for (tx, &ip) in t.iter_mut().zip(cols) {
+                *tx = a[ip];
+            }
+            for (xi, &ip) in cols.iter().enumerate() {
+                let mut lv = [C0; L];
+                for l in 0..L {
+                    lv[l] = t[xi][l] * dinv[l];
+                }
+                for tw in &t[xi..] {
+                    let target = &mut a[plan.update[u]];
+                    for l in 0..L {
+                        target[l] -= lv[l] * tw[l];
+                    }
+                    u += 1;
+                }
+                a[ip] = lv;
+            }
+            a[p * n + p] = dinv;
+        }
+        for (p, &(c0, c1)) in plan.col_range.iter().enumerate() {
+            let xp = x[p];
+            for (&ip, &i) in plan.col[c0..c1].iter().zip(&plan.row[c0..c1]) {
+                for l in 0..L {
+                    x[i][l] -= a[ip][l] * xp[l];
+                }
+            }
+        }
+        for (p, &(c0, c1)) in plan.col_range.iter().enumerate().rev() {
+            let mut acc = [C0; L];
+            for l in 0..L {
+                acc[l] = x[p][l] * a[p * n + p][l];
+            }
+            for (&ip, &i) in plan.col[c0..c1].iter().zip(&plan.row[c0..c1]) {
+                for l in 0..L {
+                    acc[l] -= a[ip][l] * x[i][l];
+                }
+            }
+            x[p] = acc;
+        }
+        for (k, s) in plan.slot.iter().enumerate() {
+            self.v[k] = match s {
+                Some(p) => x[*p],
+                None if k == c.input && k != 0 => [Complex64::new(1.0, 0.0); L],
+                None => [C0; L],
+            };
+        }
+        let mut i_in = [C0; L];
+        for &(k, sign) in &plan.at_input {
+            let e = &c.elements[k];
+            for (l, i) in i_in.iter_mut().enumerate() {
+                *i += self.y[k][l] * (self.v[e.a][l] - self.v[e.b][l]) * sign;
+            }
+        }
+        self.i_in = i_in;
+        ok
+    }
+}
+
+/// Reusable buffers for solving one point at a time. After a solve it holds that point's
+/// node voltages and input current, for a 1 V EMF.
+#[derive(Debug, Clone)]
+pub struct Workspace {
+    lane: Lanes<1>,
+    /// Currents of the elements whose impedance is zero at this point (the only currents
+    /// that cannot be found from the voltages).
+    zero: Vec<(usize, Complex64)>,
+    dense: Vec<Complex64>,
+    dense_rhs: Vec<Complex64>,
 }
 
 impl Workspace {
     pub fn new(c: &Circuit) -> Self {
-        Workspace { n: 0, m: Vec::new(), rhs: Vec::new(), zero_branches: Vec::new(), z: vec![Complex64::new(0.0, 0.0); c.elements.len()] }
+        Workspace { lane: Lanes::new(c), zero: Vec::new(), dense: Vec::new(), dense_rhs: Vec::new() }
+    }
+
+    /// Sets element `k`'s impedance for [`solve_impedances`].
+    pub fn set_z(&mut self, k: usize, z: Complex64) {
+        self.lane.z[k][0] = z;
+    }
+
+    fn z(&self, k: usize) -> Complex64 {
+        self.lane.z[k][0]
+    }
+
+    /// Voltage of node `k` (0 is the reference).
+    pub fn v(&self, k: usize) -> Complex64 {
+        self.lane.v(0, k)
+    }
+
+    /// Voltage across element `k`, first node minus second.
+    pub fn across(&self, c: &Circuit, k: usize) -> Complex64 {
+        self.lane.across(c, 0, k)
+    }
+
+    /// Current delivered by the amplifier into the input node.
+    pub fn i_in(&self) -> Complex64 {
+        self.lane.i_in(0)
+    }
+
+    /// Current through element `k`, from its first node to its second.
+    pub fn current(&self, c: &Circuit, k: usize) -> Complex64 {
+        match self.zero.iter().find(|z| z.0 == k) {
+            Some(z) => z.1,
+            None => self.across(c, k) / self.z(k),
+        }
+    }
+
+    /// Voltage across the amplifier terminals over the current into them.
+    pub fn input_impedance(&self, c: &Circuit) -> Complex64 {
+        self.v(c.input) / self.i_in()
     }
 }
 
 const ZERO_OHM: f64 = 1e-12;
 
-/// Solves the circuit at one frequency for a 1 V EMF.
-pub fn solve_point(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<Point, SolveError> {
-    solve_point_with(c, f_hz, ws, |k, f| c.elements[k].model.impedance(f))
+/// 1 / z with one division (num-complex's `inv` takes two).
+#[inline]
+pub fn inv(z: Complex64) -> Complex64 {
+    let s = 1.0 / z.norm_sqr();
+    Complex64::new(z.re * s, -z.im * s)
 }
 
-/// As [`solve_point`], with element impedances supplied by `z_of` (the Monte Carlo and the
-/// compensation search vary values without rebuilding the circuit).
-pub fn solve_point_with(c: &Circuit, f_hz: f64, ws: &mut Workspace, z_of: impl Fn(usize, f64) -> Complex64) -> Result<Point, SolveError> {
-    let nn = c.nodes.len() - 1; // unknown node voltages (node 0 is the reference)
-    ws.zero_branches.clear();
-    for k in 0..c.elements.len() {
-        ws.z[k] = z_of(k, f_hz);
-        if ws.z[k].norm() < ZERO_OHM {
-            ws.zero_branches.push(k);
-        }
+/// 1 / z in every lane, written so the divisions pack into vector instructions; a lane whose
+/// z is zero or not finite is marked not ok.
+#[inline]
+fn inv_lanes<const L: usize>(z: &[Complex64; L], ok: &mut [bool; L]) -> [Complex64; L] {
+    let mut m = [0.0; L];
+    for l in 0..L {
+        m[l] = z[l].norm_sqr();
+        ok[l] &= m[l] >= ZERO_OHM * ZERO_OHM && m[l].is_finite();
     }
-    let n = nn + 1 + ws.zero_branches.len();
-    ws.n = n;
-    ws.m.clear();
-    ws.m.resize(n * n, Complex64::new(0.0, 0.0));
-    ws.rhs.clear();
-    ws.rhs.resize(n, Complex64::new(0.0, 0.0));
-    let idx = |node: usize| if node == 0 { None } else { Some(node - 1) };
-    let m = &mut ws.m;
+    let mut s = [0.0; L];
+    for l in 0..L {
+        s[l] = 1.0 / m[l];
+    }
+    let mut y = [C0; L];
+    for l in 0..L {
+        y[l] = Complex64::new(z[l].re * s[l], -z[l].im * s[l]);
+    }
+    y
+}
+
+/// A pivot smaller than this fraction of the largest entry below it sends the point to the
+/// pivoting solver (threshold pivoting; growth per step stays under 1 + 1/TAU).
+const TAU: f64 = 1e-2;
+
+/// Solves the circuit at one frequency for a 1 V EMF; the result stays in `ws`.
+pub fn solve_point(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<(), SolveError> {
     for (k, e) in c.elements.iter().enumerate() {
-        let z = ws.z[k];
-        if z.norm() < ZERO_OHM {
+        ws.set_z(k, e.model.impedance(f_hz));
+    }
+    solve_impedances(c, f_hz, ws)
+}
+
+/// As [`solve_point`], with the element impedances already set (the Monte Carlo and the
+/// compensation search vary values without rebuilding the circuit). `f_hz` only names the
+/// frequency in an error.
+pub fn solve_impedances(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<(), SolveError> {
+    ws.zero.clear();
+    if !ws.lane.solve(c)[0] {
+        solve_dense(c, f_hz, ws)?;
+    }
+    Ok(())
+}
+
+/// The full modified-nodal system for element impedances `z`: node voltages (node 0 left
+/// out), the source's branch current, then one branch current per zero-impedance element.
+/// Fills `m` (row-major) and `rhs`; returns the size and the zero-impedance elements.
+fn mna(c: &Circuit, z: &[Complex64], m: &mut Vec<Complex64>, rhs: &mut Vec<Complex64>) -> (usize, Vec<usize>) {
+    let nn = c.nodes.len() - 1;
+    let zero_branches: Vec<usize> = (0..c.elements.len()).filter(|&k| z[k].norm() < ZERO_OHM).collect();
+    let n = nn + 1 + zero_branches.len();
+    m.clear();
+    m.resize(n * n, C0);
+    rhs.clear();
+    rhs.resize(n, C0);
+    let idx = |node: usize| if node == 0 { None } else { Some(node - 1) };
+    for (k, e) in c.elements.iter().enumerate() {
+        if z[k].norm() < ZERO_OHM {
             continue;
         }
-        let y = z.inv();
+        let y = inv(z[k]);
         let (a, b) = (idx(e.a), idx(e.b));
         if let Some(a) = a {
             m[a * n + a] += y;
@@ -255,43 +585,69 @@ pub fn solve_point_with(c: &Circuit, f_hz: f64, ws: &mut Workspace, z_of: impl F
     // Source branch: V(in) - V(0) + Zs I = E, and I flows into the input node.
     let s = nn;
     let inp = c.input - 1;
-    m[inp * n + s] -= Complex64::new(1.0, 0.0);
-    m[s * n + inp] += Complex64::new(1.0, 0.0);
+    let one = Complex64::new(1.0, 0.0);
+    m[inp * n + s] -= one;
+    m[s * n + inp] += one;
     m[s * n + s] += Complex64::new(c.source_ohm, 0.0);
-    ws.rhs[s] = Complex64::new(1.0, 0.0);
-    for (j, &k) in ws.zero_branches.iter().enumerate() {
+    rhs[s] = one;
+    for (j, &k) in zero_branches.iter().enumerate() {
         let row = nn + 1 + j;
         let e = &c.elements[k];
         if let Some(a) = idx(e.a) {
-            m[a * n + row] += Complex64::new(1.0, 0.0);
-            m[row * n + a] += Complex64::new(1.0, 0.0);
+            m[a * n + row] += one;
+            m[row * n + a] += one;
         }
         if let Some(b) = idx(e.b) {
-            m[b * n + row] -= Complex64::new(1.0, 0.0);
-            m[row * n + b] -= Complex64::new(1.0, 0.0);
+            m[b * n + row] -= one;
+            m[row * n + b] -= one;
         }
-        m[row * n + row] -= ws.z[k];
+        m[row * n + row] -= z[k];
     }
-    if let Err(row) = lu_solve(m, &mut ws.rhs, n) {
+    (n, zero_branches)
+}
+
+/// The full modified-nodal system of the circuit at `f_hz` (row-major matrix, right-hand
+/// side, size), for comparing linear solvers in the benchmarks.
+pub fn mna_system(c: &Circuit, f_hz: f64) -> (Vec<Complex64>, Vec<Complex64>, usize) {
+    let z: Vec<Complex64> = c.elements.iter().map(|e| e.model.impedance(f_hz)).collect();
+    let (mut m, mut rhs) = (Vec::new(), Vec::new());
+    let (n, _) = mna(c, &z, &mut m, &mut rhs);
+    (m, rhs, n)
+}
+
+/// Solves one point with the pivoting solver alone, skipping the plan: the fallback, exposed
+/// so benchmarks and tests can compare the two.
+pub fn solve_point_pivoting(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<(), SolveError> {
+    for (k, e) in c.elements.iter().enumerate() {
+        ws.set_z(k, e.model.impedance(f_hz));
+    }
+    solve_dense(c, f_hz, ws)
+}
+
+/// Full modified nodal analysis with partial pivoting: node voltages, the source's branch
+/// current and one branch current for each zero-impedance element. The fallback for what
+/// the plan cannot take, and the judge of singular networks.
+fn solve_dense(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<(), SolveError> {
+    let nn = c.nodes.len() - 1; // unknown node voltages (node 0 is the reference)
+    let z: Vec<Complex64> = ws.lane.z.iter().map(|z| z[0]).collect();
+    let (n, zero_branches) = mna(c, &z, &mut ws.dense, &mut ws.dense_rhs);
+    let s = nn;
+    let m = &mut ws.dense;
+    if let Err(row) = lu_solve(m, &mut ws.dense_rhs, n) {
         let node_names: Vec<String> = if row < nn { vec![c.nodes[row + 1].clone()] } else { vec![c.nodes[c.input].clone()] };
         let parts = c.elements.iter().filter(|e| node_names.iter().any(|nm| c.nodes[e.a] == *nm || c.nodes[e.b] == *nm)).map(|e| e.name.clone()).collect();
         return Err(SolveError::Singular { f_hz, nodes: node_names, parts });
     }
-    let mut v = Vec::with_capacity(nn + 1);
-    v.push(Complex64::new(0.0, 0.0));
-    v.extend_from_slice(&ws.rhs[..nn]);
-    let i_in = ws.rhs[s];
-    let mut i_el = Vec::with_capacity(c.elements.len());
-    let mut zb = 0;
-    for (k, e) in c.elements.iter().enumerate() {
-        if ws.zero_branches.get(zb) == Some(&k) {
-            i_el.push(ws.rhs[nn + 1 + zb]);
-            zb += 1;
-        } else {
-            i_el.push((v[e.a] - v[e.b]) / ws.z[k]);
-        }
+    ws.lane.v[0] = [C0];
+    for k in 0..nn {
+        ws.lane.v[k + 1] = [ws.dense_rhs[k]];
     }
-    Ok(Point { f_hz, v, i_in, i_el })
+    ws.lane.i_in = [ws.dense_rhs[s]];
+    ws.zero.clear();
+    for (j, &k) in zero_branches.iter().enumerate() {
+        ws.zero.push((k, ws.dense_rhs[nn + 1 + j]));
+    }
+    Ok(())
 }
 
 /// In-place LU with partial pivoting; the solution replaces `b`. Err(row) when singular.
@@ -332,21 +688,97 @@ fn lu_solve(m: &mut [Complex64], b: &mut [Complex64], n: usize) -> Result<(), us
     Ok(())
 }
 
-/// The whole sweep for one circuit.
+/// The whole sweep for one circuit, for a 1 V EMF: node voltages and input current at every
+/// frequency, stored flat.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Solution {
-    pub points: Vec<Point>,
+    pub freqs: Vec<f64>,
+    nodes: usize,
+    v: Vec<Complex64>,
+    i_in: Vec<Complex64>,
+    /// (point, element, current) for elements of zero impedance.
+    zero: Vec<(usize, usize, Complex64)>,
+}
+
+impl Solution {
+    pub fn len(&self) -> usize {
+        self.freqs.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.freqs.is_empty()
+    }
+
+    /// Voltage of node `k` at point `i`.
+    pub fn v(&self, i: usize, k: usize) -> Complex64 {
+        self.v[i * self.nodes + k]
+    }
+
+    /// Voltage across element `k` at point `i`, first node minus second.
+    pub fn across(&self, c: &Circuit, i: usize, k: usize) -> Complex64 {
+        self.v(i, c.elements[k].a) - self.v(i, c.elements[k].b)
+    }
+
+    /// Current through element `k` at point `i`, from its first node to its second.
+    pub fn current(&self, c: &Circuit, i: usize, k: usize) -> Complex64 {
+        self.current_through(c, i, k, c.elements[k].model.impedance(self.freqs[i]))
+    }
+
+    /// As [`Solution::current`], with the element's impedance at that point already known.
+    pub fn current_through(&self, c: &Circuit, i: usize, k: usize, z: Complex64) -> Complex64 {
+        match self.zero.iter().find(|z| z.0 == i && z.1 == k) {
+            Some(z) => z.2,
+            None => self.across(c, i, k) * inv(z),
+        }
+    }
+
+    /// Whether any element had zero impedance at any point (its current is then kept apart).
+    pub fn has_zero_impedance(&self) -> bool {
+        !self.zero.is_empty()
+    }
+
+    /// Current delivered by the amplifier at point `i`.
+    pub fn i_in(&self, i: usize) -> Complex64 {
+        self.i_in[i]
+    }
+
+    /// Voltage across the amplifier terminals over the current into them, at point `i`.
+    pub fn input_impedance(&self, c: &Circuit, i: usize) -> Complex64 {
+        self.v(i, c.input) / self.i_in[i]
+    }
 }
 
 pub fn solve(c: &Circuit, freqs: &[f64]) -> Result<Solution, SolveError> {
+    let mut lanes = Lanes::<4>::new(c);
     let mut ws = Workspace::new(c);
-    let points = freqs.iter().map(|&f| solve_point(c, f, &mut ws)).collect::<Result<Vec<_>, _>>()?;
-    Ok(Solution { points })
+    let nodes = c.nodes.len();
+    let mut s = Solution { freqs: freqs.to_vec(), nodes, v: Vec::with_capacity(freqs.len() * nodes), i_in: Vec::with_capacity(freqs.len()), zero: Vec::new() };
+    for (q, chunk) in freqs.chunks(4).enumerate() {
+        for (k, e) in c.elements.iter().enumerate() {
+            for l in 0..4 {
+                // A short last chunk repeats its last frequency in the spare lanes.
+                lanes.z[k][l] = e.model.impedance(chunk[l.min(chunk.len() - 1)]);
+            }
+        }
+        let ok = lanes.solve(c);
+        for (l, &f) in chunk.iter().enumerate() {
+            if ok[l] {
+                s.v.extend((0..nodes).map(|k| lanes.v(l, k)));
+                s.i_in.push(lanes.i_in(l));
+            } else {
+                solve_point(c, f, &mut ws)?;
+                s.v.extend((0..nodes).map(|k| ws.v(k)));
+                s.i_in.push(ws.i_in());
+                s.zero.extend(ws.zero.iter().map(|&(k, cur)| (4 * q + l, k, cur)));
+            }
+        }
+    }
+    Ok(s)
 }
 
 /// Level in dB and phase in degrees, wrapped to (-180, 180], of a complex ratio.
 pub fn db_phase(h: Complex64) -> (f64, f64) {
-    (20.0 * h.norm().max(1e-300).log10(), wrap_deg(h.arg().to_degrees()))
+    (10.0 * h.norm_sqr().max(1e-300).log10(), wrap_deg(h.arg().to_degrees()))
 }
 
 pub fn wrap_deg(mut d: f64) -> f64 {
@@ -380,6 +812,119 @@ mod tests {
         let mut m = vec![c(1.0), c(2.0), c(2.0), c(4.0)];
         let mut b = vec![c(1.0), c(1.0)];
         assert!(lu_solve(&mut m, &mut b, 2).is_err());
+    }
+
+    /// A circuit from (a, b, model) triples over nodes 0..n, node 1 the input.
+    fn circuit(n: usize, source_ohm: f64, parts: &[(usize, usize, ElementModel)]) -> Circuit {
+        let elements = parts.iter().enumerate().map(|(k, (a, b, m))| Element { name: format!("X{k}"), a: *a, b: *b, model: m.clone(), is_driver: false }).collect();
+        let mut c = Circuit { nodes: (0..n).map(|k| format!("N{k}")).collect(), input: 1, source_ohm, elements, plan: Plan::default() };
+        c.check_floating().unwrap();
+        c.plan = Plan::new(&c);
+        c
+    }
+
+    fn r(r: f64) -> ElementModel {
+        ElementModel::Resistor { r }
+    }
+    fn cap(c: f64, esr: f64) -> ElementModel {
+        ElementModel::Capacitor { c, esr, tan_delta: None }
+    }
+    fn ind(l: f64, dcr: f64) -> ElementModel {
+        ElementModel::Inductor { l, dcr }
+    }
+
+    /// Both solvers at one point: the plan (one lane) and the pivoting LU; true when the
+    /// plan took the point.
+    fn both(c: &Circuit, f: f64) -> (bool, Lanes<1>, Workspace) {
+        let mut planned = Lanes::<1>::new(c);
+        let mut dense = Workspace::new(c);
+        for (k, e) in c.elements.iter().enumerate() {
+            planned.z[k] = [e.model.impedance(f)];
+            dense.set_z(k, planned.z[k][0]);
+        }
+        let took = planned.solve(c)[0];
+        solve_dense(c, f, &mut dense).unwrap();
+        (took, planned, dense)
+    }
+
+    #[test]
+    fn planned_and_pivoting_solvers_agree() {
+        // A bridged (not series-parallel) network, a third-order ladder and a parallel notch,
+        // each with and without output impedance; the pivoting dense LU is the judge.
+        let bridge = vec![(1, 2, cap(4.7e-6, 0.02)), (1, 3, r(3.3)), (2, 3, ind(0.2e-3, 0.3)), (2, 0, r(6.0)), (3, 4, ind(1.0e-3, 0.4)), (4, 0, r(8.0)), (3, 0, cap(10e-6, 0.05))];
+        let ladder = vec![(1, 2, ind(1.5e-3, 0.5)), (2, 0, cap(22e-6, 0.1)), (2, 3, ind(0.6e-3, 0.3)), (3, 0, r(7.5))];
+        let notch = vec![(1, 2, r(1.0)), (2, 3, ind(2e-3, 0.0)), (2, 3, cap(4.7e-6, 0.0)), (3, 0, r(6.0))];
+        for (n, parts) in [(5, &bridge), (4, &ladder), (4, &notch)] {
+            for zs in [0.0, 0.05] {
+                let c = circuit(n, zs, parts);
+                for k in 0..200 {
+                    let f = 10.0 * 2500f64.powf(k as f64 / 199.0);
+                    let (took, p, d) = both(&c, f);
+                    if !took {
+                        continue;
+                    }
+                    for node in 0..n {
+                        assert!((p.v(0, node) - d.v(node)).norm() <= 1e-10 * d.v(node).norm().max(1e-6), "node {node} at {f} Hz");
+                    }
+                    assert!((p.i_in(0) / d.i_in() - 1.0).norm() < 1e-10, "input current at {f} Hz");
+                }
+            }
+        }
+        // The plan must take the ordinary points itself, or the speed claims are void.
+        let c = circuit(5, 0.05, &bridge);
+        assert!((0..50).all(|k| both(&c, 20.0 * 1000f64.powf(k as f64 / 49.0)).0));
+    }
+
+    #[test]
+    fn a_lossless_trap_at_resonance_falls_back_and_still_solves() {
+        // Series L-C from node 3 to the reference with no losses: node 2 (between L and C) is
+        // eliminated first, and at resonance its pivot vanishes, so the point must go to the
+        // pivoting solver.
+        let (l, cv): (f64, f64) = (1e-3, 10e-6);
+        let f0 = 1.0 / (2.0 * PI * (l * cv).sqrt());
+        let c = circuit(4, 0.0, &[(1, 3, r(2.0)), (3, 2, ind(l, 0.0)), (2, 0, cap(cv, 0.0)), (3, 0, r(8.0))]);
+        let (took, _, _) = both(&c, f0);
+        assert!(!took, "the plan must refuse the vanishing pivot");
+        let mut ws = Workspace::new(&c);
+        solve_point(&c, f0, &mut ws).unwrap();
+        // At resonance the trap shorts node 3: almost nothing reaches the 8 ohm load.
+        assert!(ws.v(3).norm() < 1e-6, "{}", ws.v(3));
+        assert!((ws.i_in() - Complex64::new(0.5, 0.0)).norm() < 1e-6);
+    }
+
+    #[test]
+    fn four_lanes_give_each_point_its_own_answer() {
+        // Four frequencies side by side, one of them the lossless trap's resonance: that lane
+        // alone is refused, and the others match one-lane solves bit for bit.
+        let (l, cv): (f64, f64) = (1e-3, 10e-6);
+        let f0 = 1.0 / (2.0 * PI * (l * cv).sqrt());
+        let c = circuit(4, 0.0, &[(1, 3, r(2.0)), (3, 2, ind(l, 0.0)), (2, 0, cap(cv, 0.0)), (3, 0, r(8.0))]);
+        let fs = [100.0, f0, 2000.0, 15_000.0];
+        let mut four = Lanes::<4>::new(&c);
+        for (k, e) in c.elements.iter().enumerate() {
+            for (lane, f) in fs.iter().enumerate() {
+                four.z[k][lane] = e.model.impedance(*f);
+            }
+        }
+        assert_eq!(four.solve(&c), [true, false, true, true]);
+        for lane in [0, 2, 3] {
+            let (took, one, _) = both(&c, fs[lane]);
+            assert!(took);
+            for node in 0..4 {
+                assert_eq!(four.v(lane, node), one.v(0, node));
+            }
+            assert_eq!(four.i_in(lane), one.i_in(0));
+        }
+    }
+
+    #[test]
+    fn zero_ohm_parts_carry_their_current() {
+        // A 0 ohm link in series with 8 ohm: the link's current comes from its branch row.
+        let c = circuit(3, 0.0, &[(1, 2, r(0.0)), (2, 0, r(8.0))]);
+        let mut ws = Workspace::new(&c);
+        solve_point(&c, 1000.0, &mut ws).unwrap();
+        assert!((ws.current(&c, 0) - Complex64::new(0.125, 0.0)).norm() < 1e-12);
+        assert!((ws.v(2) - Complex64::new(1.0, 0.0)).norm() < 1e-12);
     }
 
     #[test]

@@ -457,7 +457,7 @@ fn decode_network(node: &Node, ctx: &mut Ctx) -> Option<Network> {
             ctx.error(n.pos(), &f.at("drivers"), "no drivers: the network must drive at least one", None);
         }
     }
-    let net = Network { input: input?, parts, drivers };
+    let net = Network { input: input?, input_pos: f.key_pos("input").unwrap_or(f.pos), parts, drivers };
     Some(net)
 }
 
@@ -1136,7 +1136,7 @@ fn decode_report(node: &Node, ctx: &mut Ctx) -> (Template, Option<Vec<Block>>) {
 /// Builds the scenarios that can be built without solving, and reports what would stop
 /// the engine: a step that cannot apply, a floating node, a branch cut off from the input.
 fn check_scenarios(job: &Job, ctx: &mut Ctx) {
-    let pos_of = |name: &str, net: &Network| net.part(name).map(|p| p.pos).or_else(|| net.driver(name).map(|d| d.pos)).unwrap_or(Pos { line: 1, col: 1 });
+    let pos_of = |name: &str, net: &Network| net.part(name).map(|p| p.pos).or_else(|| net.driver(name).map(|d| d.pos)).unwrap_or(net.input_pos);
     for (name, msg) in job.network.connection_problems() {
         ctx.error(
             pos_of(&name, &job.network),

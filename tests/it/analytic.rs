@@ -10,7 +10,7 @@ fn level_at(yaml: &str, driver: &str, f: f64) -> (f64, f64) {
     let job = job_from(yaml);
     let c = Circuit::from_network(&job.network, &job.amplifier).unwrap();
     let s = engine::solve(&c, &[f]).unwrap();
-    engine::db_phase(s.points[0].across(&c, c.element(driver).unwrap()))
+    engine::db_phase(s.across(&c, 0, c.element(driver).unwrap()))
 }
 
 fn two_way(c: &str, l: &str, hp_shunt: &str, lp_shunt: &str) -> String {
@@ -65,11 +65,12 @@ fn energy_balance_at_every_frequency() {
         let job = voicekeep::job::load(&dir.join(sample)).unwrap();
         let f = analysis::analyse(&job).unwrap();
         for s in &f.scenes {
-            for p in &s.solution.points {
-                let vin = p.v[s.circuit.input];
-                let pin = (vin * p.i_in.conj()).re;
-                let sum: f64 = s.circuit.elements.iter().enumerate().map(|(k, e)| p.i_el[k].norm_sqr() * e.model.loss_ohm(p.f_hz)).sum();
-                assert!((pin - sum).abs() <= 1e-9 * pin.abs().max(1e-12), "{sample} {:?} at {} Hz: {pin} vs {sum}", s.scenario, p.f_hz);
+            let sol = &s.solution;
+            for (i, &f_hz) in sol.freqs.iter().enumerate() {
+                let vin = sol.v(i, s.circuit.input);
+                let pin = (vin * sol.i_in(i).conj()).re;
+                let sum: f64 = s.circuit.elements.iter().enumerate().map(|(k, e)| sol.current(&s.circuit, i, k).norm_sqr() * e.model.loss_ohm(f_hz)).sum();
+                assert!((pin - sum).abs() <= 1e-9 * pin.abs().max(1e-12), "{sample} {:?} at {f_hz} Hz: {pin} vs {sum}", s.scenario);
             }
         }
     }
