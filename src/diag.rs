@@ -67,23 +67,33 @@ pub fn suggest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) ->
     let lower = name.to_lowercase();
     candidates
         .into_iter()
-        .map(|c| (levenshtein(&lower, &c.to_lowercase()), c))
+        .map(|c| (edit_distance(&lower, &c.to_lowercase()), c))
         .filter(|(d, c)| *d <= (c.chars().count().max(2) / 3).max(1) || (*d <= 2 && c.len() > 3))
         .min_by_key(|(d, _)| *d)
         .map(|(_, c)| c)
 }
 
-fn levenshtein(a: &str, b: &str) -> usize {
-    let b: Vec<char> = b.chars().collect();
-    let mut prev: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.chars().enumerate() {
-        let mut cur = vec![i + 1; b.len() + 1];
-        for (j, cb) in b.iter().enumerate() {
-            cur[j + 1] = (prev[j] + usize::from(ca != *cb)).min(prev[j + 1] + 1).min(cur[j] + 1);
-        }
-        prev = cur;
+/// Edits (insert, delete, change, or swap of two neighbours) from `a` to `b`: the optimal
+/// string alignment distance, so a transposed pair such as `ers` for `esr` counts as one slip.
+fn edit_distance(a: &str, b: &str) -> usize {
+    let (a, b): (Vec<char>, Vec<char>) = (a.chars().collect(), b.chars().collect());
+    let mut d = vec![vec![0; b.len() + 1]; a.len() + 1];
+    for (i, row) in d.iter_mut().enumerate() {
+        row[0] = i;
     }
-    prev[b.len()]
+    for (j, cell) in d[0].iter_mut().enumerate() {
+        *cell = j;
+    }
+    for i in 1..=a.len() {
+        for j in 1..=b.len() {
+            let change = usize::from(a[i - 1] != b[j - 1]);
+            d[i][j] = (d[i - 1][j - 1] + change).min(d[i - 1][j] + 1).min(d[i][j - 1] + 1);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                d[i][j] = d[i][j].min(d[i - 2][j - 2] + 1);
+            }
+        }
+    }
+    d[a.len()][b.len()]
 }
 
 #[cfg(test)]
@@ -96,6 +106,9 @@ mod tests {
         assert_eq!(suggest("C3", ["C1", "C2", "L1"]), Some("C1"));
         assert_eq!(suggest("tolerence", ["value", "tolerance"]), Some("tolerance"));
         assert_eq!(suggest("frobnicate", ["value", "esr"]), None);
+        // A swapped pair is one slip, even in a three-letter name.
+        assert_eq!(suggest("ers", ["value", "esr", "tan_delta", "dcr", "at"]), Some("esr"));
+        assert_eq!(suggest("dcr", ["value", "esr"]), None);
     }
 
     #[test]

@@ -874,8 +874,10 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
                                 k.pos,
                                 &format!("{}.{}.between", f.at(verb), k.name),
                                 "insert takes `between: [NODE, PART]`: the node and the part it goes in series with",
-                                Some("e.g. between: [IN, C1] puts the new part between node IN and C1".into()),
+                                Some("e.g. between: [IN, C1] puts the new part between node IN and C1; to connect a part between two nodes, use `add`".into()),
                             );
+                            // Its later mentions (a compensate entry) would only repeat this.
+                            ctx.failed.push(part.name.clone());
                             continue;
                         }
                     };

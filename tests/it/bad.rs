@@ -280,3 +280,16 @@ fn a_wrong_compensate_entry_is_not_also_called_missing() {
     o.code(1).stderr_has(&pos_of(&text, "TW", 0)).stderr_has("there is no driver TW").stderr_has("the network's drivers are: HF, LF").stderr_has("1 problem found");
     assert!(!o.stderr.contains("no `compensate` entry"), "{}", o.stderr);
 }
+
+#[test]
+fn an_insert_between_two_nodes_is_one_message_pointing_to_add() {
+    // `between: [IN, H1]` names two nodes; the entry for R9 is not then called unknown.
+    let text = BASE.replacen("between: [IN, C1], value: auto", "between: [IN, H1], value: auto", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "R9", 0)).stderr_has("insert takes `between: [NODE, PART]`").stderr_has("use `add`").stderr_has("1 problem found");
+}
+
+#[test]
+fn a_transposed_field_name_gets_its_suggestion() {
+    bad("C1: { value: 2.9 uF, esr: 1.6 ohm }", "C1: { value: 2.9 uF, ers: 1.6 ohm }", "ers: 1.6", 0, &["unknown field `ers`", "did you mean `esr`?"]);
+}

@@ -141,3 +141,14 @@ fn job_blocks_set_the_report_order() {
     assert!(intro < load && load < levels, "blocks out of order");
     assert!(!text.contains("Compensating resistors"), "a block the job left out was printed");
 }
+
+#[test]
+fn basis_lines_keep_their_punctuation_and_say_where_the_rated_impedance_comes_from() {
+    // Typst ends an embedded expression at a `;`, which once swallowed the separators here.
+    let (_, text) = render("samples/two-way-recap.yaml", "customer");
+    assert!(text.contains("288 points. Levels are the mean"), "{text}");
+    assert!(text.contains("288 points; EPDR after Howard"), "{text}");
+    assert!(text.contains("of rated); rated impedance 8 ohm, from the job"), "{text}");
+    let (_, text) = render("samples/two-way-recap.yaml", "archive");
+    assert!(text.contains("(21.9 V RMS); \u{201c}sine\u{201d} is the worst frequency"), "{text}");
+}
