@@ -7,7 +7,7 @@ use std::fmt::Write;
 
 use crate::analysis::Findings;
 use crate::model::{Job, Scenario};
-use crate::units::{format_si, trim_number, Quantity};
+use crate::units::trim_number;
 
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
 
@@ -58,6 +58,7 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "driver_power": f.stress.drivers.iter().map(to_value).collect::<Vec<_>>(),
         "drive": { "e_rms_v": f.stress.e_rms, "amplifier": f.stress.amplifier, "programme": f.stress.programme, "programme_text": f.stress.programme_text },
         "load": load,
+        "rated_impedance_basis": job.rated_impedance_basis(),
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
     });
     if let Some(t) = &f.tolerance {
@@ -73,16 +74,7 @@ pub fn json(job: &Job, f: &Findings) -> Value {
     out
 }
 
-pub fn ohm(v: f64) -> String {
-    format_si(v, Quantity::Resistance, 3)
-}
-
-pub fn hz(v: Option<f64>) -> String {
-    match v {
-        Some(f) => format_si(f, Quantity::Frequency, 3),
-        None => "-".into(),
-    }
-}
+pub use crate::units::{hz, ohm};
 
 pub fn db(v: f64) -> String {
     format!("{:+.2} dB", v)
@@ -160,7 +152,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
         }
     }
     let _ = writeln!(s);
-    let _ = writeln!(s, "LOAD (at the amplifier terminals; {})", f.loads[0].rated_basis);
+    let _ = writeln!(s, "LOAD (at the amplifier terminals; {})", job.rated_impedance_basis());
     for (sc, l) in Scenario::ALL.iter().zip(&f.loads) {
         let _ = writeln!(
             s,

@@ -228,6 +228,19 @@ pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
 }
 
 /// Formats a value with an SI prefix and about `digits` significant digits: `3.3 uF`, `680 mohm`.
+/// A resistance as every output prints it: three significant figures with its prefix.
+pub fn ohm(v: f64) -> String {
+    format_si(v, Quantity::Resistance, 3)
+}
+
+/// A frequency as every output prints it, or "-" where there is none.
+pub fn hz(v: Option<f64>) -> String {
+    match v {
+        Some(f) => format_si(f, Quantity::Frequency, 3),
+        None => "-".into(),
+    }
+}
+
 pub fn format_si(value: f64, quantity: Quantity, digits: usize) -> String {
     let unit = quantity.symbol();
     if quantity == Quantity::Percent {

@@ -3,6 +3,8 @@
 
 use num_complex::Complex64;
 
+use crate::units::{hz, ohm};
+
 /// EPDR for a class-B output stage driven to full swing into |Z| at phase phi:
 /// |Z| / (8 sin^3(30 deg + |phi|/3)), |phi| clamped to 90 deg.
 /// Concept: K. Howard, Stereophile 2007; closed form derived in check-values.md by maximising
@@ -29,9 +31,9 @@ pub struct Load {
     /// The lowest |Z| inside the rated frequency range, which the 80 % rule judges.
     pub rated_range_min_ohm: f64,
     pub rated_floor_ohm: f64,
-    /// The rated impedance the 80 % rule judges against, and where it comes from.
+    /// The rated impedance the 80 % rule judges against (where it comes from:
+    /// `Job::rated_impedance_basis`).
     pub rated_ohm: f64,
-    pub rated_basis: String,
     pub verdict: String,
     pub reason: String,
 }
@@ -60,30 +62,12 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
     let holds = rmin >= floor;
     // Common practice: below about 3 ohm |Z| or 2 ohm EPDR many amplifiers run hot or current-limit.
     let (verdict, reason) = if min.0 < 2.0 || emin.0 < 1.5 {
-        ("over", format!("the load falls to {:.2} ohm (EPDR {:.2} ohm): too low for most amplifiers; check the amplifier maker's minimum load", min.0, emin.0))
+        ("over", format!("the load falls to {} (EPDR {}): too low for most amplifiers; check the amplifier maker's minimum load", ohm(min.0), ohm(emin.0)))
     } else if min.0 < 3.0 || emin.0 < 2.0 || !holds {
-        let why =
-            if holds { String::new() } else { format!("|Z| falls to {:.2} ohm, below 80 % of the rated {} ohm (IEC 60268-5); ", rmin, crate::units::trim_number(rated_ohm, 3)) };
-        (
-            "check",
-            format!(
-                "{why}minimum {:.2} ohm at {}, EPDR {:.2} ohm: hard on many amplifiers at high level",
-                min.0,
-                crate::units::format_si(min.1, crate::units::Quantity::Frequency, 3),
-                emin.0
-            ),
-        )
+        let why = if holds { String::new() } else { format!("|Z| falls to {}, below 80 % of the rated {} (IEC 60268-5); ", ohm(rmin), ohm(rated_ohm)) };
+        ("check", format!("{why}minimum {} at {}, EPDR {}: hard on many amplifiers at high level", ohm(min.0), hz(Some(min.1)), ohm(emin.0)))
     } else {
-        (
-            "ok",
-            format!(
-                "minimum {:.2} ohm at {}, EPDR {:.2} ohm at {}: a normal load",
-                min.0,
-                crate::units::format_si(min.1, crate::units::Quantity::Frequency, 3),
-                emin.0,
-                crate::units::format_si(emin.1, crate::units::Quantity::Frequency, 3)
-            ),
-        )
+        ("ok", format!("minimum {} at {}, EPDR {} at {}: a normal load", ohm(min.0), hz(Some(min.1)), ohm(emin.0), hz(Some(emin.1))))
     };
     Load {
         min_ohm: min.0,
@@ -94,7 +78,6 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
         rated_range_min_ohm: rmin,
         rated_floor_ohm: floor,
         rated_ohm,
-        rated_basis: String::new(),
         verdict: verdict.into(),
         reason,
     }

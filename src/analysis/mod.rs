@@ -261,7 +261,7 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
         .collect();
 
     let rated = job.rated_impedance_ohm();
-    let loads = [0, 1, 2].map(|i| load::Load { rated_basis: job.rated_impedance_basis(), ..load::load(&freqs, &scenes[i].z, rated, job.info.rated_range) });
+    let loads = [0, 1, 2].map(|i| load::load(&freqs, &scenes[i].z, rated, job.info.rated_range));
     let stress = stress::stress(job, &freqs, &scenes);
     let health = health::flags(job, &freqs, &bands, &scenes);
     let tolerance = job.analysis.tolerance.as_ref().map(|t| tolerance::run(job, t, &freqs, &bands, &scenes));

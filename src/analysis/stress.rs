@@ -7,11 +7,7 @@ use crate::analysis::programme;
 use crate::analysis::Scene;
 use crate::engine::ElementModel;
 use crate::model::{Job, PartKind, Programme, Rating, Scenario};
-use crate::units::{format_si, trim_number, Quantity};
-
-fn hz(f: f64) -> String {
-    format_si(f, Quantity::Frequency, 3)
-}
+use crate::units::{hz, trim_number};
 
 /// Stock resistor wattages a rating is chosen from (common practice for crossover resistors).
 pub const STOCK_WATTS: [f64; 9] = [3.0, 5.0, 10.0, 15.0, 20.0, 25.0, 50.0, 75.0, 100.0];
@@ -93,7 +89,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
             for (i, &f_hz) in s.solution.freqs.iter().enumerate() {
                 let z = el.model.impedance(f_hz);
                 let v2 = s.solution.across(&s.circuit, i, k).norm_sqr();
-                let i2 = if s.solution.has_zero_impedance() { s.solution.current_through(&s.circuit, i, k, z).norm_sqr() } else { v2 / z.norm_sqr() };
+                let i2 = s.solution.current_through(&s.circuit, i, k, z).norm_sqr();
                 let pw = e2 * i2 * z.re;
                 if pw > sine.0 {
                     sine = (pw, f_hz);
@@ -116,7 +112,12 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                     }
                     Some(r) if sine.0 > r => (
                         "check",
-                        format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", hz(sine.1), trim_number(sine.0, 3), trim_number(r, 3)),
+                        format!(
+                            "a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low",
+                            hz(Some(sine.1)),
+                            trim_number(sine.0, 3),
+                            trim_number(r, 3)
+                        ),
                     ),
                     Some(r) => ("ok", format!("{} W of programme against a {} W rating", trim_number(prog, 3), trim_number(r, 3))),
                     None => ("ok", "no power rating on record for this driver".to_string()),
@@ -189,7 +190,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                                 "check",
                                 format!(
                                     "a full-level test tone near {} overheats {} ({} W in a {} W part): keep bench test levels low",
-                                    hz(sine.1),
+                                    hz(Some(sine.1)),
                                     el.name,
                                     trim_number(sine.0, 3),
                                     trim_number(r, 3)
@@ -210,12 +211,12 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                     };
                     row.rating_v = rating;
                     (row.verdict, row.reason) = match rating {
-                        None => ("check", format!("peaks at {} V near {}; no voltage rating on record", trim_number(peak.0, 3), hz(peak.1))),
-                        Some(r) if peak.0 > r => ("over", format!("peaks at {} V near {}, above its {} V rating", trim_number(peak.0, 3), hz(peak.1), trim_number(r, 3))),
+                        None => ("check", format!("peaks at {} V near {}; no voltage rating on record", trim_number(peak.0, 3), hz(Some(peak.1)))),
+                        Some(r) if peak.0 > r => ("over", format!("peaks at {} V near {}, above its {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), trim_number(r, 3))),
                         Some(r) if peak.0 > CAPACITOR_MARGIN * r => {
                             ("check", format!("peaks at {} V, above 80 % of its {} V rating (common practice)", trim_number(peak.0, 3), trim_number(r, 3)))
                         }
-                        Some(r) => ("ok", format!("peaks at {} V near {} against a {} V rating", trim_number(peak.0, 3), hz(peak.1), trim_number(r, 3))),
+                        Some(r) => ("ok", format!("peaks at {} V near {} against a {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), trim_number(r, 3))),
                     };
                 }
                 PartKind::Inductor => {
@@ -227,9 +228,9 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                     };
                     row.rating_a = rating;
                     (row.verdict, row.reason) = match rating {
-                        Some(r) if irms.0 > r => ("over", format!("carries {} A near {}, above its {} A rating", trim_number(irms.0, 3), hz(irms.1), trim_number(r, 3))),
+                        Some(r) if irms.0 > r => ("over", format!("carries {} A near {}, above its {} A rating", trim_number(irms.0, 3), hz(Some(irms.1)), trim_number(r, 3))),
                         Some(r) if irms.0 > CAPACITOR_MARGIN * r => ("check", format!("carries {} A, above 80 % of its {} A rating", trim_number(irms.0, 3), trim_number(r, 3))),
-                        _ => ("ok", format!("carries up to {} A near {}; {} W in its DCR on programme", trim_number(irms.0, 3), hz(irms.1), trim_number(prog, 2))),
+                        _ => ("ok", format!("carries up to {} A near {}; {} W in its DCR on programme", trim_number(irms.0, 3), hz(Some(irms.1)), trim_number(prog, 2))),
                     };
                 }
             }

@@ -8,7 +8,7 @@ use num_complex::Complex64;
 use rayon::prelude::*;
 
 use crate::analysis::{Band, Scene};
-use crate::engine::{self, Circuit, ElementModel, Lanes};
+use crate::engine::{self, Circuit, ElementModel, Sweeper};
 use crate::model::{Distribution, Job, Scenario, ToleranceRuns};
 
 /// At most this many sweep points take part in the Monte Carlo.
@@ -80,20 +80,6 @@ fn draw(rng: &mut Rng, t: f64, dist: Distribution) -> f64 {
     }
 }
 
-const LANES: usize = 4;
-
-/// Buffers for one thread: four points at a time, and one for the points the plan refuses.
-struct Workspace {
-    lanes: Lanes<LANES>,
-    one: engine::Workspace,
-}
-
-impl Workspace {
-    fn new(c: &Circuit) -> Self {
-        Workspace { lanes: Lanes::new(c), one: engine::Workspace::new(c) }
-    }
-}
-
 /// How a part's impedance depends on its value, at each frequency of the grid: z = a + b g,
 /// where g is the value's factor (resistor, inductor) or its inverse (capacitor; an ESR from
 /// tan delta scales with the reactance, so it sits in b too). A driver is all a.
@@ -137,38 +123,25 @@ impl Basis {
 /// Band-mean level (dB re EMF) of each driver, with element k's value scaled by factors[k].
 /// With `curves`, also each driver's |V|^2 at every grid point (driver-major), left squared
 /// because only its order statistics are needed and dB keeps order.
-fn band_levels(c: &Circuit, ws: &mut Workspace, basis: &Basis, drivers: &[usize], bands: &[Vec<usize>], factors: &[f64], curves: Option<&mut [f64]>) -> Vec<f64> {
+fn band_levels(c: &Circuit, ws: &mut Sweeper, basis: &Basis, drivers: &[usize], bands: &[Vec<usize>], factors: &[f64], curves: Option<&mut [f64]>) -> Vec<f64> {
     let g = basis.gains(factors);
     let ne = basis.elements;
     let freqs = &basis.freqs;
     let mut power = vec![vec![f64::NAN; freqs.len()]; drivers.len()];
-    for (q, chunk) in freqs.chunks(LANES).enumerate() {
-        for (k, gk) in g.iter().enumerate() {
-            for l in 0..LANES {
-                // A short last chunk repeats its last point in the spare lanes.
-                let i = q * LANES + l.min(chunk.len() - 1);
-                ws.lanes.z[k][l] = basis.a[i * ne + k] + basis.b[i * ne + k] * gk;
-            }
-        }
-        let ok = ws.lanes.solve(c);
-        for (l, f) in chunk.iter().enumerate() {
-            let i = q * LANES + l;
-            if ok[l] {
+    // A point that cannot be solved stays NaN and its run drops out of the quantiles.
+    engine::sweep(
+        c,
+        ws,
+        freqs,
+        |i, k| basis.a[i * ne + k] + basis.b[i * ne + k] * g[k],
+        |i, point| {
+            if let Ok(p) = point {
                 for (j, &k) in drivers.iter().enumerate() {
-                    power[j][i] = ws.lanes.across(c, l, k).norm_sqr().max(1e-300);
-                }
-                continue;
-            }
-            for k in 0..ne {
-                ws.one.set_z(k, ws.lanes.z[k][l]);
-            }
-            if engine::solve_impedances(c, *f, &mut ws.one).is_ok() {
-                for (j, &k) in drivers.iter().enumerate() {
-                    power[j][i] = ws.one.across(c, k).norm_sqr().max(1e-300);
+                    power[j][i] = p.across(c, k).norm_sqr().max(1e-300);
                 }
             }
-        }
-    }
+        },
+    );
     if let Some(out) = curves {
         for (j, p) in power.iter().enumerate() {
             out[j * freqs.len()..(j + 1) * freqs.len()].copy_from_slice(p);
@@ -225,7 +198,7 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
     // Every spread is relative to the original design with nominal parts.
     let reference: Vec<f64> = {
         let c = &scenes[0].circuit;
-        let mut ws = Workspace::new(c);
+        let mut ws = Sweeper::new(c);
         let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
         band_levels(c, &mut ws, &Basis::new(c, &grid), &ds, &grid_bands, &vec![1.0; c.elements.len()], None)
     };
@@ -242,7 +215,7 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
         let keep = s.scenario == Scenario::AsLeft;
         let mut kept = if keep { vec![0.0; t.runs * per_run] } else { Vec::new() };
         let mut means = vec![0.0; t.runs * ds.len()];
-        let work = |ws: &mut Workspace, run: usize, mean: &mut [f64], curve: Option<&mut [f64]>| {
+        let work = |ws: &mut Sweeper, run: usize, mean: &mut [f64], curve: Option<&mut [f64]>| {
             let factors: Vec<f64> = streams
                 .iter()
                 .map(|st| match st {
@@ -256,9 +229,9 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
             }
         };
         if keep {
-            means.par_chunks_mut(ds.len()).zip(kept.par_chunks_mut(per_run)).enumerate().for_each_init(|| Workspace::new(c), |ws, (run, (m, k))| work(ws, run, m, Some(k)));
+            means.par_chunks_mut(ds.len()).zip(kept.par_chunks_mut(per_run)).enumerate().for_each_init(|| Sweeper::new(c), |ws, (run, (m, k))| work(ws, run, m, Some(k)));
         } else {
-            means.par_chunks_mut(ds.len()).enumerate().for_each_init(|| Workspace::new(c), |ws, (run, m)| work(ws, run, m, None));
+            means.par_chunks_mut(ds.len()).enumerate().for_each_init(|| Sweeper::new(c), |ws, (run, m)| work(ws, run, m, None));
         }
         for (j, name) in driver_names.iter().enumerate() {
             let v: Vec<f64> = means.chunks(ds.len()).map(|m| m[j] - reference[j]).collect();
@@ -286,7 +259,7 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
     let s = &scenes[2];
     let c = &s.circuit;
     let basis = Basis::new(c, &grid);
-    let mut ws = Workspace::new(c);
+    let mut ws = Sweeper::new(c);
     let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
     let mut ranking = Vec::new();
     for (k, e) in c.elements.iter().enumerate() {

@@ -556,9 +556,9 @@ pub fn solve_impedances(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<()
 /// The full modified-nodal system for element impedances `z`: node voltages (node 0 left
 /// out), the source's branch current, then one branch current per zero-impedance element.
 /// Fills `m` (row-major) and `rhs`; returns the size and the zero-impedance elements.
-fn mna(c: &Circuit, z: &[Complex64], m: &mut Vec<Complex64>, rhs: &mut Vec<Complex64>) -> (usize, Vec<usize>) {
+fn mna(c: &Circuit, z: impl Fn(usize) -> Complex64, m: &mut Vec<Complex64>, rhs: &mut Vec<Complex64>) -> (usize, Vec<usize>) {
     let nn = c.nodes.len() - 1;
-    let zero_branches: Vec<usize> = (0..c.elements.len()).filter(|&k| z[k].norm() < ZERO_OHM).collect();
+    let zero_branches: Vec<usize> = (0..c.elements.len()).filter(|&k| z(k).norm() < ZERO_OHM).collect();
     let n = nn + 1 + zero_branches.len();
     m.clear();
     m.resize(n * n, C0);
@@ -566,10 +566,11 @@ fn mna(c: &Circuit, z: &[Complex64], m: &mut Vec<Complex64>, rhs: &mut Vec<Compl
     rhs.resize(n, C0);
     let idx = |node: usize| if node == 0 { None } else { Some(node - 1) };
     for (k, e) in c.elements.iter().enumerate() {
-        if z[k].norm() < ZERO_OHM {
+        let zk = z(k);
+        if zk.norm() < ZERO_OHM {
             continue;
         }
-        let y = inv(z[k]);
+        let y = inv(zk);
         let (a, b) = (idx(e.a), idx(e.b));
         if let Some(a) = a {
             m[a * n + a] += y;
@@ -601,7 +602,7 @@ fn mna(c: &Circuit, z: &[Complex64], m: &mut Vec<Complex64>, rhs: &mut Vec<Compl
             m[b * n + row] -= one;
             m[row * n + b] -= one;
         }
-        m[row * n + row] -= z[k];
+        m[row * n + row] -= z(k);
     }
     (n, zero_branches)
 }
@@ -609,9 +610,8 @@ fn mna(c: &Circuit, z: &[Complex64], m: &mut Vec<Complex64>, rhs: &mut Vec<Compl
 /// The full modified-nodal system of the circuit at `f_hz` (row-major matrix, right-hand
 /// side, size), for comparing linear solvers in the benchmarks.
 pub fn mna_system(c: &Circuit, f_hz: f64) -> (Vec<Complex64>, Vec<Complex64>, usize) {
-    let z: Vec<Complex64> = c.elements.iter().map(|e| e.model.impedance(f_hz)).collect();
     let (mut m, mut rhs) = (Vec::new(), Vec::new());
-    let (n, _) = mna(c, &z, &mut m, &mut rhs);
+    let (n, _) = mna(c, |k| c.elements[k].model.impedance(f_hz), &mut m, &mut rhs);
     (m, rhs, n)
 }
 
@@ -629,8 +629,8 @@ pub fn solve_point_pivoting(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Resul
 /// the plan cannot take, and the judge of singular networks.
 fn solve_dense(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<(), SolveError> {
     let nn = c.nodes.len() - 1; // unknown node voltages (node 0 is the reference)
-    let z: Vec<Complex64> = ws.lane.z.iter().map(|z| z[0]).collect();
-    let (n, zero_branches) = mna(c, &z, &mut ws.dense, &mut ws.dense_rhs);
+    let Workspace { lane, dense, dense_rhs, .. } = ws;
+    let (n, zero_branches) = mna(c, |k| lane.z[k][0], dense, dense_rhs);
     let s = nn;
     let m = &mut ws.dense;
     if let Err(row) = lu_solve(m, &mut ws.dense_rhs, n) {
@@ -732,11 +732,6 @@ impl Solution {
         }
     }
 
-    /// Whether any element had zero impedance at any point (its current is then kept apart).
-    pub fn has_zero_impedance(&self) -> bool {
-        !self.zero.is_empty()
-    }
-
     /// Current delivered by the amplifier at point `i`.
     pub fn i_in(&self, i: usize) -> Complex64 {
         self.i_in[i]
@@ -748,32 +743,110 @@ impl Solution {
     }
 }
 
-pub fn solve(c: &Circuit, freqs: &[f64]) -> Result<Solution, SolveError> {
-    let mut lanes = Lanes::<4>::new(c);
-    let mut ws = Workspace::new(c);
-    let nodes = c.nodes.len();
-    let mut s = Solution { freqs: freqs.to_vec(), nodes, v: Vec::with_capacity(freqs.len() * nodes), i_in: Vec::with_capacity(freqs.len()), zero: Vec::new() };
+/// Buffers for [`sweep`]: four lanes for the plan, one point for the points it refuses.
+#[derive(Debug, Clone)]
+pub struct Sweeper {
+    lanes: Lanes<4>,
+    one: Workspace,
+}
+
+impl Sweeper {
+    pub fn new(c: &Circuit) -> Self {
+        Sweeper { lanes: Lanes::new(c), one: Workspace::new(c) }
+    }
+}
+
+/// A point [`sweep`] has solved: a lane of the plan, or the pivoting fallback.
+pub enum Solved<'a> {
+    Lane(&'a Lanes<4>, usize),
+    One(&'a Workspace),
+}
+
+impl Solved<'_> {
+    /// Voltage of node `k`.
+    pub fn v(&self, k: usize) -> Complex64 {
+        match self {
+            Solved::Lane(lanes, l) => lanes.v(*l, k),
+            Solved::One(ws) => ws.v(k),
+        }
+    }
+
+    /// Voltage across element `k`, first node minus second.
+    pub fn across(&self, c: &Circuit, k: usize) -> Complex64 {
+        self.v(c.elements[k].a) - self.v(c.elements[k].b)
+    }
+
+    /// Current delivered by the amplifier.
+    pub fn i_in(&self) -> Complex64 {
+        match self {
+            Solved::Lane(lanes, l) => lanes.i_in(*l),
+            Solved::One(ws) => ws.i_in(),
+        }
+    }
+
+    /// Currents of the elements of zero impedance (only the fallback takes those).
+    pub fn zero_currents(&self) -> &[(usize, Complex64)] {
+        match self {
+            Solved::Lane(..) => &[],
+            Solved::One(ws) => &ws.zero,
+        }
+    }
+}
+
+/// Solves every point of `freqs`, element `k`'s impedance at point `i` being `z_at(i, k)`:
+/// four points at a time through the plan, a refused point alone through the pivoting
+/// solver. Each point's result goes to `each` with its index, in order.
+pub fn sweep(c: &Circuit, sw: &mut Sweeper, freqs: &[f64], z_at: impl Fn(usize, usize) -> Complex64, mut each: impl FnMut(usize, Result<Solved<'_>, SolveError>)) {
+    let ne = c.elements.len();
     for (q, chunk) in freqs.chunks(4).enumerate() {
-        for (k, e) in c.elements.iter().enumerate() {
+        for k in 0..ne {
             for l in 0..4 {
-                // A short last chunk repeats its last frequency in the spare lanes.
-                lanes.z[k][l] = e.model.impedance(chunk[l.min(chunk.len() - 1)]);
+                // A short last chunk repeats its last point in the spare lanes.
+                sw.lanes.z[k][l] = z_at(4 * q + l.min(chunk.len() - 1), k);
             }
         }
-        let ok = lanes.solve(c);
+        let ok = sw.lanes.solve(c);
         for (l, &f) in chunk.iter().enumerate() {
+            let i = 4 * q + l;
             if ok[l] {
-                s.v.extend((0..nodes).map(|k| lanes.v(l, k)));
-                s.i_in.push(lanes.i_in(l));
-            } else {
-                solve_point(c, f, &mut ws)?;
-                s.v.extend((0..nodes).map(|k| ws.v(k)));
-                s.i_in.push(ws.i_in());
-                s.zero.extend(ws.zero.iter().map(|&(k, cur)| (4 * q + l, k, cur)));
+                each(i, Ok(Solved::Lane(&sw.lanes, l)));
+                continue;
+            }
+            for k in 0..ne {
+                sw.one.set_z(k, sw.lanes.z[k][l]);
+            }
+            match solve_impedances(c, f, &mut sw.one) {
+                Ok(()) => each(i, Ok(Solved::One(&sw.one))),
+                Err(e) => each(i, Err(e)),
             }
         }
     }
-    Ok(s)
+}
+
+pub fn solve(c: &Circuit, freqs: &[f64]) -> Result<Solution, SolveError> {
+    let nodes = c.nodes.len();
+    let mut s = Solution { freqs: freqs.to_vec(), nodes, v: Vec::with_capacity(freqs.len() * nodes), i_in: Vec::with_capacity(freqs.len()), zero: Vec::new() };
+    let mut first_error = None;
+    sweep(
+        c,
+        &mut Sweeper::new(c),
+        freqs,
+        |i, k| c.elements[k].model.impedance(freqs[i]),
+        |i, point| match point {
+            Ok(p) => {
+                s.v.extend((0..nodes).map(|k| p.v(k)));
+                s.i_in.push(p.i_in());
+                s.zero.extend(p.zero_currents().iter().map(|&(k, cur)| (i, k, cur)));
+            }
+            Err(e) => {
+                first_error.get_or_insert(e);
+            }
+        },
+    );
+    match first_error {
+        Some(e) => Err(e),
+        None => Ok(s),
+    }
 }
 
 /// Level in dB and phase in degrees, wrapped to (-180, 180], of a complex ratio.

@@ -404,7 +404,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: Vec<String>) -
         load,
         load_verdict: f.loads[2].reason.clone(),
         load_change,
-        load_rated: f.loads[2].rated_basis.clone(),
+        load_rated: job.rated_impedance_basis(),
         health,
         tolerance,
         safety,

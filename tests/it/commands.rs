@@ -323,6 +323,7 @@ fn the_rated_impedance_says_where_it_comes_from() {
     let o = Cli::new().job(job).args(["solve", "{job}", "--format", "json"]).run();
     let v: serde_json::Value = serde_json::from_str(&o.stdout).unwrap();
     assert_eq!(v["load"]["as_left"]["rated_ohm"], 8.0);
+    assert!(v["rated_impedance_basis"].as_str().unwrap().contains("8 ohm assumed"));
     let o = Cli::new().args(["solve", "samples/two-way-recap.yaml"]).run();
     o.code(0).stdout_has("rated impedance 8 ohm, from the job");
 }
