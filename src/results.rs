@@ -31,7 +31,7 @@ pub fn json(job: &Job, f: &Findings) -> Value {
                 d.name.clone(),
                 json!({
                     "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
-                    "phase_deg": s.phase[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+                    "phase_deg": s.phase_deg(i).iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
                 }),
             );
         }

@@ -3,7 +3,7 @@
 //! alternatives (an E12 pair, an L-pad at the driver, restoring each lost ESR in place).
 
 use crate::analysis::eseries::{best_e12_pair, round_to};
-use crate::analysis::{crossing, frequency_order, Band, Scene};
+use crate::analysis::{crossing, driver_levels, frequency_order, Band, Scene};
 use crate::engine::{self, Circuit, ElementModel, SolveError, Workspace};
 use crate::model::{ChangeStep, CompensateEntry, ESeries, Job, Network, Part, PartKind, Patch, Role, Scenario};
 
@@ -288,10 +288,10 @@ struct Judged {
 }
 
 fn judge(job: &Job, net: &Network, freqs: &[f64], bands: &[Band], reference: &Scene, driver: usize) -> Result<Judged, SolveError> {
-    let scene = Scene::build(Scenario::AsLeft, net.clone(), job, freqs)?;
-    let k = scene.driver_index(&job.network.drivers[driver].name).unwrap_or(driver);
-    let dev: Vec<f64> = bands[driver].idx.iter().map(|&i| scene.db[k][i] - reference.db[driver][i]).collect();
-    Ok(Judged { rms: rms(&dev), worst: worst(&dev), crossover: neighbour_crossover(freqs, bands, &scene.db, driver) })
+    let db = driver_levels(net, job, freqs)?;
+    let k = net.drivers.iter().position(|d| d.name == job.network.drivers[driver].name).unwrap_or(driver);
+    let dev: Vec<f64> = bands[driver].idx.iter().map(|&i| db[k][i] - reference.db[driver][i]).collect();
+    Ok(Judged { rms: rms(&dev), worst: worst(&dev), crossover: neighbour_crossover(freqs, bands, &db, driver) })
 }
 
 /// The crossover of `driver` with its nearest neighbour in frequency (the lower one first).

@@ -11,40 +11,128 @@ pub mod tolerance;
 
 use num_complex::Complex64;
 
-use crate::engine::{self, Circuit, Solution, SolveError};
+use crate::engine::{self, Circuit, SolveError, Sweeper};
 use crate::model::{Job, Network, Scenario};
 
-/// One scenario, solved over the sweep.
+/// One scenario, solved over the sweep in a single pass: what the findings need is kept,
+/// the node voltages are not (a 100,000-point sweep would hold megabytes of them).
 #[derive(Debug, Clone)]
 pub struct Scene {
     pub scenario: Scenario,
     pub network: Network,
     pub circuit: Circuit,
-    pub solution: Solution,
-    /// Per driver (network order): level in dB re the EMF, and phase in degrees.
+    /// Per driver (network order): the voltage across it per volt of EMF.
+    pub h: Vec<Vec<Complex64>>,
+    /// Per driver: level in dB re the EMF.
     pub db: Vec<Vec<f64>>,
-    pub phase: Vec<Vec<f64>>,
+    /// Input impedance at every sweep point.
     pub z: Vec<Complex64>,
+    /// Per circuit element: its largest voltage, current and power over the sweep.
+    pub peaks: Vec<Peaks>,
+}
+
+/// An element's extremes over the sweep for a 1 V EMF, each with the sweep index where it
+/// first occurs, and its power weighted by the programme spectrum.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Peaks {
+    /// Largest |V|^2 across it.
+    pub v2: (f64, usize),
+    /// Largest |I|^2 through it.
+    pub i2: (f64, usize),
+    /// Largest real power into it, |I|^2 Re Z.
+    pub power: (f64, usize),
+    /// Sum over the sweep of the programme weight times the real power.
+    pub programme: f64,
+}
+
+impl Peaks {
+    #[inline]
+    fn add(&mut self, i: usize, v2: f64, i2: f64, power: f64, weight: f64) {
+        if v2 > self.v2.0 {
+            self.v2 = (v2, i);
+        }
+        if i2 > self.i2.0 {
+            self.i2 = (i2, i);
+        }
+        if power > self.power.0 {
+            self.power = (power, i);
+        }
+        self.programme += weight * power;
+    }
+}
+
+/// What one pass over the sweep keeps: each driver's voltage and, unless only the levels
+/// are wanted, the input impedance and each element's peaks.
+struct Pass {
+    h: Vec<Vec<Complex64>>,
+    z: Vec<Complex64>,
+    peaks: Vec<Peaks>,
+}
+
+/// Solves `c` at every frequency of `freqs` once. With `weights` (the programme spectrum's, one
+/// per frequency) the pass also keeps the input impedance and each element's peaks.
+fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>) -> Result<Pass, SolveError> {
+    let drivers: Vec<usize> = network.drivers.iter().map(|d| c.element(&d.name).expect("every driver is an element")).collect();
+    let mut h: Vec<Vec<Complex64>> = drivers.iter().map(|_| Vec::with_capacity(freqs.len())).collect();
+    let mut z = Vec::with_capacity(if weights.is_some() { freqs.len() } else { 0 });
+    let mut peaks = vec![Peaks::default(); if weights.is_some() { c.elements.len() } else { 0 }];
+    let mut first_error = None;
+    let kernels = c.kernels();
+    engine::sweep(
+        c,
+        &mut Sweeper::new(c),
+        freqs,
+        |i, k| kernels[k].at(freqs[i]),
+        |i, point| match point {
+            Ok(p) => {
+                for (hd, &k) in h.iter_mut().zip(&drivers) {
+                    hd.push(p.across(c, k));
+                }
+                if let Some(weights) = weights {
+                    z.push(p.input_impedance(c));
+                    let w = weights[i];
+                    p.each_element(c, |k, v2, i2, power| peaks[k].add(i, v2, i2, power, w));
+                }
+            }
+            Err(e) => {
+                first_error.get_or_insert(e);
+            }
+        },
+    );
+    match first_error {
+        Some(e) => Err(e),
+        None => Ok(Pass { h, z, peaks }),
+    }
+}
+
+fn levels_db(h: &[Vec<Complex64>]) -> Vec<Vec<f64>> {
+    h.iter().map(|hd| hd.iter().map(|v| engine::db(*v)).collect()).collect()
+}
+
+/// Each driver's level (dB re the EMF, network order) at every point of `freqs`: for a
+/// candidate network that is only compared, not reported.
+pub fn driver_levels(network: &Network, job: &Job, freqs: &[f64]) -> Result<Vec<Vec<f64>>, SolveError> {
+    let c = Circuit::from_network(network, &job.amplifier)?;
+    Ok(levels_db(&pass(&c, network, freqs, None)?.h))
 }
 
 impl Scene {
-    pub fn build(scenario: Scenario, network: Network, job: &Job, freqs: &[f64]) -> Result<Scene, SolveError> {
+    /// Solves `network` at every frequency of `freqs`; `weights` are the programme spectrum's
+    /// weights at those frequencies ([`programme::weights`]).
+    pub fn build(scenario: Scenario, network: Network, job: &Job, freqs: &[f64], weights: &[f64]) -> Result<Scene, SolveError> {
         let circuit = Circuit::from_network(&network, &job.amplifier)?;
-        let solution = engine::solve(&circuit, freqs)?;
-        let mut db = Vec::new();
-        let mut phase = Vec::new();
-        for d in &network.drivers {
-            let k = circuit.element(&d.name).expect("every driver is an element");
-            let (a, p): (Vec<f64>, Vec<f64>) = (0..solution.len()).map(|i| engine::db_phase(solution.across(&circuit, i, k))).unzip();
-            db.push(a);
-            phase.push(p);
-        }
-        let z = (0..solution.len()).map(|i| solution.input_impedance(&circuit, i)).collect();
-        Ok(Scene { scenario, network, circuit, solution, db, phase, z })
+        let Pass { h, z, peaks } = pass(&circuit, &network, freqs, Some(weights))?;
+        let db = levels_db(&h);
+        Ok(Scene { scenario, network, circuit, h, db, z, peaks })
     }
 
     pub fn driver_index(&self, name: &str) -> Option<usize> {
         self.network.drivers.iter().position(|d| d.name == name)
+    }
+
+    /// Driver `k`'s phase in degrees, wrapped to (-180, 180], at every sweep point.
+    pub fn phase_deg(&self, k: usize) -> Vec<f64> {
+        self.h[k].iter().map(|v| engine::wrap_deg(v.arg().to_degrees())).collect()
     }
 }
 
@@ -93,9 +181,9 @@ pub fn corners(freqs: &[f64], db: &[f64], drop_db: f64) -> (Option<f64>, Option<
 /// Where two drivers' levels cross between the frequencies `from` and `to`, interpolated in
 /// log frequency (the first crossing going up).
 pub fn crossing(freqs: &[f64], lower: &[f64], upper: &[f64], from: f64, to: f64) -> Option<f64> {
-    let d: Vec<f64> = lower.iter().zip(upper).map(|(a, b)| a - b).collect();
-    (0..freqs.len().saturating_sub(1)).filter(|&i| freqs[i] >= from && freqs[i + 1] <= to).find(|&i| d[i] >= 0.0 && d[i + 1] < 0.0).map(|i| {
-        let t = d[i] / (d[i] - d[i + 1]);
+    let d = |i: usize| lower[i] - upper[i];
+    (0..freqs.len().saturating_sub(1)).filter(|&i| freqs[i] >= from && freqs[i + 1] <= to).find(|&i| d(i) >= 0.0 && d(i + 1) < 0.0).map(|i| {
+        let t = d(i) / (d(i) - d(i + 1));
         (freqs[i].ln() + t * (freqs[i + 1].ln() - freqs[i].ln())).exp()
     })
 }
@@ -187,8 +275,9 @@ pub fn frequency_order(bands: &[Band]) -> Vec<usize> {
 
 pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
     let freqs = job.analysis.sweep.frequencies();
-    let designed = Scene::build(Scenario::AsDesigned, job.network.clone(), job, &freqs).map_err(|e| AnalysisError::Solve(Scenario::AsDesigned, e))?;
-    let found = Scene::build(Scenario::AsFound, job.as_found(), job, &freqs).map_err(|e| AnalysisError::Solve(Scenario::AsFound, e))?;
+    let weights = programme::weights(job.analysis.programme, &freqs);
+    let designed = Scene::build(Scenario::AsDesigned, job.network.clone(), job, &freqs, &weights).map_err(|e| AnalysisError::Solve(Scenario::AsDesigned, e))?;
+    let found = Scene::build(Scenario::AsFound, job.as_found(), job, &freqs, &weights).map_err(|e| AnalysisError::Solve(Scenario::AsFound, e))?;
     let unsolved = job.as_left_unsolved().map_err(AnalysisError::Step)?;
 
     // Bands: the compensate entry's band where one names the driver, else the passband.
@@ -204,7 +293,7 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
         .collect();
 
     let plan = compensate::plan(job, &freqs, &bands, &designed, &found, &unsolved).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
-    let left = Scene::build(Scenario::AsLeft, plan.network.clone(), job, &freqs).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
+    let left = Scene::build(Scenario::AsLeft, plan.network.clone(), job, &freqs, &weights).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
 
     let scenes = [designed, found, left];
     let levels = job
@@ -283,9 +372,8 @@ fn acoustic_sum(scenes: &[Scene; 3], freqs: &[f64]) -> Option<[Vec<f64>; 3]> {
                     let mut sum = Complex64::new(0.0, 0.0);
                     for (k, (d, t)) in s.network.drivers.iter().zip(&tables).enumerate() {
                         let (spl, ph) = engine::driver::interp_log(&t.freq_hz, &t.spl_db, &t.phase_deg, *f, false);
-                        let h = Complex64::from_polar(10f64.powf(s.db[k][fi] / 20.0), s.phase[k][fi].to_radians());
                         let sign = if d.inverted { -1.0 } else { 1.0 };
-                        sum += Complex64::from_polar(10f64.powf(spl / 20.0), ph.to_radians()) * h * sign;
+                        sum += Complex64::from_polar(10f64.powf(spl / 20.0), ph.to_radians()) * s.h[k][fi] * sign;
                     }
                     20.0 * sum.norm().max(1e-12).log10()
                 })

@@ -76,32 +76,15 @@ pub fn choose_rating(programme_w: f64) -> f64 {
 pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
     let e = job.amplifier.e_rms();
     let e2 = e * e;
-    let w = programme::weights(job.analysis.programme, freqs);
     let mut rows = Vec::new();
     let mut drivers = Vec::new();
     for s in scenes {
         for (k, el) in s.circuit.elements.iter().enumerate() {
-            let mut sine = (0.0, freqs[0]);
-            let mut prog = 0.0;
-            // Largest |V|^2 across the part and |I|^2 through it (per volt of EMF), and where.
-            let mut v2max = (0.0, freqs[0]);
-            let mut i2max = (0.0, freqs[0]);
-            for (i, &f_hz) in s.solution.freqs.iter().enumerate() {
-                let z = el.model.impedance(f_hz);
-                let v2 = s.solution.across(&s.circuit, i, k).norm_sqr();
-                let i2 = s.solution.current_through(&s.circuit, i, k, z).norm_sqr();
-                let pw = e2 * i2 * z.re;
-                if pw > sine.0 {
-                    sine = (pw, f_hz);
-                }
-                prog += w[i] * pw;
-                if v2 > v2max.0 {
-                    v2max = (v2, f_hz);
-                }
-                if i2 > i2max.0 {
-                    i2max = (i2, f_hz);
-                }
-            }
+            // The scene's peaks are per volt of EMF, with the programme weights of the job.
+            let pk = &s.peaks[k];
+            let sine = (e2 * pk.power.0, freqs[pk.power.1]);
+            let prog = e2 * pk.programme;
+            let (v2max, i2max) = ((pk.v2.0, freqs[pk.v2.1]), (pk.i2.0, freqs[pk.i2.1]));
             let peak = (std::f64::consts::SQRT_2 * e * v2max.0.sqrt(), v2max.1);
             let irms = (e * i2max.0.sqrt(), i2max.1);
             if el.is_driver {

@@ -70,6 +70,62 @@ impl ElementModel {
     }
 }
 
+/// An element's impedance with what does not depend on frequency worked out once, for
+/// sweeps that evaluate it at every point: a capacitor's 1/C, Small's motional admittance
+/// terms. Same values as [`ElementModel::impedance`] (to rounding); tested against it.
+#[derive(Debug, Clone, Copy)]
+pub enum Kernel<'a> {
+    /// r + j w l: a resistor, an inductor with its DCR, Re + Le.
+    Series { r: f64, l: f64 },
+    /// ESR (or tan delta / (w C)) - j / (w C).
+    Capacitor { esr: f64, inv_c: f64, tan_delta: Option<f64> },
+    /// Re + j w Le + 1 / (g + j (w cm - lf / w)): Small's model with g = 1/Res, cm = Cmes,
+    /// lf = 1/Lces.
+    Small { re: f64, le: f64, g: f64, cm: f64, lf: f64 },
+    /// Anything else (Leach's inductance, a measured table) through the model itself.
+    Model(&'a ElementModel),
+}
+
+impl<'a> Kernel<'a> {
+    pub fn of(m: &'a ElementModel) -> Kernel<'a> {
+        use crate::model::VoiceCoilInductance as Vc;
+        match m {
+            ElementModel::Resistor { r } => Kernel::Series { r: *r, l: 0.0 },
+            ElementModel::Inductor { l, dcr } => Kernel::Series { r: *dcr, l: *l },
+            ElementModel::Capacitor { c, esr, tan_delta } => Kernel::Capacitor { esr: *esr, inv_c: 1.0 / c, tan_delta: *tan_delta },
+            ElementModel::Driver(DriverModel::Resistance(r)) => Kernel::Series { r: *r, l: 0.0 },
+            ElementModel::Driver(DriverModel::VoiceCoil { re, inductance, resonance }) => {
+                let le = match inductance {
+                    Vc::None => 0.0,
+                    Vc::Simple(le) => *le,
+                    Vc::Leach { .. } => return Kernel::Model(m),
+                };
+                match resonance {
+                    None => Kernel::Series { r: *re, l: le },
+                    // Small, JAES 20(5) 1972: Res = Re Qms/Qes, Lces = Re/(2 pi fs Qes), Cmes = Qes/(2 pi fs Re).
+                    Some(r) => Kernel::Small { re: *re, le, g: r.qes / (re * r.qms), cm: r.qes / (2.0 * PI * r.fs * re), lf: 2.0 * PI * r.fs * r.qes / re },
+                }
+            }
+            ElementModel::Driver(DriverModel::Table(_)) => Kernel::Model(m),
+        }
+    }
+
+    /// Impedance at `f_hz`.
+    #[inline]
+    pub fn at(&self, f_hz: f64) -> Complex64 {
+        let w = 2.0 * PI * f_hz;
+        match *self {
+            Kernel::Series { r, l } => Complex64::new(r, w * l),
+            Kernel::Capacitor { esr, inv_c, tan_delta } => {
+                let x = inv_c / w;
+                Complex64::new(tan_delta.map_or(esr, |d| d * x), -x)
+            }
+            Kernel::Small { re, le, g, cm, lf } => Complex64::new(re, w * le) + inv(Complex64::new(g, w * cm - lf / w)),
+            Kernel::Model(m) => m.impedance(f_hz),
+        }
+    }
+}
+
 #[derive(Debug, Clone, PartialEq)]
 pub struct Element {
     pub name: String,
@@ -179,6 +235,11 @@ impl Circuit {
 
     pub fn size(&self) -> usize {
         self.nodes.len()
+    }
+
+    /// Each element's [`Kernel`], in element order.
+    pub fn kernels(&self) -> Vec<Kernel<'_>> {
+        self.elements.iter().map(|e| Kernel::of(&e.model)).collect()
     }
 }
 
@@ -650,8 +711,10 @@ fn solve_dense(c: &Circuit, f_hz: f64, ws: &mut Workspace) -> Result<(), SolveEr
     Ok(())
 }
 
-/// In-place LU with partial pivoting; the solution replaces `b`. Err(row) when singular.
-fn lu_solve(m: &mut [Complex64], b: &mut [Complex64], n: usize) -> Result<(), usize> {
+/// In-place LU with partial pivoting of the row-major `n` x `n` matrix `m`; the solution
+/// replaces `b`. Err(row) when singular. Public for the benchmarks, which compare it with the
+/// plan and with nalgebra.
+pub fn lu_solve(m: &mut [Complex64], b: &mut [Complex64], n: usize) -> Result<(), usize> {
     let scale = m.iter().map(|x| x.norm()).fold(0.0, f64::max).max(1e-300);
     for col in 0..n {
         let (piv, mag) = (col..n).map(|r| (r, m[r * n + col].norm())).fold((col, -1.0), |best, cur| if cur.1 > best.1 { cur } else { best });
@@ -721,14 +784,9 @@ impl Solution {
 
     /// Current through element `k` at point `i`, from its first node to its second.
     pub fn current(&self, c: &Circuit, i: usize, k: usize) -> Complex64 {
-        self.current_through(c, i, k, c.elements[k].model.impedance(self.freqs[i]))
-    }
-
-    /// As [`Solution::current`], with the element's impedance at that point already known.
-    pub fn current_through(&self, c: &Circuit, i: usize, k: usize, z: Complex64) -> Complex64 {
         match self.zero.iter().find(|z| z.0 == i && z.1 == k) {
             Some(z) => z.2,
-            None => self.across(c, i, k) * inv(z),
+            None => self.across(c, i, k) * inv(c.elements[k].model.impedance(self.freqs[i])),
         }
     }
 
@@ -784,6 +842,33 @@ impl Solved<'_> {
         }
     }
 
+    /// Voltage across the amplifier terminals over the current into them.
+    pub fn input_impedance(&self, c: &Circuit) -> Complex64 {
+        self.v(c.input) / self.i_in()
+    }
+
+    /// Calls `f(k, v2, i2, p)` for every element `k` with the squared magnitudes of its
+    /// voltage and current and the real power into it (|I|^2 Re Z, which is |V|^2 Re Y).
+    #[inline]
+    pub fn each_element(&self, c: &Circuit, mut f: impl FnMut(usize, f64, f64, f64)) {
+        match self {
+            Solved::Lane(lanes, l) => {
+                let l = *l;
+                for (k, (e, y)) in c.elements.iter().zip(&lanes.y).enumerate() {
+                    let v2 = (lanes.v[e.a][l] - lanes.v[e.b][l]).norm_sqr();
+                    let y = y[l];
+                    f(k, v2, v2 * y.norm_sqr(), v2 * y.re);
+                }
+            }
+            Solved::One(ws) => {
+                for k in 0..c.elements.len() {
+                    let i2 = ws.current(c, k).norm_sqr();
+                    f(k, ws.across(c, k).norm_sqr(), i2, i2 * ws.z(k).re);
+                }
+            }
+        }
+    }
+
     /// Currents of the elements of zero impedance (only the fallback takes those).
     pub fn zero_currents(&self) -> &[(usize, Complex64)] {
         match self {
@@ -827,11 +912,12 @@ pub fn solve(c: &Circuit, freqs: &[f64]) -> Result<Solution, SolveError> {
     let nodes = c.nodes.len();
     let mut s = Solution { freqs: freqs.to_vec(), nodes, v: Vec::with_capacity(freqs.len() * nodes), i_in: Vec::with_capacity(freqs.len()), zero: Vec::new() };
     let mut first_error = None;
+    let kernels = c.kernels();
     sweep(
         c,
         &mut Sweeper::new(c),
         freqs,
-        |i, k| c.elements[k].model.impedance(freqs[i]),
+        |i, k| kernels[k].at(freqs[i]),
         |i, point| match point {
             Ok(p) => {
                 s.v.extend((0..nodes).map(|k| p.v(k)));
@@ -849,9 +935,14 @@ pub fn solve(c: &Circuit, freqs: &[f64]) -> Result<Solution, SolveError> {
     }
 }
 
+/// Level in dB of a complex ratio (10 log10 |h|^2: no square root).
+pub fn db(h: Complex64) -> f64 {
+    10.0 * h.norm_sqr().max(1e-300).log10()
+}
+
 /// Level in dB and phase in degrees, wrapped to (-180, 180], of a complex ratio.
 pub fn db_phase(h: Complex64) -> (f64, f64) {
-    (10.0 * h.norm_sqr().max(1e-300).log10(), wrap_deg(h.arg().to_degrees()))
+    (db(h), wrap_deg(h.arg().to_degrees()))
 }
 
 pub fn wrap_deg(mut d: f64) -> f64 {
@@ -870,6 +961,31 @@ mod tests {
 
     fn c(v: f64) -> Complex64 {
         Complex64::new(v, 0.0)
+    }
+
+    #[test]
+    fn kernels_give_the_models_impedances() {
+        use crate::model::{ImpedanceTable, Resonance, VoiceCoilInductance as Vc};
+        let small = || Some(Resonance { fs: 32.0, qms: 3.5, qes: 0.38 });
+        let models = [
+            ElementModel::Resistor { r: 6.2 },
+            ElementModel::Inductor { l: 2.2e-3, dcr: 0.6 },
+            ElementModel::Capacitor { c: 33e-6, esr: 0.1, tan_delta: None },
+            ElementModel::Capacitor { c: 10e-6, esr: 0.0, tan_delta: Some(0.08) },
+            ElementModel::Driver(DriverModel::Resistance(8.0)),
+            ElementModel::Driver(DriverModel::VoiceCoil { re: 5.8, inductance: Vc::Simple(1.2e-3), resonance: None }),
+            ElementModel::Driver(DriverModel::VoiceCoil { re: 5.8, inductance: Vc::Simple(1.2e-3), resonance: small() }),
+            ElementModel::Driver(DriverModel::VoiceCoil { re: 6.0, inductance: Vc::None, resonance: small() }),
+            ElementModel::Driver(DriverModel::VoiceCoil { re: 6.0, inductance: Vc::Leach { k: 0.05, n: 0.7 }, resonance: small() }),
+            ElementModel::Driver(DriverModel::Table(ImpedanceTable { file: "t".into(), freq_hz: vec![10.0, 30e3], ohm: vec![6.0, 20.0], phase_deg: vec![10.0, 40.0] })),
+        ];
+        for m in &models {
+            let k = Kernel::of(m);
+            for f in [20.0, 31.7, 32.0, 440.0, 3000.0, 19_999.0] {
+                let (a, b) = (k.at(f), m.impedance(f));
+                assert!((a - b).norm() <= 1e-13 * b.norm(), "{m:?} at {f} Hz: {a} vs {b}");
+            }
+        }
     }
 
     #[test]

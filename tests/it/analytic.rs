@@ -65,12 +65,43 @@ fn energy_balance_at_every_frequency() {
         let job = voicekeep::job::load(&dir.join(sample)).unwrap();
         let f = analysis::analyse(&job).unwrap();
         for s in &f.scenes {
-            let sol = &s.solution;
+            let sol = engine::solve(&s.circuit, &f.freqs).unwrap();
             for (i, &f_hz) in sol.freqs.iter().enumerate() {
                 let vin = sol.v(i, s.circuit.input);
                 let pin = (vin * sol.i_in(i).conj()).re;
                 let sum: f64 = s.circuit.elements.iter().enumerate().map(|(k, e)| sol.current(&s.circuit, i, k).norm_sqr() * e.model.loss_ohm(f_hz)).sum();
                 assert!((pin - sum).abs() <= 1e-9 * pin.abs().max(1e-12), "{sample} {:?} at {f_hz} Hz: {pin} vs {sum}", s.scenario);
+            }
+        }
+    }
+}
+
+#[test]
+fn scene_peaks_match_the_stored_sweep() {
+    // The scene keeps each element's extremes from one pass over the sweep; worked out again
+    // here from the engine's full solution (node voltages, currents from V / Z) they agree.
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    for sample in ["samples/two-way-recap.yaml", "samples/three-way-mid-table.yaml", "samples/repair-like-for-like.yaml"] {
+        let job = voicekeep::job::load(&dir.join(sample)).unwrap();
+        let f = analysis::analyse(&job).unwrap();
+        let w = programme::weights(job.analysis.programme, &f.freqs);
+        for s in &f.scenes {
+            let sol = engine::solve(&s.circuit, &f.freqs).unwrap();
+            for (k, e) in s.circuit.elements.iter().enumerate() {
+                let at = |i: usize| {
+                    let (v2, i2) = (sol.across(&s.circuit, i, k).norm_sqr(), sol.current(&s.circuit, i, k).norm_sqr());
+                    (v2, i2, i2 * e.model.impedance(f.freqs[i]).re)
+                };
+                let all: Vec<(f64, f64, f64)> = (0..f.freqs.len()).map(at).collect();
+                let max = |g: fn(&(f64, f64, f64)) -> f64| all.iter().map(g).fold(0.0, f64::max);
+                let p = &s.peaks[k];
+                let close = |a: f64, b: f64| (a - b).abs() <= 1e-9 * b.abs().max(1e-15);
+                let what = format!("{sample} {:?} {}", s.scenario, e.name);
+                assert!(close(p.v2.0, max(|x| x.0)) && close(all[p.v2.1].0, p.v2.0), "{what}: |V|^2");
+                assert!(close(p.i2.0, max(|x| x.1)) && close(all[p.i2.1].1, p.i2.0), "{what}: |I|^2");
+                assert!(close(p.power.0, max(|x| x.2)) && close(all[p.power.1].2, p.power.0), "{what}: power");
+                let prog: f64 = all.iter().zip(&w).map(|(x, w)| w * x.2).sum();
+                assert!(close(p.programme, prog), "{what}: programme {} vs {prog}", p.programme);
             }
         }
     }
