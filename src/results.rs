@@ -26,12 +26,13 @@ pub fn json(job: &Job, f: &Findings) -> Value {
     let mut scenarios = Map::new();
     for s in &f.scenes {
         let mut drivers = Map::new();
+        let phases = s.phases_deg(&f.freqs);
         for (i, d) in s.network.drivers.iter().enumerate() {
             drivers.insert(
                 d.name.clone(),
                 json!({
                     "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
-                    "phase_deg": s.phase_deg(i).iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+                    "phase_deg": phases[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
                 }),
             );
         }

@@ -21,9 +21,9 @@ pub struct Scene {
     pub scenario: Scenario,
     pub network: Network,
     pub circuit: Circuit,
-    /// Per driver (network order): the voltage across it per volt of EMF.
-    pub h: Vec<Vec<Complex64>>,
-    /// Per driver: level in dB re the EMF.
+    /// Per driver (network order): level in dB re the EMF. The complex voltages behind it
+    /// are solved again when asked for ([`Scene::voltages`]): storing them would cost more
+    /// in fresh memory than the second solve does where they are needed.
     pub db: Vec<Vec<f64>>,
     /// Input impedance at every sweep point.
     pub z: Vec<Complex64>,
@@ -61,21 +61,28 @@ impl Peaks {
     }
 }
 
-/// What one pass over the sweep keeps: each driver's voltage and, unless only the levels
-/// are wanted, the input impedance and each element's peaks.
+/// What one pass over the sweep keeps: each driver's level, and as asked its voltage, the
+/// input impedance and each element's peaks.
+#[derive(Default)]
 struct Pass {
+    db: Vec<Vec<f64>>,
     h: Vec<Vec<Complex64>>,
     z: Vec<Complex64>,
     peaks: Vec<Peaks>,
 }
 
 /// Solves `c` at every frequency of `freqs` once. With `weights` (the programme spectrum's, one
-/// per frequency) the pass also keeps the input impedance and each element's peaks.
-fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>) -> Result<Pass, SolveError> {
+/// per frequency) the pass also keeps the input impedance and each element's peaks; with
+/// `voltages`, each driver's complex voltage.
+fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>, voltages: bool) -> Result<Pass, SolveError> {
     let drivers: Vec<usize> = network.drivers.iter().map(|d| c.element(&d.name).expect("every driver is an element")).collect();
-    let mut h: Vec<Vec<Complex64>> = drivers.iter().map(|_| Vec::with_capacity(freqs.len())).collect();
-    let mut z = Vec::with_capacity(if weights.is_some() { freqs.len() } else { 0 });
-    let mut peaks = vec![Peaks::default(); if weights.is_some() { c.elements.len() } else { 0 }];
+    let per_point = |on: bool| if on { freqs.len() } else { 0 };
+    let mut out = Pass {
+        db: drivers.iter().map(|_| Vec::with_capacity(freqs.len())).collect(),
+        h: drivers.iter().map(|_| Vec::with_capacity(per_point(voltages))).collect(),
+        z: Vec::with_capacity(per_point(weights.is_some())),
+        peaks: vec![Peaks::default(); if weights.is_some() { c.elements.len() } else { 0 }],
+    };
     let mut first_error = None;
     let kernels = c.kernels();
     engine::sweep(
@@ -85,12 +92,17 @@ fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>) 
         |i, k| kernels[k].at(freqs[i]),
         |i, point| match point {
             Ok(p) => {
-                for (hd, &k) in h.iter_mut().zip(&drivers) {
-                    hd.push(p.across(c, k));
+                for (j, &k) in drivers.iter().enumerate() {
+                    let v = p.across(c, k);
+                    out.db[j].push(engine::db(v));
+                    if voltages {
+                        out.h[j].push(v);
+                    }
                 }
                 if let Some(weights) = weights {
-                    z.push(p.input_impedance(c));
+                    out.z.push(p.input_impedance(c));
                     let w = weights[i];
+                    let peaks = &mut out.peaks;
                     p.each_element(c, |k, v2, i2, power| peaks[k].add(i, v2, i2, power, w));
                 }
             }
@@ -101,19 +113,15 @@ fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>) 
     );
     match first_error {
         Some(e) => Err(e),
-        None => Ok(Pass { h, z, peaks }),
+        None => Ok(out),
     }
-}
-
-fn levels_db(h: &[Vec<Complex64>]) -> Vec<Vec<f64>> {
-    h.iter().map(|hd| hd.iter().map(|v| engine::db(*v)).collect()).collect()
 }
 
 /// Each driver's level (dB re the EMF, network order) at every point of `freqs`: for a
 /// candidate network that is only compared, not reported.
 pub fn driver_levels(network: &Network, job: &Job, freqs: &[f64]) -> Result<Vec<Vec<f64>>, SolveError> {
     let c = Circuit::from_network(network, &job.amplifier)?;
-    Ok(levels_db(&pass(&c, network, freqs, None)?.h))
+    Ok(pass(&c, network, freqs, None, false)?.db)
 }
 
 impl Scene {
@@ -121,18 +129,24 @@ impl Scene {
     /// weights at those frequencies ([`programme::weights`]).
     pub fn build(scenario: Scenario, network: Network, job: &Job, freqs: &[f64], weights: &[f64]) -> Result<Scene, SolveError> {
         let circuit = Circuit::from_network(&network, &job.amplifier)?;
-        let Pass { h, z, peaks } = pass(&circuit, &network, freqs, Some(weights))?;
-        let db = levels_db(&h);
-        Ok(Scene { scenario, network, circuit, h, db, z, peaks })
+        let Pass { db, z, peaks, .. } = pass(&circuit, &network, freqs, Some(weights), false)?;
+        Ok(Scene { scenario, network, circuit, db, z, peaks })
+    }
+
+    /// Per driver (network order), the voltage across it per volt of EMF at every point of
+    /// `freqs`, the sweep the scene was built on (solved again, to the same values).
+    pub fn voltages(&self, freqs: &[f64]) -> Vec<Vec<Complex64>> {
+        pass(&self.circuit, &self.network, freqs, None, true).expect("the scene was solved on this sweep").h
     }
 
     pub fn driver_index(&self, name: &str) -> Option<usize> {
         self.network.drivers.iter().position(|d| d.name == name)
     }
 
-    /// Driver `k`'s phase in degrees, wrapped to (-180, 180], at every sweep point.
-    pub fn phase_deg(&self, k: usize) -> Vec<f64> {
-        self.h[k].iter().map(|v| engine::wrap_deg(v.arg().to_degrees())).collect()
+    /// Per driver, the phase in degrees, wrapped to (-180, 180], at every point of `freqs`
+    /// (the scene's sweep).
+    pub fn phases_deg(&self, freqs: &[f64]) -> Vec<Vec<f64>> {
+        self.voltages(freqs).iter().map(|h| h.iter().map(|v| engine::wrap_deg(v.arg().to_degrees())).collect()).collect()
     }
 }
 
@@ -364,6 +378,7 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
 fn acoustic_sum(scenes: &[Scene; 3], freqs: &[f64]) -> Option<[Vec<f64>; 3]> {
     let one = |s: &Scene| -> Option<Vec<f64>> {
         let tables: Vec<_> = s.network.drivers.iter().map(|d| d.response.as_ref()).collect::<Option<Vec<_>>>()?;
+        let h = s.voltages(freqs);
         Some(
             freqs
                 .iter()
@@ -373,7 +388,7 @@ fn acoustic_sum(scenes: &[Scene; 3], freqs: &[f64]) -> Option<[Vec<f64>; 3]> {
                     for (k, (d, t)) in s.network.drivers.iter().zip(&tables).enumerate() {
                         let (spl, ph) = engine::driver::interp_log(&t.freq_hz, &t.spl_db, &t.phase_deg, *f, false);
                         let sign = if d.inverted { -1.0 } else { 1.0 };
-                        sum += Complex64::from_polar(10f64.powf(spl / 20.0), ph.to_radians()) * s.h[k][fi] * sign;
+                        sum += Complex64::from_polar(10f64.powf(spl / 20.0), ph.to_radians()) * h[k][fi] * sign;
                     }
                     20.0 * sum.norm().max(1e-12).log10()
                 })

@@ -11,14 +11,15 @@
 //! zero impedance, sends that one point to a full modified nodal analysis with a dense
 //! partial-pivoting LU, which also names the parts of a network that cannot be solved.
 //!
-//! Why this and not a library: measured on the three-way reference network (7 unknowns, 14
-//! elements; `cargo bench`, see DEVELOPERS.md), the factorisation costs 0.105 us a point with
-//! four lanes, and a whole point with its impedances 0.35 us with one lane, against 1.78 us
-//! for the dense pivoting LU of the full system. A dense LU, which is what nalgebra and faer
-//! offer for a general matrix, does O(n^3) work where these tree-like networks need O(n);
-//! those crates were not benchmarked themselves (adding nalgebra and criterion as
-//! dev-dependencies forced a rebuild of the Typst stack), so the comparison stands on our own
-//! dense LU.
+//! Why this and not a library: measured with criterion on the three-way reference network
+//! (7 unknowns, 14 elements, an 8 x 8 modified-nodal system; `cargo bench --bench engine`,
+//! figures in DEVELOPERS.md), the plan's factorisation costs 0.08 us a point with four lanes
+//! and a whole point with its impedances 0.17 us with one lane, while nalgebra's dense LU
+//! takes 0.53 us for the assembled system alone (our own dense LU 0.67 us). A dense LU, which
+//! is what nalgebra and faer offer for a general matrix, does O(n^3) work where these
+//! tree-like networks need O(n); faer was not measured here (the same O(n^3) argument
+//! applies to its dense LU). The dense fallback stays our own: it is rare, and it must say
+//! which nodes and parts make a system singular.
 
 pub mod driver;
 
