@@ -140,10 +140,10 @@ pub fn text(job: &Job, f: &Findings) -> String {
     }
     let _ = writeln!(s);
     let _ = writeln!(s, "LEVELS (band mean, dB re as designed)");
-    let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
+    let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
     for l in &f.levels {
         let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == "compensate" { "fit" } else { "pass" });
-        let _ = writeln!(s, "  {:<8} {:<10} {:<22} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);
+        let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);
     }
     if !f.crossovers.is_empty() {
         let _ = writeln!(s);
@@ -157,14 +157,16 @@ pub fn text(job: &Job, f: &Findings) -> String {
     for (sc, l) in Scenario::ALL.iter().zip(&f.loads) {
         let _ = writeln!(
             s,
-            "  {:<12} min |Z| {} at {}, EPDR {} at {}, 80 % rule {}: {}",
+            "  {:<12} min |Z| {} at {}, EPDR {} at {}, 80 % rule {}\n  {:<12} {:<5} {}",
             sc.label(),
             ohm(l.min_ohm),
             hz(Some(l.min_at_hz)),
             ohm(l.epdr_min_ohm),
             hz(Some(l.epdr_at_hz)),
             if l.rated_impedance_holds { "holds" } else { "fails" },
-            l.verdict
+            "",
+            l.verdict,
+            l.reason
         );
     }
     let _ = writeln!(s);
@@ -184,7 +186,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
     }
     if let Some(t) = &f.tolerance {
         let _ = writeln!(s);
-        let _ = writeln!(s, "TOLERANCE ({} runs, seed {}, {:?})", t.runs, t.seed, t.distribution);
+        let _ = writeln!(s, "TOLERANCE ({} runs, seed {}, {} distribution)", t.runs, t.seed, format!("{:?}", t.distribution).to_lowercase());
         for l in t.levels.iter().filter(|l| l.scenario == Scenario::AsLeft) {
             let _ = writeln!(s, "  {:<8} as left: 5-95 % band {:+.2} to {:+.2} dB", l.driver, l.p5_db, l.p95_db);
         }
