@@ -84,7 +84,7 @@ struct Target<'a> {
 
 fn level_db(c: &Circuit, ws: &mut Workspace, f: f64, driver_el: usize) -> Result<f64, SolveError> {
     engine::solve_point(c, f, ws)?;
-    Ok(10.0 * ws.across(c, driver_el).norm_sqr().max(1e-300).log10())
+    Ok(engine::db(ws.across(c, driver_el)))
 }
 
 fn deviations(c: &Circuit, ws: &mut Workspace, freqs: &[f64], t: &Target) -> Result<Vec<f64>, SolveError> {

@@ -63,7 +63,6 @@ impl Peaks {
 
 /// What one pass over the sweep keeps: each driver's level, and as asked its voltage, the
 /// input impedance and each element's peaks.
-#[derive(Default)]
 struct Pass {
     db: Vec<Vec<f64>>,
     h: Vec<Vec<Complex64>>,

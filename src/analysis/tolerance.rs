@@ -93,21 +93,21 @@ struct Basis {
 
 impl Basis {
     fn new(c: &Circuit, freqs: &[f64]) -> Basis {
-        let zero = Complex64::new(0.0, 0.0);
+        let kernels = c.kernels();
         let mut a = Vec::with_capacity(freqs.len() * c.elements.len());
         let mut b = Vec::with_capacity(freqs.len() * c.elements.len());
         for &f in freqs {
-            let w = 2.0 * std::f64::consts::PI * f;
-            for e in &c.elements {
-                let (ai, bi) = match &e.model {
-                    ElementModel::Resistor { r } => (zero, Complex64::new(*r, 0.0)),
-                    ElementModel::Capacitor { tan_delta: Some(_), .. } => (zero, e.model.impedance(f)),
-                    ElementModel::Capacitor { c, esr, tan_delta: None } => (Complex64::new(*esr, 0.0), Complex64::new(0.0, -1.0 / (w * c))),
-                    ElementModel::Inductor { l, dcr } => (Complex64::new(*dcr, 0.0), Complex64::new(0.0, w * l)),
-                    ElementModel::Driver(_) => (e.model.impedance(f), zero),
+            for (e, kernel) in c.elements.iter().zip(&kernels) {
+                let z = kernel.at(f);
+                // The part of z that does not scale with the value: ESR, DCR, all of a driver.
+                let fixed = match &e.model {
+                    ElementModel::Resistor { .. } | ElementModel::Capacitor { tan_delta: Some(_), .. } => Complex64::new(0.0, 0.0),
+                    ElementModel::Capacitor { esr, tan_delta: None, .. } => Complex64::new(*esr, 0.0),
+                    ElementModel::Inductor { dcr, .. } => Complex64::new(*dcr, 0.0),
+                    ElementModel::Driver(_) => z,
                 };
-                a.push(ai);
-                b.push(bi);
+                a.push(fixed);
+                b.push(z - fixed);
             }
         }
         let inverse = c.elements.iter().map(|e| matches!(e.model, ElementModel::Capacitor { .. })).collect();

@@ -1,38 +1,16 @@
 //! Driver impedance models: a plain resistance; Re with a voice-coil inductance (simple Le or
-//! Leach's lossy K (j w)^n) and Small's motional resonance; or a measured table.
+//! Leach's lossy K (j w)^n) and Small's motional resonance; or a measured table. The
+//! formulas are in [`Kernel::of_driver`]; this module interpolates the tables and holds the
+//! models' worked-example tests.
 
 use num_complex::Complex64;
-use std::f64::consts::PI;
 
-use crate::model::{DriverModel, ImpedanceTable, VoiceCoilInductance};
+use super::Kernel;
+use crate::model::{DriverModel, ImpedanceTable};
 
-/// Impedance of a driver model at `f_hz`.
+/// Impedance of a driver model at `f_hz` (the formulas are in [`Kernel`]).
 pub fn impedance(m: &DriverModel, f_hz: f64) -> Complex64 {
-    let w = 2.0 * PI * f_hz;
-    match m {
-        DriverModel::Resistance(r) => Complex64::new(*r, 0.0),
-        DriverModel::VoiceCoil { re, inductance, resonance } => {
-            let zl = match inductance {
-                VoiceCoilInductance::None => Complex64::new(0.0, 0.0),
-                VoiceCoilInductance::Simple(le) => Complex64::new(0.0, w * le),
-                // Leach, JAES 50(6) 2002: Z = K (j w)^n = K w^n (cos(n pi/2) + j sin(n pi/2)).
-                VoiceCoilInductance::Leach { k, n } => Complex64::from_polar(k * w.powf(*n), n * PI / 2.0),
-            };
-            let zm = match resonance {
-                None => Complex64::new(0.0, 0.0),
-                Some(r) => {
-                    // Small, JAES 20(5) 1972: Res = Re Qms/Qes, Lces = Re/(2 pi fs Qes), Cmes = Qes/(2 pi fs Re).
-                    let res = re * r.qms / r.qes;
-                    let lces = re / (2.0 * PI * r.fs * r.qes);
-                    let cmes = r.qes / (2.0 * PI * r.fs * re);
-                    let y = Complex64::new(1.0 / res, w * cmes - 1.0 / (w * lces));
-                    y.inv()
-                }
-            };
-            Complex64::new(*re, 0.0) + zl + zm
-        }
-        DriverModel::Table(t) => table_impedance(t, f_hz),
-    }
+    Kernel::of_driver(m).at(f_hz)
 }
 
 /// Interpolates a measured table linearly in log frequency (magnitude in log too, so a
@@ -61,7 +39,7 @@ pub fn interp_log(fs: &[f64], a: &[f64], b: &[f64], f: f64, log_mag: bool) -> (f
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::Resonance;
+    use crate::model::{Resonance, VoiceCoilInductance};
 
     #[test]
     fn small_model_matches_worked_example() {
