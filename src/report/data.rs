@@ -343,13 +343,15 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: Vec<String>) -
             ])
         })
         .collect();
-    let (lf, ll) = (&f.loads[1], &f.loads[2]);
+    let (ld, lf, ll) = (&f.loads[0], &f.loads[1], &f.loads[2]);
     let load_change = format!(
-        "From as found to as left the lowest impedance moves from {} to {} and the EPDR from {} to {}.",
+        "From as found to as left the lowest impedance moves from {} to {} and the EPDR from {} to {}; the original design presents {} and {}.",
         ohm(lf.min_ohm),
         ohm(ll.min_ohm),
         ohm(lf.epdr_min_ohm),
-        ohm(ll.epdr_min_ohm)
+        ohm(ll.epdr_min_ohm),
+        ohm(ld.min_ohm),
+        ohm(ld.epdr_min_ohm)
     );
     let health = f.health.iter().map(|h| Row(vec![h.part.clone(), h.message.clone(), format!("{:+.2} dB on {}", h.effect_db, h.effect_driver)])).collect();
     let tolerance = f.tolerance.as_ref().map(|t| {

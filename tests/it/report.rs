@@ -39,6 +39,13 @@ fn every_sample_renders_under_every_template_and_matches_solve() {
             }
             let verdict = json["load"]["as_left"]["verdict"].as_str().unwrap();
             assert!(text.contains(verdict));
+            if template == "customer" {
+                // The load change is read against what the original design presents.
+                let designed = &json["load"]["as_designed"];
+                let ohm = |k: &str| voicekeep::results::ohm(designed[k].as_f64().unwrap());
+                let clause = format!("the original design presents {} and {}.", ohm("min_ohm"), ohm("epdr_min_ohm"));
+                assert!(text.contains(&clause), "{sample}: {clause} missing");
+            }
             if template != "sale" {
                 for c in json["compensation"].as_array().unwrap() {
                     let fitted = voicekeep::results::ohm(c["fitted_ohm"].as_f64().unwrap());
