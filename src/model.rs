@@ -25,6 +25,15 @@ impl Scenario {
         }
     }
 
+    /// The scenario as an adjective: "the as-designed level".
+    pub fn adjective(self) -> &'static str {
+        match self {
+            Scenario::AsDesigned => "as-designed",
+            Scenario::AsFound => "as-found",
+            Scenario::AsLeft => "as-left",
+        }
+    }
+
     pub fn label(self) -> &'static str {
         match self {
             Scenario::AsDesigned => "as designed",
@@ -222,6 +231,41 @@ impl Network {
         self.parts.iter().map(|p| (p.name.as_str(), &p.between)).chain(self.drivers.iter().map(|d| (d.name.as_str(), &d.between)))
     }
 
+    /// The nodes reached from `start` through branches, never passing through a node of
+    /// `stop` (which are reached, not crossed). The one flood fill every connectivity
+    /// question uses.
+    pub fn reach<'a>(&'a self, start: &[&'a str], stop: &[&str]) -> Vec<&'a str> {
+        let mut reached: Vec<&str> = start.to_vec();
+        let mut changed = true;
+        while changed {
+            changed = false;
+            for (_, [a, b]) in self.branches() {
+                let (ra, rb) = (reached.contains(&a.as_str()), reached.contains(&b.as_str()));
+                let crosses = |n: &str| !stop.contains(&n);
+                if ra && !rb && crosses(a) {
+                    reached.push(b);
+                    changed = true;
+                } else if rb && !ra && crosses(b) {
+                    reached.push(a);
+                    changed = true;
+                }
+            }
+        }
+        reached
+    }
+
+    /// The parts of a driver's own section: those joined to it without passing through the
+    /// amplifier's terminals. In a parallel crossover that is the driver's filter; in a
+    /// series crossover, everything.
+    pub fn section(&self, driver: &str) -> Vec<&str> {
+        let Some(d) = self.driver(driver) else { return Vec::new() };
+        let stop = [self.input[0].as_str(), self.input[1].as_str()];
+        let starts: Vec<&str> = d.between.iter().map(|s| s.as_str()).collect();
+        let nodes = self.reach(&starts, &stop);
+        let inner = |n: &String| nodes.contains(&n.as_str()) && !stop.contains(&n.as_str());
+        self.parts.iter().filter(|p| inner(&p.between[0]) || inner(&p.between[1])).map(|p| p.name.as_str()).collect()
+    }
+
     /// Connection problems: nodes only one terminal touches, and branches not reachable from
     /// the input. Each entry names the branch it concerns.
     pub fn connection_problems(&self) -> Vec<(String, String)> {
@@ -242,19 +286,7 @@ impl Network {
                 problems.push((String::new(), format!("input node {} ({}) is not connected to any part or driver", n, if i == 0 { "amplifier +" } else { "amplifier -" })));
             }
         }
-        // Reachability from the input node through branches.
-        let mut reached: Vec<&str> = vec![self.input[0].as_str(), self.input[1].as_str()];
-        let mut changed = true;
-        while changed {
-            changed = false;
-            for (_, [a, b]) in self.branches() {
-                let (ra, rb) = (reached.contains(&a.as_str()), reached.contains(&b.as_str()));
-                if ra != rb {
-                    reached.push(if ra { b } else { a });
-                    changed = true;
-                }
-            }
-        }
+        let reached = self.reach(&[self.input[0].as_str(), self.input[1].as_str()], &[]);
         for (name, [a, _]) in self.branches() {
             if !reached.contains(&a.as_str()) {
                 problems.push((name.to_string(), format!("{} is not connected to the input ({} / {})", name, self.input[0], self.input[1])));
@@ -269,12 +301,31 @@ pub struct Amplifier {
     pub power_w: f64,
     pub into_ohm: f64,
     pub output_ohm: f64,
+    /// The long-term programme power into `into_ohm`, when the job gives one; otherwise
+    /// [`Amplifier::DEFAULT_PROGRAMME_FRACTION`] of `power_w`.
+    pub programme_w: Option<f64>,
 }
 
 impl Amplifier {
-    /// The drive level all stress figures assume: E_rms = sqrt(power x into).
+    /// The programme's share of rated power when the job gives none: one eighth, the level
+    /// IEC 62368-1 uses for audio amplifiers in normal operation with pink noise (recalled
+    /// from memory, not checked against the standard's text). Noise peaks 1.8 to 4 times its
+    /// RMS, so an amplifier cannot deliver noise at its full sine power unclipped.
+    pub const DEFAULT_PROGRAMME_FRACTION: f64 = 1.0 / 8.0;
+
+    /// The sine drive level: E_rms = sqrt(power x into), the bench-tone worst case.
     pub fn e_rms(&self) -> f64 {
         (self.power_w * self.into_ohm).sqrt()
+    }
+
+    /// The programme's long-term power into the rated load.
+    pub fn programme_power_w(&self) -> f64 {
+        self.programme_w.unwrap_or(self.power_w * Self::DEFAULT_PROGRAMME_FRACTION)
+    }
+
+    /// The programme's RMS EMF: sqrt(programme power x into).
+    pub fn programme_e_rms(&self) -> f64 {
+        (self.programme_power_w() * self.into_ohm).sqrt()
     }
 }
 
@@ -408,9 +459,18 @@ impl PartPatch {
         }
     }
 
-    /// Applies a replacement: fields left out come from the old part, except a capacitor's
-    /// loss, which belongs to the new part (0 when not given).
-    pub fn apply_replacement(&self, p: &mut Part) {
+    /// Applies a replacement: a new part has the nominal design values, so fields left out
+    /// come from the part as designed (`designed`; the part being replaced when it was added
+    /// by a change step), never from its measured drift. A capacitor's loss belongs to the new
+    /// part (0 when not given).
+    pub fn apply_replacement(&self, p: &mut Part, designed: Option<&Part>) {
+        if let Some(d) = designed.filter(|d| d.kind == p.kind) {
+            p.value = d.value;
+            p.dcr = d.dcr;
+            p.tolerance = d.tolerance;
+            p.rating = d.rating;
+            p.type_text = d.type_text.clone();
+        }
         if let Some(v) = self.value {
             p.value = v;
         }
@@ -449,7 +509,12 @@ pub struct CompensateEntry {
     pub driver: String,
     pub reference: Scenario,
     pub band: Option<(f64, f64)>,
+    /// Where the band is written (the entry's key when it has none).
+    pub band_pos: Pos,
     pub series: ESeries,
+    /// Hold the impedance the driver's filter sees to the reference's as well as the level
+    /// (a series and shunt pair fitted as an L-pad).
+    pub keep_impedance: bool,
     pub pos: Pos,
 }
 
@@ -538,27 +603,63 @@ pub enum PlotKind {
     Response,
     Change,
     Impedance,
+    Phase,
     Tolerance,
     Acoustic,
 }
 
 impl PlotKind {
-    pub const ALL: [PlotKind; 5] = [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Tolerance, PlotKind::Acoustic];
+    pub const ALL: [PlotKind; 6] = [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Phase, PlotKind::Tolerance, PlotKind::Acoustic];
     pub fn name(self) -> &'static str {
         match self {
             PlotKind::Response => "response",
             PlotKind::Change => "change",
             PlotKind::Impedance => "impedance",
+            PlotKind::Phase => "phase",
             PlotKind::Tolerance => "tolerance",
             PlotKind::Acoustic => "acoustic",
         }
     }
 }
 
+/// A calendar date, checked when the job is read (the report's date: never the clock).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Default)]
+pub struct Date {
+    pub year: i32,
+    pub month: u8,
+    pub day: u8,
+}
+
+impl Date {
+    /// An ISO date, `2026-11-28`; None unless it is a real day of the Gregorian calendar.
+    pub fn parse_iso(t: &str) -> Option<Date> {
+        let parts: Vec<&str> = t.split('-').collect();
+        if parts.len() != 3 || parts[0].len() != 4 || parts[1].len() != 2 || parts[2].len() != 2 || !t.bytes().all(|b| b.is_ascii_digit() || b == b'-') {
+            return None;
+        }
+        let (Ok(y), Ok(m), Ok(d)) = (parts[0].parse::<i32>(), parts[1].parse::<u8>(), parts[2].parse::<u8>()) else { return None };
+        let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+        let days = [31, if leap { 29 } else { 28 }, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31];
+        ((1..=12).contains(&m) && d >= 1 && d <= days[(m - 1) as usize]).then_some(Date { year: y, month: m, day: d })
+    }
+}
+
+impl std::fmt::Display for Date {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{:04}-{:02}-{:02}", self.year, self.month, self.day)
+    }
+}
+
+impl serde::Serialize for Date {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self)
+    }
+}
+
 #[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
 pub struct JobInfo {
     pub number: String,
-    pub date: String,
+    pub date: Date,
     pub work: String,
     pub technician: String,
     pub shop_name: String,
@@ -630,7 +731,7 @@ impl Job {
     pub fn as_left_unsolved(&self) -> Result<Network, StepError> {
         let mut net = self.as_found();
         for c in &self.changes {
-            apply_step(&mut net, c)?;
+            apply_step(&mut net, c, &self.network)?;
         }
         Ok(net)
     }
@@ -656,13 +757,13 @@ impl Job {
     }
 }
 
-fn apply_step(net: &mut Network, c: &Change) -> Result<(), StepError> {
+fn apply_step(net: &mut Network, c: &Change, designed: &Network) -> Result<(), StepError> {
     let err = |message: String| StepError { number: c.number, pos: c.pos, message };
     match &c.step {
         ChangeStep::Replace { target, with } => match with {
             Patch::Part(p) => {
                 let part = net.part_mut(target).ok_or_else(|| err(format!("replace: there is no part {target} at this point (was it removed by an earlier step?)")))?;
-                p.apply_replacement(part);
+                p.apply_replacement(part, designed.part(target));
             }
             Patch::Driver(p) => {
                 let d = net.drivers.iter_mut().find(|d| &d.name == target).ok_or_else(|| err(format!("replace: there is no driver {target}")))?;

@@ -50,14 +50,24 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "frequencies_hz": f.freqs.iter().map(|v| round(*v, 6)).collect::<Vec<_>>(),
         "scenarios": scenarios,
         "levels": f.levels.iter().map(to_value).collect::<Vec<_>>(),
-        "compensation": f.compensation.fits.iter().map(to_value).collect::<Vec<_>>(),
+        "compensation": f.compensation.fits.iter().filter(|c| c.fitted_ohm.is_finite() && c.exact_ohm.is_finite()).map(to_value).collect::<Vec<_>>(),
+        "compensation_open": f.compensation.fits.iter().filter(|c| !c.fitted_ohm.is_finite() || !c.exact_ohm.is_finite()).map(|c| json!({
+            "part": c.part, "driver": c.driver, "band_hz": c.band_hz, "residual_db": c.residual_db, "worst_db": c.worst_db,
+            "reason": format!("a shunt across {} is best left out (open): any value from {} down takes the level further from the reference", c.driver, crate::units::ohm(crate::analysis::compensate::LARGEST_SHUNT_OHM)),
+        })).collect::<Vec<_>>(),
         "alternatives": f.compensation.alternatives.iter().map(to_value).collect::<Vec<_>>(),
         "warnings": f.compensation.warnings.iter().map(to_value).collect::<Vec<_>>(),
         "crossovers": f.crossovers.iter().map(to_value).collect::<Vec<_>>(),
         "corners": f.corners.iter().map(to_value).collect::<Vec<_>>(),
         "stress": stress,
         "driver_power": f.stress.drivers.iter().map(to_value).collect::<Vec<_>>(),
-        "drive": { "e_rms_v": f.stress.e_rms, "amplifier": f.stress.amplifier, "programme": f.stress.programme, "programme_text": f.stress.programme_text },
+        "drive": {
+            "e_rms_v": f.stress.e_rms, "amplifier": f.stress.amplifier,
+            "programme": f.stress.programme, "programme_text": f.stress.programme_text,
+            "programme_e_rms_v": f.stress.programme_e_rms, "programme_w": f.stress.programme_w,
+            "basis": f.stress.basis,
+            "grid_hz": { "from": f.grid.freqs.first(), "to": f.grid.freqs.last(), "points": f.grid.freqs.len() },
+        },
         "load": load,
         "rated_impedance_basis": job.rated_impedance_basis(),
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
@@ -77,8 +87,57 @@ pub fn json(job: &Job, f: &Findings) -> Value {
 
 pub use crate::units::{hz, ohm};
 
+/// A level difference with its sign, two decimals, never "-0.00".
 pub fn db(v: f64) -> String {
-    format!("{:+.2} dB", v)
+    let t = format!("{:+.2} dB", v);
+    if t == "-0.00 dB" {
+        "+0.00 dB".into()
+    } else {
+        t
+    }
+}
+
+/// A deviation with its sign and three decimals, never "-0.000".
+pub fn signed_db3(v: f64) -> String {
+    let t = format!("{:+.3} dB", v);
+    if t == "-0.000 dB" {
+        "+0.000 dB".into()
+    } else {
+        t
+    }
+}
+
+/// Wraps every line longer than `width` at spaces, continuing with the line's own indent
+/// and four spaces more.
+pub fn wrap(text: &str, width: usize) -> String {
+    let mut out = String::with_capacity(text.len() + text.len() / 16);
+    for line in text.lines() {
+        if line.chars().count() <= width {
+            out.push_str(line);
+            out.push('\n');
+            continue;
+        }
+        let indent = line.len() - line.trim_start().len();
+        let cont = " ".repeat((indent + 4).min(width / 2));
+        let mut current = String::from(&line[..indent]);
+        let mut has_word = false;
+        for word in line[indent..].split(' ') {
+            if has_word && current.chars().count() + 1 + word.chars().count() > width {
+                out.push_str(current.trim_end());
+                out.push('\n');
+                current = cont.clone();
+                has_word = false;
+            }
+            if has_word {
+                current.push(' ');
+            }
+            current.push_str(word);
+            has_word = true;
+        }
+        out.push_str(current.trim_end());
+        out.push('\n');
+    }
+    out
 }
 
 /// Plain-text tables for the terminal: the compensation plan first, then levels,
@@ -101,23 +160,42 @@ pub fn text(job: &Job, f: &Findings) -> String {
             .and_then(|r| r.rating_w)
             .map(|w| format!(", {} W", trim_number(w, 3)))
             .unwrap_or_default();
-        if c.cannot_raise {
-            let _ = writeln!(s, "  {}: none - {} is already {:.2} dB below its {} level", c.part, c.driver, -c.excess_db, c.reference.label());
+        if c.fault {
+            let _ = writeln!(
+                s,
+                "  {}: FAULT - {} ends more than {} dB below its {} level: a wiring fault, not a level to compensate",
+                c.part,
+                c.driver,
+                crate::analysis::compensate::FAULT_DB,
+                c.reference.adjective()
+            );
+        } else if c.cannot_raise {
+            let _ = writeln!(
+                s,
+                "  {}: none - {} already plays {:.2} dB below its {} level, and a passive part cannot raise it",
+                c.part,
+                c.driver,
+                -c.excess_db,
+                c.reference.adjective()
+            );
+        } else if c.fitted_ohm.is_infinite() {
+            let _ = writeln!(s, "  {}: not fitted - a shunt across {} is best left out (open)", c.part, c.driver);
         } else if c.fitted_ohm == 0.0 {
-            let _ = writeln!(s, "  {}: none needed (exact {} is under {})", c.part, ohm(c.exact_ohm), ohm(crate::analysis::compensate::SMALLEST_FITTED_OHM));
+            let _ = writeln!(s, "  {}: none needed - a wire link (exact {} is under {})", c.part, ohm(c.exact_ohm), ohm(crate::analysis::compensate::SMALLEST_FITTED_OHM));
         } else {
-            let _ = writeln!(s, "  fit {} = {} ({}{}) {}", c.part, ohm(c.fitted_ohm), c.series, rating, c.placement);
+            let _ = writeln!(s, "  fit {} = {} ({}{}) {}", c.part, ohm(c.fitted_ohm), c.series.name(), rating, c.placement);
         }
+        let exact = if c.exact_ohm.is_finite() { ohm(c.exact_ohm) } else { "open".to_string() };
         let _ = writeln!(
             s,
-            "    exact {}; {} matches {} over {}-{} within {:.3} dB RMS (worst {:+.3} dB)",
-            ohm(c.exact_ohm),
+            "    exact {exact}; {} matches {} over {}-{} within {:.3} dB RMS (worst {}){}",
             c.driver,
             c.reference.label(),
             hz(Some(c.band_hz[0])),
             hz(Some(c.band_hz[1])),
             c.residual_db,
-            c.worst_db
+            signed_db3(c.worst_db),
+            if c.keeps_impedance { ", holding the impedance its filter sees" } else { "" }
         );
         if let Some(p) = &c.pair {
             let _ = writeln!(
@@ -133,7 +211,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
     }
     for a in &f.compensation.alternatives {
         let _ = writeln!(s, "  alternative for {}: {}", a.driver, a.description);
-        let _ = writeln!(s, "    {:.3} dB RMS (worst {:+.3} dB); {}", a.residual_db, a.worst_db, a.verdict);
+        let _ = writeln!(s, "    {} {}", a.verdict, a.why_plan);
     }
     for w in &f.compensation.warnings {
         let _ = writeln!(s, "  warning ({}): {}", w.subject, w.message);

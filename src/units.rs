@@ -260,6 +260,61 @@ pub fn format_si(value: f64, quantity: Quantity, digits: usize) -> String {
     format!("{} {}{}", trim_number(value / scale, digits), prefix, unit)
 }
 
+/// Rewrites the ASCII units of voicekeep's own output as the trade prints them: `2.2 ohm`
+/// as `2.2 Ω`, `680 mohm` as `680 mΩ`, `3.3 uF` as `3.3 µF`. Only a unit that follows a
+/// number is touched, so words that merely contain "ohm" are left alone.
+pub fn trade(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    let mut prev_numeric = false;
+    for (i, token) in text.split(' ').enumerate() {
+        if i > 0 {
+            out.push(' ');
+        }
+        let core_end = token.find(|c: char| !(c.is_alphanumeric())).unwrap_or(token.len());
+        let (core, rest) = token.split_at(core_end);
+        let unit = match core {
+            "ohm" | "ohms" => Some("Ω"),
+            "mohm" => Some("mΩ"),
+            "kohm" => Some("kΩ"),
+            "Mohm" => Some("MΩ"),
+            "uF" => Some("µF"),
+            "uH" => Some("µH"),
+            "us" => Some("µs"),
+            _ => None,
+        };
+        match unit {
+            Some(u) if prev_numeric => {
+                out.push_str(u);
+                out.push_str(rest);
+            }
+            _ => out.push_str(token),
+        }
+        prev_numeric = token.chars().last().is_some_and(|c| c.is_ascii_digit()) && token.chars().any(|c| c.is_ascii_digit());
+    }
+    out
+}
+
+/// The indefinite article for a number as it is read aloud: "an 80 W part", "an 11 W
+/// part", "a 10 W part".
+pub fn a_or_an(v: f64) -> &'static str {
+    let whole = v.abs().trunc() as u64;
+    let lead = format!("{whole}");
+    // Spoken with a vowel first: eight, eighty, eight hundred ...; eleven and eighteen (and
+    // their thousands, and millions).
+    let group = |n: u64| {
+        let mut n = n;
+        while n >= 1000 {
+            n /= 1000;
+        }
+        n
+    };
+    if lead.starts_with('8') || matches!(group(whole), 11 | 18) && whole >= 11 {
+        "an"
+    } else {
+        "a"
+    }
+}
+
 /// A number with `digits` significant digits and no trailing zeros.
 pub fn trim_number(v: f64, digits: usize) -> String {
     if v == 0.0 {
@@ -349,6 +404,25 @@ mod tests {
             let err = parse_value(text, *q).expect_err(text);
             assert!(err.message.contains(want), "{text}: message {:?} lacks {want:?}", err.message);
         }
+    }
+
+    #[test]
+    fn trade_units_follow_numbers_only() {
+        assert_eq!(trade("2.2 ohm in series, 680 mohm, 3.3 uF and 270 uH."), "2.2 Ω in series, 680 mΩ, 3.3 µF and 270 µH.");
+        assert_eq!(trade("the ohm is a unit; (4 ohm)"), "the ohm is a unit; (4 Ω)");
+        assert_eq!(trade("rated 8 ohm, from the job"), "rated 8 Ω, from the job");
+    }
+
+    #[test]
+    fn articles_follow_the_spoken_number() {
+        assert_eq!(a_or_an(80.0), "an");
+        assert_eq!(a_or_an(8.0), "an");
+        assert_eq!(a_or_an(11.0), "an");
+        assert_eq!(a_or_an(18.0), "an");
+        assert_eq!(a_or_an(10.0), "a");
+        assert_eq!(a_or_an(110.0), "a");
+        assert_eq!(a_or_an(3.0), "a");
+        assert_eq!(a_or_an(11_000.0), "an");
     }
 
     #[test]

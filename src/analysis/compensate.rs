@@ -2,14 +2,24 @@
 //! scenario's level over the band, round it to a standard series, and weigh the
 //! alternatives (an E12 pair, an L-pad at the driver, restoring each lost ESR in place).
 
+use std::cell::RefCell;
+
+use levenberg_marquardt::{LeastSquaresProblem, LevenbergMarquardt};
+use nalgebra::{DMatrix, DVector, Dyn, VecStorage, U1};
+use num_complex::Complex64;
+
 use crate::analysis::eseries::{best_e12_pair, round_to};
 use crate::analysis::{crossing, driver_levels, frequency_order, Band, Scene};
 use crate::engine::{self, Circuit, ElementModel, SolveError, Workspace};
 use crate::model::{ChangeStep, CompensateEntry, ESeries, Job, Network, Part, PartKind, Patch, Role, Scenario};
+use crate::units::ohm;
 
 /// Below this the exact value is no resistor at all (common practice: crossover resistors
 /// under 0.1 ohm are not stocked, and wiring is of that order).
 pub const SMALLEST_FITTED_OHM: f64 = 0.05;
+/// Above this a shunt resistor hardly loads a driver of a few ohms, and is left out
+/// (common practice).
+pub const LARGEST_SHUNT_OHM: f64 = 1000.0;
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Pair {
@@ -26,7 +36,11 @@ pub struct Fit {
     pub driver: String,
     pub reference: Scenario,
     pub band_hz: [f64; 2],
-    pub series: &'static str,
+    pub series: ESeries,
+    /// A shunt (to the return, or across its driver) rather than a series part.
+    pub shunt: bool,
+    /// The exact and fitted values; infinite for a shunt best left out (open). JSON lists
+    /// those apart, since they have no finite value.
     pub exact_ohm: f64,
     pub fitted_ohm: f64,
     /// RMS and worst deviation (dB) from the reference over the band, with the fitted value.
@@ -34,29 +48,56 @@ pub struct Fit {
     pub worst_db: f64,
     /// RMS residual with the exact value, for comparison.
     pub exact_residual_db: f64,
-    /// How much louder than the reference the driver plays with no resistor (dB).
+    /// How much louder than the reference the driver plays with every auto part at "none"
+    /// (a wire link in series, nothing fitted as a shunt), in dB.
     pub excess_db: f64,
     pub cannot_raise: bool,
+    /// The driver ends more than [`FAULT_DB`] below its reference: a wiring fault.
+    pub fault: bool,
     pub at_input: bool,
+    /// The fit also held the impedance the filter sees to its reference (`keep_impedance`).
+    pub keeps_impedance: bool,
     pub pair: Option<Pair>,
     /// Where it goes, in words.
     pub placement: String,
 }
 
+impl Fit {
+    /// The fit leaves the part out: a wire link in series, nothing across as a shunt.
+    pub fn is_none(&self) -> bool {
+        self.fitted_ohm == 0.0 || self.fitted_ohm.is_infinite() || self.cannot_raise
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum AlternativeKind {
+    /// An L-pad at the driver in place of the plan's resistors.
+    LPad,
+    /// Each replaced capacitor of the driver's section given back, in series, the ESR it lost.
+    InPlace,
+}
+
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Alternative {
-    /// "l-pad" or "in-place".
-    pub kind: &'static str,
+    pub kind: AlternativeKind,
     pub driver: String,
+    /// The parts it fits, with stock values of the plan's series: (role or the capacitor it
+    /// goes with, ohm).
     pub parts: Vec<(String, f64)>,
     pub description: String,
+    /// RMS and worst deviation from the reference over the driver's band, with those stock values.
     pub residual_db: f64,
     pub worst_db: f64,
     pub crossover_hz: Option<f64>,
     pub reference_crossover_hz: Option<f64>,
-    pub input_fix_crossover_hz: Option<f64>,
-    pub input_fix_residual_db: f64,
+    /// The plan's own figures, for the comparison.
+    pub plan_crossover_hz: Option<f64>,
+    pub plan_residual_db: f64,
+    /// How it compares with the plan, in a sentence.
     pub verdict: String,
+    /// Why the plan is what it is, in a sentence.
+    pub why_plan: String,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -74,33 +115,126 @@ pub struct Plan {
     pub warnings: Vec<Warning>,
 }
 
+/// How an auto resistor sits: in the signal path, where "none" is a wire link (0 ohm), or
+/// from a signal node to the return or straight across its driver, where "none" is no part
+/// at all (open). A shunt is never fitted as a short, which would silence its driver.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Placement {
+    Series,
+    Shunt,
+}
+
+impl Placement {
+    pub fn of(net: &Network, part: &Part, driver: &str) -> Placement {
+        let across_driver = net.driver(driver).is_some_and(|d| {
+            let (a, b) = (&part.between, &d.between);
+            (a[0] == b[0] && a[1] == b[1]) || (a[0] == b[1] && a[1] == b[0])
+        });
+        if across_driver || part.between.contains(&net.input[1]) {
+            Placement::Shunt
+        } else {
+            Placement::Series
+        }
+    }
+
+    /// The resistance for a search parameter: the resistance itself for a series part, the
+    /// conductance (1 / R, 0 for open) for a shunt.
+    fn ohm(self, p: f64) -> f64 {
+        match self {
+            Placement::Series => p,
+            Placement::Shunt if p <= 0.0 => f64::INFINITY,
+            Placement::Shunt => 1.0 / p,
+        }
+    }
+
+    /// The search range of the parameter: 0 to 1 kohm in series, 0 to 10 S (0.1 ohm) as a
+    /// shunt; both ends of each include "none".
+    fn range(self) -> (f64, f64) {
+        match self {
+            Placement::Series => (0.0, 1000.0),
+            Placement::Shunt => (0.0, 10.0),
+        }
+    }
+}
+
+/// Levels more than this far below their reference are a fault, not a level difference.
+pub const FAULT_DB: f64 = 40.0;
+
 struct Target<'a> {
     entry: &'a CompensateEntry,
     element: usize,
     driver_el: usize,
+    placement: Placement,
     band: Vec<usize>,
     reference: Vec<f64>,
+    /// With `keep_impedance`, the reference scenario's input impedance over the band.
+    reference_z: Option<Vec<Complex64>>,
 }
 
-fn level_db(c: &Circuit, ws: &mut Workspace, f: f64, driver_el: usize) -> Result<f64, SolveError> {
-    engine::solve_point(c, f, ws)?;
-    Ok(engine::db(ws.across(c, driver_el)))
+/// The circuit under fit, with its auto resistors set from search parameters.
+struct Fitter<'a> {
+    circuit: RefCell<Circuit>,
+    ws: RefCell<Workspace>,
+    freqs: &'a [f64],
+    targets: Vec<Target<'a>>,
 }
 
-fn deviations(c: &Circuit, ws: &mut Workspace, freqs: &[f64], t: &Target) -> Result<Vec<f64>, SolveError> {
-    t.band.iter().zip(&t.reference).map(|(&i, r)| Ok(level_db(c, ws, freqs[i], t.driver_el)? - r)).collect()
-}
+/// 20 / ln 10: dB per neper, to weigh an impedance's log-ratio (magnitude and phase) in the
+/// same units as the level deviations.
+const DB_PER_NEPER: f64 = 8.685_889_638_065_037;
 
-fn sum_sq(c: &Circuit, ws: &mut Workspace, freqs: &[f64], targets: &[Target]) -> Result<f64, SolveError> {
-    let mut s = 0.0;
-    for t in targets {
-        s += deviations(c, ws, freqs, t)?.iter().map(|d| d * d).sum::<f64>();
+impl Fitter<'_> {
+    fn set(&self, j: usize, p: f64) {
+        let t = &self.targets[j];
+        self.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r: t.placement.ohm(p) };
     }
-    Ok(s)
-}
 
-fn set_r(c: &mut Circuit, k: usize, r: f64) {
-    c.elements[k].model = ElementModel::Resistor { r };
+    fn set_all(&self, params: &[f64]) {
+        for (j, p) in params.iter().enumerate() {
+            self.set(j, *p);
+        }
+    }
+
+    /// Target `j`'s level deviations (dB) over its band.
+    fn deviations(&self, j: usize) -> Result<Vec<f64>, SolveError> {
+        let c = self.circuit.borrow();
+        let mut ws = self.ws.borrow_mut();
+        let t = &self.targets[j];
+        t.band
+            .iter()
+            .zip(&t.reference)
+            .map(|(&i, r)| {
+                engine::solve_point(&c, self.freqs[i], &mut ws)?;
+                Ok(engine::db(ws.across(&c, t.driver_el)) - r)
+            })
+            .collect()
+    }
+
+    /// Every residual of the fit: each target's level deviations, and for a target that
+    /// keeps its impedance the log-ratio of the input impedance to its reference (real and
+    /// imaginary parts, in dB).
+    fn residuals(&self) -> Result<Vec<f64>, SolveError> {
+        let c = self.circuit.borrow();
+        let mut ws = self.ws.borrow_mut();
+        let mut out = Vec::new();
+        for t in &self.targets {
+            for (n, (&i, r)) in t.band.iter().zip(&t.reference).enumerate() {
+                engine::solve_point(&c, self.freqs[i], &mut ws)?;
+                out.push(engine::db(ws.across(&c, t.driver_el)) - r);
+                if let Some(zr) = &t.reference_z {
+                    let ratio = (ws.input_impedance(&c) / zr[n]).ln();
+                    out.push(DB_PER_NEPER * ratio.re);
+                    out.push(DB_PER_NEPER * ratio.im);
+                }
+            }
+        }
+        Ok(out)
+    }
+
+    fn sum_sq(&self) -> Result<f64, SolveError> {
+        Ok(self.residuals()?.iter().map(|d| d * d).sum())
+    }
 }
 
 fn rms(d: &[f64]) -> f64 {
@@ -111,14 +245,18 @@ fn worst(d: &[f64]) -> f64 {
     d.iter().cloned().fold(0.0, |a: f64, b| if b.abs() > a.abs() { b } else { a })
 }
 
-/// 1-D minimisation of f over [0, 1000] ohm: a log grid to find the basin, then golden
-/// section inside it. The level error is smooth and single-valleyed in R for a series
-/// resistor, but the grid keeps it safe when it is not.
-fn minimise(mut f: impl FnMut(f64) -> Result<f64, SolveError>) -> Result<f64, SolveError> {
-    let mut grid = vec![0.0];
-    grid.extend((0..=60).map(|k| 1e-3 * 10f64.powf(k as f64 / 10.0)));
+fn mean(d: &[f64]) -> f64 {
+    d.iter().sum::<f64>() / d.len().max(1) as f64
+}
+
+/// 1-D minimisation of f over [lo, hi] (lo = 0 included exactly): a log grid to find the
+/// basin, then golden section inside it. The level error is smooth and single-valleyed for a
+/// lone resistor, but the grid keeps it safe when it is not.
+fn minimise(lo: f64, hi: f64, mut f: impl FnMut(f64) -> Result<f64, SolveError>) -> Result<f64, SolveError> {
+    let mut grid = vec![lo];
+    grid.extend((0..=60).map(|k| hi * 1e-6 * 10f64.powf(k as f64 / 10.0)));
     let vals: Vec<f64> = grid.iter().map(|r| f(*r)).collect::<Result<_, _>>()?;
-    let best = (0..grid.len()).min_by(|a, b| vals[*a].partial_cmp(&vals[*b]).unwrap_or(std::cmp::Ordering::Equal)).unwrap_or(0);
+    let best = (0..grid.len()).min_by(|a, b| vals[*a].total_cmp(&vals[*b])).unwrap_or(0);
     let (mut a, mut b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(grid.len() - 1)]);
     let g = (5f64.sqrt() - 1.0) / 2.0;
     let (mut x1, mut x2) = (b - g * (b - a), a + g * (b - a));
@@ -142,78 +280,159 @@ fn minimise(mut f: impl FnMut(f64) -> Result<f64, SolveError>) -> Result<f64, So
         }
     }
     let x = (a + b) / 2.0;
-    Ok(if f(0.0)? <= f(x)? { 0.0 } else { x })
+    Ok(if f(lo)? <= f(x)? { lo } else { x })
+}
+
+/// Levenberg-Marquardt (MINPACK's, from the levenberg-marquardt crate) over the logarithms
+/// of the search parameters, for fits of several resistors whose effects are coupled (a
+/// series and shunt pair): coordinate descent crawls along such a valley.
+struct Joint<'a, 'b> {
+    fit: &'b Fitter<'a>,
+    x: DVector<f64>,
+}
+
+impl LeastSquaresProblem<f64, Dyn, Dyn> for Joint<'_, '_> {
+    type ResidualStorage = VecStorage<f64, Dyn, U1>;
+    type JacobianStorage = VecStorage<f64, Dyn, Dyn>;
+    type ParameterStorage = VecStorage<f64, Dyn, U1>;
+
+    fn set_params(&mut self, x: &DVector<f64>) {
+        self.x.copy_from(x);
+    }
+
+    fn params(&self) -> DVector<f64> {
+        self.x.clone()
+    }
+
+    fn residuals(&self) -> Option<DVector<f64>> {
+        let p: Vec<f64> = self.x.iter().map(|v| v.exp()).collect();
+        self.fit.set_all(&p);
+        self.fit.residuals().ok().map(DVector::from_vec)
+    }
+
+    fn jacobian(&self) -> Option<DMatrix<f64>> {
+        let base = self.residuals()?;
+        let mut j = DMatrix::zeros(base.len(), self.x.len());
+        for k in 0..self.x.len() {
+            let h = 1e-6;
+            let mut x = self.x.clone();
+            x[k] += h;
+            let p: Vec<f64> = x.iter().map(|v| v.exp()).collect();
+            self.fit.set_all(&p);
+            let r = DVector::from_vec(self.fit.residuals().ok()?);
+            j.set_column(k, &((r - &base) / h));
+        }
+        Some(j)
+    }
 }
 
 pub fn plan(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &Scene, unsolved: &Network) -> Result<Plan, SolveError> {
     let mut warnings = Vec::new();
-    let mut circuit = Circuit::from_network(unsolved, &job.amplifier)?;
-    let mut ws = Workspace::new(&circuit);
-    let autos: Vec<&Part> = unsolved.parts.iter().filter(|p| p.auto_value).collect();
+    let circuit = Circuit::from_network(unsolved, &job.amplifier)?;
     let mut targets = Vec::new();
     for entry in &job.compensate {
-        let Some(element) = circuit.element(&entry.part) else { continue };
-        let di = job.network.drivers.iter().position(|d| d.name == entry.driver).expect("validated driver");
+        let (Some(element), Some(driver_el), Some(di), Some(part)) =
+            (circuit.element(&entry.part), circuit.element(&entry.driver), job.network.drivers.iter().position(|d| d.name == entry.driver), unsolved.part(&entry.part))
+        else {
+            return Err(SolveError::Internal(format!("compensate entry {} names a part or driver the as-left network lacks", entry.part)));
+        };
         let reference_scene = if entry.reference == Scenario::AsFound { found } else { designed };
         let band = bands[di].idx.clone();
         let reference = band.iter().map(|&i| reference_scene.db[di][i]).collect();
-        let driver_el = circuit.element(&entry.driver).expect("driver element");
-        targets.push(Target { entry, element, driver_el, band, reference });
+        let reference_z = entry.keep_impedance.then(|| band.iter().map(|&i| reference_scene.z[i]).collect());
+        targets.push(Target { entry, element, driver_el, placement: Placement::of(unsolved, part, &entry.driver), band, reference, reference_z });
     }
-    // Autos without an entry cannot occur (validation); start every auto at 0 ohm.
-    for p in &autos {
-        if let Some(k) = circuit.element(&p.name) {
-            set_r(&mut circuit, k, 0.0);
-        }
-    }
-    // Excess level at R = 0 for each target, to spot drivers a resistor cannot help.
+    let fit = Fitter { circuit: RefCell::new(circuit), ws: RefCell::new(Workspace::new(&Circuit::from_network(unsolved, &job.amplifier)?)), freqs, targets };
+    // Every auto starts as "none": a wire link in series, nothing fitted as a shunt.
+    let n = fit.targets.len();
+    fit.set_all(&vec![0.0; n]);
+    // Excess level with every auto at "none", to spot drivers a resistor cannot help: that
+    // is the loudest a driver can play with passive parts.
     let mut excess = Vec::new();
-    for t in &targets {
-        let d = deviations(&circuit, &mut ws, freqs, t)?;
-        excess.push(d.iter().sum::<f64>() / d.len().max(1) as f64);
+    for j in 0..n {
+        excess.push(mean(&fit.deviations(j)?));
     }
-    // Joint least squares by coordinate descent; one pass suffices for one auto part.
-    let mut exact: Vec<f64> = vec![0.0; targets.len()];
-    for _round in 0..if targets.len() > 1 { 30 } else { 1 } {
+    // Joint least squares: coordinate descent over each part's own range (which includes
+    // "none"), then Levenberg-Marquardt where several parts are fitted together.
+    let mut exact: Vec<f64> = vec![0.0; n];
+    for _round in 0..if n > 1 { 30 } else { 1 } {
         let mut moved: f64 = 0.0;
-        for (j, t) in targets.iter().enumerate() {
+        for j in 0..n {
             if excess[j] < -0.005 {
                 continue;
             }
-            let k = t.element;
-            let r = minimise(|r| {
-                set_r(&mut circuit, k, r);
-                sum_sq(&circuit, &mut ws, freqs, &targets)
+            let (lo, hi) = fit.targets[j].placement.range();
+            let p = minimise(lo, hi, |p| {
+                fit.set(j, p);
+                fit.sum_sq()
             })?;
-            set_r(&mut circuit, k, r);
-            moved = moved.max((r - exact[j]).abs());
-            exact[j] = r;
+            fit.set(j, p);
+            moved = moved.max((p - exact[j]).abs() / (1.0 + p.abs()));
+            exact[j] = p;
         }
-        if moved < 1e-6 {
+        if moved < 1e-7 {
             break;
         }
     }
-    let exact_dev: Vec<Vec<f64>> = targets.iter().map(|t| deviations(&circuit, &mut ws, freqs, t)).collect::<Result<_, _>>()?;
-    let fitted: Vec<f64> = targets.iter().zip(&exact).map(|(t, &r)| if r < SMALLEST_FITTED_OHM { 0.0 } else { round_to(t.entry.series, r) }).collect();
-    for (t, &r) in targets.iter().zip(&fitted) {
-        set_r(&mut circuit, t.element, r);
+    if n > 1 && exact.iter().zip(&excess).all(|(p, e)| *p > 0.0 || *e < -0.005) {
+        let before = fit.sum_sq()?;
+        let x0 = DVector::from_iterator(n, exact.iter().map(|p| p.max(1e-12).ln()));
+        let (solved, _report) = LevenbergMarquardt::new().minimize(Joint { fit: &fit, x: x0 });
+        let p: Vec<f64> = solved.x.iter().map(|v| v.exp()).collect();
+        fit.set_all(&p);
+        if fit.sum_sq()? < before {
+            exact = p;
+        }
+        fit.set_all(&exact);
+    }
+    fit.set_all(&exact);
+    let exact_ohm: Vec<f64> = fit.targets.iter().zip(&exact).map(|(t, p)| t.placement.ohm(*p)).collect();
+    let exact_dev: Vec<Vec<f64>> = (0..n).map(|j| fit.deviations(j)).collect::<Result<_, _>>()?;
+    // Round to the series; a series part under the smallest stocked value is a wire link, a
+    // shunt above the largest searched (1 kohm, or its exact value out of the series' reach)
+    // is left out.
+    let fitted: Vec<f64> = fit
+        .targets
+        .iter()
+        .zip(&exact_ohm)
+        .map(|(t, &r)| match t.placement {
+            Placement::Series if r < SMALLEST_FITTED_OHM => 0.0,
+            Placement::Shunt if !r.is_finite() || r > LARGEST_SHUNT_OHM => f64::INFINITY,
+            _ => round_to(t.entry.series, r),
+        })
+        .collect();
+    for (t, &r) in fit.targets.iter().zip(&fitted) {
+        fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r };
     }
     let mut fits = Vec::new();
-    for (j, t) in targets.iter().enumerate() {
-        let dev = deviations(&circuit, &mut ws, freqs, t)?;
-        let d = &job.network.drivers[job.network.drivers.iter().position(|d| d.name == t.entry.driver).unwrap_or(0)];
-        let part = unsolved.part(&t.entry.part).expect("auto part");
-        let at_input = part.between.contains(&unsolved.input[0]);
+    for (j, t) in fit.targets.iter().enumerate() {
+        let dev = fit.deviations(j)?;
+        let Some(d) = job.network.drivers.iter().find(|d| d.name == t.entry.driver) else { continue };
+        let Some(part) = unsolved.part(&t.entry.part) else { continue };
+        let at_input = t.placement == Placement::Series && part.between.contains(&unsolved.input[0]);
         let cannot_raise = excess[j] < -0.005;
-        let pair = if exact[j] >= SMALLEST_FITTED_OHM && (fitted[j] / exact[j] - 1.0).abs() > 0.024 {
-            let (a, b, parallel, v) = best_e12_pair(exact[j]);
-            set_r(&mut circuit, t.element, v);
-            let pd = deviations(&circuit, &mut ws, freqs, t)?;
-            set_r(&mut circuit, t.element, fitted[j]);
+        let pair = if t.placement == Placement::Series && exact_ohm[j] >= SMALLEST_FITTED_OHM && (fitted[j] / exact_ohm[j] - 1.0).abs() > 0.024 {
+            let (a, b, parallel, v) = best_e12_pair(exact_ohm[j]);
+            fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r: v };
+            let pd = fit.deviations(j)?;
+            fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r: fitted[j] };
             Some(Pair { a_ohm: a, b_ohm: b, parallel, value_ohm: v, residual_db: rms(&pd) })
         } else {
             None
         };
+        let fault = mean(&dev) < -FAULT_DB;
+        if fault {
+            warnings.push(Warning {
+                subject: t.entry.part.clone(),
+                message: format!(
+                    "With {} fitted, {} plays more than {} dB below its {} level: that is a fault (a driver shorted or disconnected), not a level to compensate. Check the network's wiring and the driver.",
+                    t.entry.part,
+                    d.name,
+                    FAULT_DB,
+                    t.entry.reference.adjective()
+                ),
+            });
+        }
         if cannot_raise {
             warnings.push(Warning {
                 subject: t.entry.part.clone(),
@@ -221,7 +440,7 @@ pub fn plan(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &
                     "{} plays {:.2} dB below its {} level even with no resistor: a series resistor cannot raise it. Look for a drifted part or a tired driver, or attenuate the other drivers instead.",
                     d.name,
                     -excess[j],
-                    t.entry.reference.label()
+                    t.entry.reference.adjective()
                 ),
             });
         }
@@ -231,37 +450,40 @@ pub fn plan(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &
                 message: format!("{} compensates the woofer {}. The woofer is the level reference in a passive speaker (common practice): attenuate the other drivers instead, or restore the woofer inductor's DCR.", t.entry.part, d.name),
             });
         }
-        if !at_input {
+        if t.placement == Placement::Series && !at_input {
             warnings.push(Warning {
                 subject: t.entry.part.clone(),
-                message: format!("{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).", t.entry.part, d.name, part.between[0], part.between[1]),
+                message: format!("{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).", t.entry.part, d.name, display_node(&part.between[0]), display_node(&part.between[1])),
             });
         }
-        let placement = if at_input {
-            format!("in series at the input of {}'s filter, between node {} and the filter's first part", d.name, unsolved.input[0])
-        } else {
-            format!("between {} and {}", display_node(&part.between[0]), display_node(&part.between[1]))
+        let placement = match t.placement {
+            Placement::Series if at_input => format!("in series at the input of {}'s filter, between node {} and the filter's first part", d.name, unsolved.input[0]),
+            Placement::Series => format!("in series between {} and {}", display_node(&part.between[0]), display_node(&part.between[1])),
+            Placement::Shunt => format!("across {} (between {} and {})", d.name, display_node(&part.between[0]), display_node(&part.between[1])),
         };
         fits.push(Fit {
             part: t.entry.part.clone(),
             driver: t.entry.driver.clone(),
             reference: t.entry.reference,
             band_hz: [freqs[t.band[0]], freqs[*t.band.last().unwrap_or(&t.band[0])]],
-            series: t.entry.series.name(),
-            exact_ohm: exact[j],
+            series: t.entry.series,
+            shunt: t.placement == Placement::Shunt,
+            exact_ohm: exact_ohm[j],
             fitted_ohm: fitted[j],
             residual_db: rms(&dev),
             worst_db: worst(&dev),
             exact_residual_db: rms(&exact_dev[j]),
             excess_db: excess[j],
             cannot_raise,
+            fault,
             at_input,
+            keeps_impedance: t.entry.keep_impedance,
             pair,
             placement,
         });
     }
     let mut network = unsolved.clone();
-    for (t, &r) in targets.iter().zip(&fitted) {
+    for (t, &r) in fit.targets.iter().zip(&fitted) {
         if let Some(p) = network.part_mut(&t.entry.part) {
             p.value = r;
         }
@@ -311,125 +533,191 @@ fn new_resistor(name: &str, a: &str, b: &str, r: f64) -> Part {
     Part::new(name, PartKind::Resistor, [a.into(), b.into()], r, Default::default())
 }
 
-fn shift_text(alt: Option<f64>, fix: Option<f64>, reference: Option<f64>) -> String {
-    match (alt, fix, reference) {
+/// A level figure for a sentence: three decimals, never "-0.000".
+fn db3(v: f64) -> String {
+    let t = format!("{:.3}", v);
+    if t == "-0.000" {
+        "0.000".into()
+    } else {
+        t
+    }
+}
+
+/// How an alternative's crossover compares with the plan's, as a clause.
+fn crossover_clause(alt: Option<f64>, plan: Option<f64>, reference: Option<f64>, plan_name: &str) -> String {
+    match (alt, plan, reference) {
         (Some(a), Some(f), Some(r)) => {
             let (da, df) = ((a - r).abs(), (f - r).abs());
             if (da - df).abs() < 0.5 {
                 format!("both keep the crossover within {:.0} Hz of the original {:.0} Hz", da.max(df).max(1.0), r)
             } else if da < df {
-                format!("keeps the crossover better: {:.0} Hz from the original {:.0} Hz against {:.0} Hz for the input resistor", da, r, df)
+                format!("it keeps the crossover closer to the original {:.0} Hz ({:.0} Hz off, against {:.0} Hz with {plan_name})", r, da, df)
             } else {
-                format!("moves the crossover more: {:.0} Hz from the original {:.0} Hz against {:.0} Hz for the input resistor", da, r, df)
+                format!("it moves the crossover further from the original {:.0} Hz ({:.0} Hz off, against {:.0} Hz with {plan_name})", r, da, df)
             }
         }
-        _ => "no crossover with a neighbouring driver inside the sweep to compare".into(),
+        _ => "neither has a crossover with a neighbouring driver inside the sweep to compare".into(),
     }
 }
 
 fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &Scene, unsolved: &Network, plan: &mut Plan) -> Result<(), SolveError> {
-    let mut zeroed = unsolved.clone();
-    for p in zeroed.parts.iter_mut().filter(|p| p.auto_value) {
-        p.value = 0.0;
+    // Each alternative replaces the plan's auto parts, so it starts from them at "none".
+    let mut bare = unsolved.clone();
+    for p in bare.parts.iter_mut().filter(|p| p.auto_value) {
+        p.value = match plan.fits.iter().find(|f| f.part == p.name) {
+            Some(f) if f.shunt => f64::INFINITY,
+            _ => 0.0,
+        };
     }
-    for fit in plan.fits.clone() {
-        let di = job.network.drivers.iter().position(|d| d.name == fit.driver).expect("driver");
-        let reference = if fit.reference == Scenario::AsFound { found } else { designed };
+    let mut drivers: Vec<String> = Vec::new();
+    for f in &plan.fits {
+        if !drivers.contains(&f.driver) && !f.fault {
+            drivers.push(f.driver.clone());
+        }
+    }
+    for driver in drivers {
+        let fits: Vec<Fit> = plan.fits.iter().filter(|f| f.driver == driver).cloned().collect();
+        let Some(first) = fits.first() else { continue };
+        let Some(di) = job.network.drivers.iter().position(|d| d.name == driver) else { continue };
+        let reference = if first.reference == Scenario::AsFound { found } else { designed };
         let ref_x = neighbour_crossover(freqs, bands, &reference.db, di);
-        let fix = judge(job, &plan.network, freqs, bands, reference, di)?;
-        if !fit.at_input {
-            if let (Some(a), Some(r)) = (fix.crossover, ref_x) {
+        let mine = judge(job, &plan.network, freqs, bands, reference, di)?;
+        let plan_parts: Vec<&str> = fits.iter().filter(|f| !f.is_none()).map(|f| f.part.as_str()).collect();
+        let plan_name = match plan_parts.as_slice() {
+            [] => "the plan".to_string(),
+            [one] => one.to_string(),
+            many => many.join(" and "),
+        };
+        for f in fits.iter().filter(|f| !f.at_input && !f.shunt && !f.is_none()) {
+            if let (Some(a), Some(r)) = (mine.crossover, ref_x) {
                 plan.warnings.push(Warning {
-                    subject: fit.part.clone(),
-                    message: format!("With {} where it is, the crossover of {} moves from {:.0} Hz to {:.0} Hz ({:+.0} Hz).", fit.part, fit.driver, r, a, a - r),
+                    subject: f.part.clone(),
+                    message: format!("With {} where it is, the crossover of {} moves from {:.0} Hz to {:.0} Hz ({:+.0} Hz).", f.part, driver, r, a, a - r),
                 });
             }
         }
-        // An L-pad at the driver when more than about 3 dB must go (common practice).
-        if fit.excess_db > 3.0 {
-            let dm = &zeroed.drivers.iter().find(|d| d.name == fit.driver).expect("driver").model;
-            let zd = bands[di].idx.iter().map(|&i| crate::engine::driver::impedance(dm, freqs[i]).norm()).sum::<f64>() / bands[di].idx.len().max(1) as f64;
-            let a = 10f64.powf(-fit.excess_db / 20.0);
-            let series = ESeries::E24;
+        let series = first.series;
+        // An L-pad at the driver when more than about 3 dB must go (common practice), unless
+        // the plan already is one.
+        let excess = fits.iter().map(|f| f.excess_db).fold(f64::NEG_INFINITY, f64::max);
+        if excess > 3.0 && !fits.iter().any(|f| f.shunt) {
+            let Some(dm) = bare.driver(&driver).map(|d| d.model.clone()) else { continue };
+            let zd = bands[di].idx.iter().map(|&i| crate::engine::driver::impedance(&dm, freqs[i]).norm()).sum::<f64>() / bands[di].idx.len().max(1) as f64;
+            let a = 10f64.powf(-excess / 20.0);
             let (rs, rp) = (round_to(series, zd * (1.0 - a)), round_to(series, zd * a / (1.0 - a)));
-            let mut net = zeroed.clone();
-            let d = net.drivers.iter_mut().find(|d| d.name == fit.driver).expect("driver");
-            let plus = d.between[0].clone();
-            let minus = d.between[1].clone();
-            let mid = format!("{}~pad", fit.driver);
+            let mut net = bare.clone();
+            let Some(d) = net.drivers.iter_mut().find(|d| d.name == driver) else { continue };
+            let (plus, minus) = (d.between[0].clone(), d.between[1].clone());
+            let mid = format!("{driver}~pad");
             d.between[0] = mid.clone();
             net.parts.push(new_resistor("Rs-pad", &plus, &mid, rs));
             net.parts.push(new_resistor("Rp-pad", &mid, &minus, rp));
             let j = judge(job, &net, freqs, bands, reference, di)?;
+            let closer = j.rms + 0.005 < mine.rms;
             plan.alternatives.push(Alternative {
-                kind: "l-pad",
-                driver: fit.driver.clone(),
+                kind: AlternativeKind::LPad,
+                driver: driver.clone(),
                 parts: vec![("series".into(), rs), ("shunt".into(), rp)],
                 description: format!(
-                    "an L-pad at {}: {} ohm in series and {} ohm across the driver (for {:.1} dB into about {:.1} ohm), in place of {}",
-                    fit.driver,
-                    crate::units::trim_number(rs, 3),
-                    crate::units::trim_number(rp, 3),
-                    fit.excess_db,
-                    zd,
-                    fit.part
+                    "An L-pad at {driver}: {} in series and {} across the driver ({} values for {:.1} dB into about {}), in place of {plan_name}.",
+                    ohm(rs),
+                    ohm(rp),
+                    series.name(),
+                    excess,
+                    ohm(zd),
                 ),
                 residual_db: j.rms,
                 worst_db: j.worst,
                 crossover_hz: j.crossover,
                 reference_crossover_hz: ref_x,
-                input_fix_crossover_hz: fix.crossover,
-                input_fix_residual_db: fix.rms,
-                verdict: shift_text(j.crossover, fix.crossover, ref_x),
+                plan_crossover_hz: mine.crossover,
+                plan_residual_db: mine.rms,
+                verdict: format!(
+                    "It matches the {} level within {} dB RMS against {} dB for {plan_name}; {}.",
+                    first.reference.adjective(),
+                    db3(j.rms),
+                    db3(mine.rms),
+                    crossover_clause(j.crossover, mine.crossover, ref_x, &plan_name)
+                ),
+                why_plan: if closer {
+                    format!("The plan keeps {plan_name} as the job's changes record it, with fewer parts; the L-pad is the closer match and the technician's choice.")
+                } else {
+                    format!("The plan keeps {plan_name}: it matches at least as closely with fewer parts.")
+                },
             });
         }
-        // Restoring in place: each replaced capacitor gets back, in series, the loss it lost.
-        let mut net = zeroed.clone();
+        // Restoring in place: each replaced capacitor of this driver's own section gets back,
+        // in series, the loss it lost, as a stock value.
+        let section = unsolved.section(&driver);
+        let centre = (first.band_hz[0] * first.band_hz[1]).sqrt();
+        let mut net = bare.clone();
         let mut parts = Vec::new();
-        let centre = (fit.band_hz[0] * fit.band_hz[1]).sqrt();
         for c in &job.changes {
             let ChangeStep::Replace { target, with: Patch::Part(_) } = &c.step else { continue };
+            if !section.contains(&target.as_str()) || parts.iter().any(|(p, _): &(String, f64)| p == target) {
+                continue;
+            }
             let (Some(old), Some(new)) = (reference.network.part(target), net.part(target).cloned()) else { continue };
             if old.kind != PartKind::Capacitor {
                 continue;
             }
             let lost = old.loss_ohm(centre) - new.loss_ohm(centre);
-            if lost <= 1e-6 {
+            if lost < SMALLEST_FITTED_OHM {
                 continue;
             }
-            let name = format!("{target}-esr");
+            let stock = round_to(series, lost);
             let node = format!("{target}~esr");
             let a = new.between[0].clone();
             if let Some(p) = net.part_mut(target) {
                 p.between[0] = node.clone();
             }
-            net.parts.push(new_resistor(&name, &a, &node, lost));
-            parts.push((target.clone(), lost));
+            net.parts.push(new_resistor(&format!("{target}-esr"), &a, &node, stock));
+            parts.push((target.clone(), stock));
         }
         if !parts.is_empty() {
             let j = judge(job, &net, freqs, bands, reference, di)?;
-            let better = if (j.rms - fix.rms).abs() < 0.005 {
-                "matches the original as closely as the input resistor".to_string()
-            } else if j.rms < fix.rms {
-                format!("is closer to the original: {:.3} dB RMS against {:.3} dB", j.rms, fix.rms)
-            } else {
-                format!("is further from the original: {:.3} dB RMS against {:.3} dB", j.rms, fix.rms)
-            };
+            let n = parts.len();
+            let closer = j.rms + 0.005 < mine.rms;
+            let same = (j.rms - mine.rms).abs() <= 0.005;
             plan.alternatives.push(Alternative {
-                kind: "in-place",
-                driver: fit.driver.clone(),
+                kind: AlternativeKind::InPlace,
+                driver: driver.clone(),
                 parts: parts.clone(),
                 description: format!(
-                    "restoring in place: {} (exact values; rebuilds the original network when ESR is constant)",
-                    parts.iter().map(|(p, r)| format!("{} ohm in series with {p}", crate::units::trim_number(*r, 3))).collect::<Vec<_>>().join(", ")
+                    "Restoring in place for {driver}: {}, equal to the ESR the new part lost at {} ({} values).",
+                    parts.iter().map(|(p, r)| format!("{} in series with {p}", ohm(*r))).collect::<Vec<_>>().join(", "),
+                    crate::units::hz(Some(centre)),
+                    series.name()
                 ),
                 residual_db: j.rms,
                 worst_db: j.worst,
                 crossover_hz: j.crossover,
                 reference_crossover_hz: ref_x,
-                input_fix_crossover_hz: fix.crossover,
-                input_fix_residual_db: fix.rms,
-                verdict: format!("{better}; {}", shift_text(j.crossover, fix.crossover, ref_x)),
+                plan_crossover_hz: mine.crossover,
+                plan_residual_db: mine.rms,
+                verdict: format!(
+                    "It {} ({} dB RMS against {} dB for {plan_name}); {}.",
+                    if same {
+                        format!("matches the {} level as closely as the plan", first.reference.adjective())
+                    } else if closer {
+                        format!("comes closer to the {} level", first.reference.adjective())
+                    } else {
+                        format!("is further from the {} level", first.reference.adjective())
+                    },
+                    db3(j.rms),
+                    db3(mine.rms),
+                    crossover_clause(j.crossover, mine.crossover, ref_x, &plan_name)
+                ),
+                why_plan: if closer {
+                    format!(
+                        "The plan keeps {plan_name} as the job's changes record it: {} against {n} resistor{} to mount, for a level difference under {} dB; restoring in place is the closer match and the technician's choice.",
+                        if plan_parts.len() == 1 { "one part".to_string() } else { format!("{} parts", plan_parts.len()) },
+                        if n == 1 { "" } else { "s" },
+                        db3((mine.rms - j.rms).max(0.0))
+                    )
+                } else {
+                    format!("The plan keeps {plan_name}: it matches at least as closely with {}.", if plan_parts.len() <= n { "no more parts" } else { "a simpler board" })
+                },
             });
         }
     }

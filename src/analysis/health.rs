@@ -1,54 +1,131 @@
-//! Part health from the bench readings: values outside tolerance, capacitor loss above what
-//! its type normally shows, inductor DCR risen; each with the size of its effect on the
-//! driver's level.
+//! Part health from the bench readings: values outside tolerance (the job's, or the usual one
+//! for the part's type), parts that read open or shorted, capacitor loss above what its type
+//! allows at the frequency its makers state it, inductor DCR risen. One finding per part,
+//! with the effect of that part's whole reading on the driver it moves most.
 
-use crate::analysis::{mean_over, Band, Scene};
-use crate::engine::{self, Circuit};
-use crate::model::{Job, Part, PartKind, Patch};
+use crate::analysis::{driver_levels, mean_over, Band, Scene};
+use crate::model::{Job, Part, PartKind, PartPatch, Patch, Rating};
+use crate::units::{format_si, hz, ohm, trim_number, Quantity};
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Flag {
     pub part: String,
+    /// Each thing the reading shows, as a sentence; together they are one reading.
+    pub findings: Vec<String>,
+    /// The findings joined, for one line of text.
     pub message: String,
-    /// The largest change of any driver's band level that this one reading causes (dB).
+    /// The largest change of any driver's band level that this part's whole reading causes
+    /// on the original design (dB).
     pub effect_db: f64,
     pub effect_driver: String,
 }
 
-/// Typical upper dissipation factor by capacitor type near 1 kHz. Film figures are the film
-/// makers' dielectric guides; electrolytic ones the makers' general specifications at 120 Hz
-/// (check-values.md). We flag at twice these (common practice: a margin for the meter).
-fn typical_tan_delta(type_text: &str, rating_v: Option<f64>) -> Option<(f64, &'static str)> {
+/// A capacitor type's loss limit: the largest dissipation factor its makers allow, the
+/// frequency they state it at, and the type's usual capacitance tolerance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TypeLimits {
+    pub name: &'static str,
+    pub tan_delta: f64,
+    pub at_hz: f64,
+    pub tolerance: f64,
+}
+
+/// Loss limits by capacitor type. Films: the film makers' dielectric guides, stated at 1 kHz.
+/// Aluminium electrolytics: the makers' general specifications by rated voltage, stated at
+/// 120 Hz as IEC 60384-4 has it (the standard's clause recalled from memory). Usual
+/// tolerances (common practice): electrolytics 20 %, polyester 10 %, polypropylene and PPS 5 %.
+pub fn type_limits(type_text: &str, rating_v: Option<f64>) -> Option<TypeLimits> {
     let t = type_text.to_lowercase();
-    if t.contains("polypropylene") || t.contains("pp ") || t == "pp" {
-        Some((0.0005, "polypropylene film"))
+    let film = |name, tan_delta, tolerance| Some(TypeLimits { name, tan_delta, at_hz: 1000.0, tolerance });
+    if t.contains("polypropylene") || t.split_whitespace().any(|w| w == "pp") {
+        film("polypropylene film", 0.0005, 0.05)
     } else if t.contains("polyester") || t.contains("pet") || t.contains("mylar") {
-        Some((0.008, "polyester film"))
+        film("polyester film", 0.008, 0.10)
     } else if t.contains("pps") {
-        Some((0.002, "PPS film"))
-    } else if t.contains("electrolytic") || t.contains("bipolar") || t.contains("np") {
+        film("PPS film", 0.002, 0.05)
+    } else if t.contains("electrolytic") || t.contains("bipolar") || t.split_whitespace().any(|w| w == "np") {
         let v = rating_v.unwrap_or(50.0);
         let table = [(6.3, 0.22), (10.0, 0.19), (16.0, 0.16), (25.0, 0.14), (35.0, 0.12), (50.0, 0.10), (63.0, 0.09), (100.0, 0.08)];
         let d = table.iter().rev().find(|(rv, _)| v >= *rv).map(|(_, d)| *d).unwrap_or(0.22);
-        Some((d, "aluminium electrolytic"))
+        Some(TypeLimits { name: "aluminium electrolytic", tan_delta: d, at_hz: 120.0, tolerance: 0.20 })
     } else {
         None
     }
 }
 
+/// The tolerance a reading is judged against, and where it comes from.
+fn tolerance_of(p: &Part) -> (f64, String) {
+    if let Some(t) = p.tolerance {
+        return (t, format!("its {} % tolerance", trim_number(t * 100.0, 3)));
+    }
+    let rating = if let Rating::Given(v) = p.rating { Some(v) } else { None };
+    let usual = match p.kind {
+        PartKind::Capacitor => p
+            .type_text
+            .as_deref()
+            .and_then(|t| type_limits(t, rating))
+            .map(|l| (l.tolerance, format!("the {} % usual for {}", trim_number(l.tolerance * 100.0, 3), article(l.name)))),
+        _ => None,
+    };
+    usual.unwrap_or_else(|| {
+        let t = match p.kind {
+            PartKind::Capacitor => 0.10,
+            PartKind::Inductor | PartKind::Resistor => 0.05,
+        };
+        (
+            t,
+            format!(
+                "the {} % usual for {} {} (no tolerance in the job; common practice)",
+                trim_number(t * 100.0, 3),
+                if p.kind == PartKind::Inductor { "an" } else { "a" },
+                p.kind.name()
+            ),
+        )
+    })
+}
+
+fn article(name: &str) -> String {
+    if name.starts_with(['a', 'e', 'i', 'o', 'u']) {
+        format!("an {name}")
+    } else {
+        format!("a {name}")
+    }
+}
+
+fn quantity(kind: PartKind) -> Quantity {
+    match kind {
+        PartKind::Capacitor => Quantity::Capacitance,
+        PartKind::Inductor => Quantity::Inductance,
+        PartKind::Resistor => Quantity::Resistance,
+    }
+}
+
+/// A value reading far from nominal, in words: a factor of ten either way is not drift.
+fn gross(p: &Part, v: f64) -> Option<String> {
+    let ratio = v / p.value;
+    let read = format!("reads {} against {} nominal", format_si(v, quantity(p.kind), 3), format_si(p.value, quantity(p.kind), 3));
+    match p.kind {
+        PartKind::Resistor if ratio > 10.0 => Some(format!("{read}: it is open or burnt out and must be replaced")),
+        PartKind::Resistor if ratio < 0.1 => Some(format!("{read}: it is shorted (or the reading was taken across a short) and must be replaced")),
+        PartKind::Capacitor if ratio < 0.1 => Some(format!("{read}: it has lost nearly all its capacitance (open or dried out) and must be replaced")),
+        PartKind::Capacitor if ratio > 10.0 => Some(format!("{read}: the reading is implausible for this part; measure it again out of circuit")),
+        PartKind::Inductor if ratio < 0.1 => Some(format!("{read}: it has shorted turns and must be replaced")),
+        PartKind::Inductor if ratio > 10.0 => Some(format!("{read}: the reading is implausible for this part; measure it again out of circuit")),
+        _ => None,
+    }
+}
+
+/// The change of each driver's band level when `apply` is made to the original design; the
+/// largest, with its driver.
 fn effect(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, part: &str, apply: impl Fn(&mut Part)) -> (f64, String) {
-    let mut net = job.network.clone();
+    let mut net = designed.network.clone();
     if let Some(p) = net.part_mut(part) {
         apply(p);
     }
-    let Ok(c) = Circuit::from_network(&net, &job.amplifier) else { return (0.0, String::new()) };
-    let mut ws = engine::Workspace::new(&c);
+    let Ok(db) = driver_levels(&net, job, freqs) else { return (0.0, String::new()) };
     let mut best = (0.0f64, String::new());
-    for (di, d) in job.network.drivers.iter().enumerate() {
-        let Some(k) = c.element(&d.name) else { continue };
-        let lv: Vec<f64> =
-            bands[di].idx.iter().map(|&i| engine::solve_point(&c, freqs[i], &mut ws).map(|()| 10.0 * ws.across(&c, k).norm_sqr().log10()).unwrap_or(f64::NAN)).collect();
-        let m = lv.iter().sum::<f64>() / lv.len().max(1) as f64 - mean_over(&designed.db[di], &bands[di].idx);
+    for (di, d) in designed.network.drivers.iter().enumerate() {
+        let m = mean_over(&db[di], &bands[di].idx) - mean_over(&designed.db[di], &bands[di].idx);
         if m.is_finite() && m.abs() > best.0.abs() {
             best = (m, d.name.clone());
         }
@@ -56,63 +133,76 @@ fn effect(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, part: &str
     best
 }
 
-pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], scenes: &[Scene; 3]) -> Vec<Flag> {
+/// What one part's reading shows, as sentences.
+fn findings(p: &Part, m: &PartPatch) -> Vec<String> {
+    let mut out = Vec::new();
+    if let Some(v) = m.value {
+        if let Some(g) = gross(p, v) {
+            out.push(g);
+        } else {
+            let dev = v / p.value - 1.0;
+            let (t, from) = tolerance_of(p);
+            if dev.abs() > t {
+                out.push(format!("measures {:+.1} % from nominal, outside {from}", dev * 100.0));
+            }
+        }
+    }
+    if p.kind == PartKind::Capacitor {
+        let c = m.value.unwrap_or(p.value);
+        let rating = if let Rating::Given(v) = p.rating { Some(v) } else { None };
+        if let Some(l) = p.type_text.as_deref().and_then(|t| type_limits(t, rating)) {
+            // The reading at the frequency the limit is stated at, by the job's loss model: a
+            // constant ESR gives tan d = 2 pi f C ESR, a constant tan d is the same everywhere.
+            let at_limit = match (m.tan_delta, m.esr) {
+                (Some(d), _) => Some((d, format!("a constant dissipation factor of {}", trim_number(d, 3)))),
+                (None, Some(esr)) => Some((
+                    2.0 * std::f64::consts::PI * l.at_hz * c * esr,
+                    format!("ESR {}{} taken as constant, as the job's loss model has it", ohm(esr), m.at_hz.map(|f| format!(" read at {}", hz(Some(f)))).unwrap_or_default()),
+                )),
+                _ => None,
+            };
+            // Twice the limit is flagged: a margin for the meter (common practice).
+            if let Some((td, how)) = at_limit {
+                if td > 2.0 * l.tan_delta {
+                    out.push(format!(
+                        "its dissipation factor at {} is {} ({how}), over twice the {} makers allow for {} there: the capacitor is ageing",
+                        hz(Some(l.at_hz)),
+                        trim_number(td, 3),
+                        trim_number(l.tan_delta, 3),
+                        article(l.name)
+                    ));
+                }
+            }
+        }
+    }
+    if p.kind == PartKind::Inductor {
+        if let Some(dcr) = m.dcr {
+            if p.dcr > 0.0 && dcr > 10.0 * p.dcr.max(0.05) {
+                out.push(format!("its DCR reads {} against {} nominal: the winding is open or a joint has failed", ohm(dcr), ohm(p.dcr)));
+            } else if p.dcr > 0.0 && dcr > p.dcr * 1.1 {
+                out.push(format!("its DCR has risen {:.0} % (from {} to {}): check its joints and windings", (dcr / p.dcr - 1.0) * 100.0, ohm(p.dcr), ohm(dcr)));
+            }
+        }
+    }
+    out
+}
+
+pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene) -> Vec<Flag> {
     let mut out = Vec::new();
     for r in &job.measured {
         let Patch::Part(m) = &r.patch else { continue };
         let Some(p) = job.network.part(&r.target) else { continue };
-        if let (Some(v), Some(t)) = (m.value, p.tolerance) {
-            let dev = v / p.value - 1.0;
-            if dev.abs() > t {
-                let (e, d) = effect(job, freqs, bands, &scenes[0], &p.name, |q| q.value = v);
-                out.push(Flag {
-                    part: p.name.clone(),
-                    message: format!("measures {:+.1} % from nominal, outside its {:.0} % tolerance", dev * 100.0, t * 100.0),
-                    effect_db: e,
-                    effect_driver: d,
-                });
-            }
+        let found = findings(p, m);
+        if found.is_empty() {
+            continue;
         }
-        if p.kind == PartKind::Capacitor {
-            let at = m.at_hz.unwrap_or(1000.0);
-            let c = m.value.unwrap_or(p.value);
-            let td = match (m.tan_delta, m.esr) {
-                (Some(d), _) => Some(d),
-                (None, Some(esr)) => Some(2.0 * std::f64::consts::PI * at * c * esr),
-                _ => None,
-            };
-            let rating = if let crate::model::Rating::Given(v) = p.rating { Some(v) } else { None };
-            if let (Some(td), Some((typ, name))) = (td, p.type_text.as_deref().and_then(|t| typical_tan_delta(t, rating))) {
-                if td > 2.0 * typ {
-                    let (e, d) = effect(job, freqs, bands, &scenes[0], &p.name, |q| m.apply_reading(q));
-                    out.push(Flag {
-                        part: p.name.clone(),
-                        message: format!(
-                            "dissipation factor {:.3} at {} Hz is over twice the {:.4} typical of {}: the capacitor is ageing",
-                            td,
-                            crate::units::trim_number(at, 3),
-                            typ,
-                            name
-                        ),
-                        effect_db: e,
-                        effect_driver: d,
-                    });
-                }
-            }
+        let (effect_db, effect_driver) = effect(job, freqs, bands, designed, &p.name, |q| m.apply_reading(q));
+        let mut message = found.join("; ");
+        if let Some(first) = message.get(..1) {
+            message = first.to_uppercase() + &message[1..];
         }
-        if p.kind == PartKind::Inductor {
-            if let Some(dcr) = m.dcr {
-                if p.dcr > 0.0 && dcr > p.dcr * 1.1 {
-                    let (e, d) = effect(job, freqs, bands, &scenes[0], &p.name, |q| q.dcr = dcr);
-                    out.push(Flag {
-                        part: p.name.clone(),
-                        message: format!("DCR has risen {:.0} % (from {:.3} to {:.3} ohm): check its joints and windings", (dcr / p.dcr - 1.0) * 100.0, p.dcr, dcr),
-                        effect_db: e,
-                        effect_driver: d,
-                    });
-                }
-            }
-        }
+        message.push('.');
+        out.push(Flag { part: p.name.clone(), findings: found, message, effect_db, effect_driver });
     }
     out
 }

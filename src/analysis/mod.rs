@@ -27,7 +27,7 @@ pub struct Scene {
     pub db: Vec<Vec<f64>>,
     /// Input impedance at every sweep point.
     pub z: Vec<Complex64>,
-    /// Per circuit element: its largest voltage, current and power over the sweep.
+    /// Per circuit element: its largest voltage, current and power over the stress grid.
     pub peaks: Vec<Peaks>,
 }
 
@@ -61,26 +61,27 @@ impl Peaks {
     }
 }
 
-/// What one pass over the sweep keeps: each driver's level, and as asked its voltage, the
-/// input impedance and each element's peaks.
+/// What one pass over the sweep keeps: each driver's level, and as asked its voltage and the
+/// input impedance.
 struct Pass {
     db: Vec<Vec<f64>>,
     h: Vec<Vec<Complex64>>,
     z: Vec<Complex64>,
-    peaks: Vec<Peaks>,
 }
 
-/// Solves `c` at every frequency of `freqs` once. With `weights` (the programme spectrum's, one
-/// per frequency) the pass also keeps the input impedance and each element's peaks; with
-/// `voltages`, each driver's complex voltage.
-fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>, voltages: bool) -> Result<Pass, SolveError> {
-    let drivers: Vec<usize> = network.drivers.iter().map(|d| c.element(&d.name).expect("every driver is an element")).collect();
+fn driver_elements(c: &Circuit, network: &Network) -> Result<Vec<usize>, SolveError> {
+    network.drivers.iter().map(|d| c.element(&d.name).ok_or_else(|| SolveError::Internal(format!("driver {} is not in its circuit", d.name)))).collect()
+}
+
+/// Solves `c` at every frequency of `freqs` once, keeping each driver's level, and with
+/// `impedance` the input impedance, with `voltages` each driver's complex voltage.
+fn pass(c: &Circuit, network: &Network, freqs: &[f64], impedance: bool, voltages: bool) -> Result<Pass, SolveError> {
+    let drivers = driver_elements(c, network)?;
     let per_point = |on: bool| if on { freqs.len() } else { 0 };
     let mut out = Pass {
         db: drivers.iter().map(|_| Vec::with_capacity(freqs.len())).collect(),
         h: drivers.iter().map(|_| Vec::with_capacity(per_point(voltages))).collect(),
-        z: Vec::with_capacity(per_point(weights.is_some())),
-        peaks: vec![Peaks::default(); if weights.is_some() { c.elements.len() } else { 0 }],
+        z: Vec::with_capacity(per_point(impedance)),
     };
     let mut first_error = None;
     let kernels = c.kernels();
@@ -89,7 +90,7 @@ fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>, 
         &mut Sweeper::new(c),
         freqs,
         |i, k| kernels[k].at(freqs[i]),
-        |i, point| match point {
+        |_, point| match point {
             Ok(p) => {
                 for (j, &k) in drivers.iter().enumerate() {
                     let v = p.across(c, k);
@@ -98,11 +99,8 @@ fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>, 
                         out.h[j].push(v);
                     }
                 }
-                if let Some(weights) = weights {
+                if impedance {
                     out.z.push(p.input_impedance(c));
-                    let w = weights[i];
-                    let peaks = &mut out.peaks;
-                    p.each_element(c, |k, v2, i2, power| peaks[k].add(i, v2, i2, power, w));
                 }
             }
             Err(e) => {
@@ -116,26 +114,75 @@ fn pass(c: &Circuit, network: &Network, freqs: &[f64], weights: Option<&[f64]>, 
     }
 }
 
+/// Each element's peaks over the stress grid `grid`, whose programme weights are `weights`.
+fn peaks_pass(c: &Circuit, grid: &[f64], weights: &[f64]) -> Result<Vec<Peaks>, SolveError> {
+    let mut peaks = vec![Peaks::default(); c.elements.len()];
+    let mut first_error = None;
+    let kernels = c.kernels();
+    engine::sweep(
+        c,
+        &mut Sweeper::new(c),
+        grid,
+        |i, k| kernels[k].at(grid[i]),
+        |i, point| match point {
+            Ok(p) => {
+                let w = weights[i];
+                p.each_element(c, |k, v2, i2, power| peaks[k].add(i, v2, i2, power, w));
+            }
+            Err(e) => {
+                first_error.get_or_insert(e);
+            }
+        },
+    );
+    match first_error {
+        Some(e) => Err(e),
+        None => Ok(peaks),
+    }
+}
+
 /// Each driver's level (dB re the EMF, network order) at every point of `freqs`: for a
 /// candidate network that is only compared, not reported.
 pub fn driver_levels(network: &Network, job: &Job, freqs: &[f64]) -> Result<Vec<Vec<f64>>, SolveError> {
     let c = Circuit::from_network(network, &job.amplifier)?;
-    Ok(pass(&c, network, freqs, None, false)?.db)
+    Ok(pass(&c, network, freqs, false, false)?.db)
+}
+
+/// The frequencies the stress figures are worked out on, whatever sweep the job chose for
+/// display: the programme's whole band and at least 20 Hz to 20 kHz for the sine search.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StressGrid {
+    pub freqs: Vec<f64>,
+    /// The fraction of the programme's power each point stands for.
+    pub weights: Vec<f64>,
+}
+
+impl StressGrid {
+    pub fn new(p: crate::model::Programme, sweep: &[f64]) -> StressGrid {
+        let freqs = programme::stress_grid(p, sweep);
+        let weights = programme::weights(p, &freqs);
+        StressGrid { freqs, weights }
+    }
 }
 
 impl Scene {
-    /// Solves `network` at every frequency of `freqs`; `weights` are the programme spectrum's
-    /// weights at those frequencies ([`programme::weights`]).
-    pub fn build(scenario: Scenario, network: Network, job: &Job, freqs: &[f64], weights: &[f64]) -> Result<Scene, SolveError> {
+    /// Solves `network` at every frequency of the sweep `freqs`, and for the stress figures
+    /// at every point of `grid`.
+    pub fn build(scenario: Scenario, network: Network, job: &Job, freqs: &[f64], grid: &StressGrid) -> Result<Scene, SolveError> {
         let circuit = Circuit::from_network(&network, &job.amplifier)?;
-        let Pass { db, z, peaks, .. } = pass(&circuit, &network, freqs, Some(weights), false)?;
+        let Pass { db, z, .. } = pass(&circuit, &network, freqs, true, false)?;
+        let peaks = peaks_pass(&circuit, &grid.freqs, &grid.weights)?;
         Ok(Scene { scenario, network, circuit, db, z, peaks })
     }
 
     /// Per driver (network order), the voltage across it per volt of EMF at every point of
     /// `freqs`, the sweep the scene was built on (solved again, to the same values).
     pub fn voltages(&self, freqs: &[f64]) -> Vec<Vec<Complex64>> {
-        pass(&self.circuit, &self.network, freqs, None, true).expect("the scene was solved on this sweep").h
+        match pass(&self.circuit, &self.network, freqs, false, true) {
+            Ok(p) => p.h,
+            // The scene was solved on this sweep, so it solves again; an empty answer is
+            // safer than a panic if it ever does not.
+            Err(_) => vec![Vec::new(); self.network.drivers.len()],
+        }
     }
 
     pub fn driver_index(&self, name: &str) -> Option<usize> {
@@ -148,7 +195,6 @@ impl Scene {
         self.voltages(freqs).iter().map(|h| h.iter().map(|v| engine::wrap_deg(v.arg().to_degrees())).collect()).collect()
     }
 }
-
 /// The sweep indices a driver's level is judged over.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Band {
@@ -213,7 +259,14 @@ pub struct LevelRow {
     /// The change as found -> as left, and a plain-language flag for it.
     pub found_to_left_db: f64,
     pub left_flag: String,
+    /// More than [`compensate::FAULT_DB`] below the original design: not a level difference
+    /// but a fault (a driver shorted or disconnected).
+    pub as_found_fault: bool,
+    pub as_left_fault: bool,
 }
+
+/// The flag for a level more than [`compensate::FAULT_DB`] below its reference.
+pub const FAULT_FLAG: &str = "fault: driver shorted or disconnected";
 
 /// A flag for a level difference from the as-designed voicing. Just-noticeable broadband
 /// level change is about 0.4 dB (Ballou, Handbook for Sound Engineers, 3.8.6); the 0.5 dB
@@ -250,6 +303,8 @@ pub struct CornerRow {
 #[derive(Debug, Clone)]
 pub struct Findings {
     pub freqs: Vec<f64>,
+    /// The stress figures' own grid (see [`StressGrid`]).
+    pub grid: StressGrid,
     pub scenes: [Scene; 3],
     pub bands: Vec<Band>,
     pub levels: Vec<LevelRow>,
@@ -288,9 +343,9 @@ pub fn frequency_order(bands: &[Band]) -> Vec<usize> {
 
 pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
     let freqs = job.analysis.sweep.frequencies();
-    let weights = programme::weights(job.analysis.programme, &freqs);
-    let designed = Scene::build(Scenario::AsDesigned, job.network.clone(), job, &freqs, &weights).map_err(|e| AnalysisError::Solve(Scenario::AsDesigned, e))?;
-    let found = Scene::build(Scenario::AsFound, job.as_found(), job, &freqs, &weights).map_err(|e| AnalysisError::Solve(Scenario::AsFound, e))?;
+    let grid = StressGrid::new(job.analysis.programme, &freqs);
+    let designed = Scene::build(Scenario::AsDesigned, job.network.clone(), job, &freqs, &grid).map_err(|e| AnalysisError::Solve(Scenario::AsDesigned, e))?;
+    let found = Scene::build(Scenario::AsFound, job.as_found(), job, &freqs, &grid).map_err(|e| AnalysisError::Solve(Scenario::AsFound, e))?;
     let unsolved = job.as_left_unsolved().map_err(AnalysisError::Step)?;
 
     // Bands: the compensate entry's band where one names the driver, else the passband.
@@ -306,7 +361,7 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
         .collect();
 
     let plan = compensate::plan(job, &freqs, &bands, &designed, &found, &unsolved).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
-    let left = Scene::build(Scenario::AsLeft, plan.network.clone(), job, &freqs, &weights).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
+    let left = Scene::build(Scenario::AsLeft, plan.network.clone(), job, &freqs, &grid).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
 
     let scenes = [designed, found, left];
     let levels = job
@@ -328,7 +383,9 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
                 as_found_db: found_db,
                 as_left_db: left_db,
                 found_to_left_db: left_db - found_db,
-                left_flag: level_flag(left_db).into(),
+                left_flag: if left_db < -compensate::FAULT_DB { FAULT_FLAG.into() } else { level_flag(left_db).into() },
+                as_found_fault: found_db < -compensate::FAULT_DB,
+                as_left_fault: left_db < -compensate::FAULT_DB,
             }
         })
         .collect();
@@ -364,12 +421,12 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
 
     let rated = job.rated_impedance_ohm();
     let loads = [0, 1, 2].map(|i| load::load(&freqs, &scenes[i].z, rated, job.info.rated_range));
-    let stress = stress::stress(job, &freqs, &scenes);
-    let health = health::flags(job, &freqs, &bands, &scenes);
+    let stress = stress::stress(job, &grid.freqs, &scenes);
+    let health = health::flags(job, &freqs, &bands, &scenes[0]);
     let tolerance = job.analysis.tolerance.as_ref().map(|t| tolerance::run(job, t, &freqs, &bands, &scenes));
     let acoustic = acoustic_sum(&scenes, &freqs);
 
-    Ok(Findings { freqs, scenes, bands, levels, crossovers, corners: corners_rows, compensation: plan, stress, loads, health, tolerance, acoustic })
+    Ok(Findings { freqs, grid, scenes, bands, levels, crossovers, corners: corners_rows, compensation: plan, stress, loads, health, tolerance, acoustic })
 }
 
 /// The complex sum of every driver's measured response (at 2.83 V) scaled by the voltage the

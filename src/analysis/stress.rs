@@ -7,7 +7,7 @@ use crate::analysis::programme;
 use crate::analysis::Scene;
 use crate::engine::ElementModel;
 use crate::model::{Job, PartKind, Programme, Rating, Scenario};
-use crate::units::{hz, trim_number};
+use crate::units::{a_or_an, hz, trim_number};
 
 /// Stock resistor wattages a rating is chosen from (common practice for crossover resistors).
 pub const STOCK_WATTS: [f64; 9] = [3.0, 5.0, 10.0, 15.0, 20.0, 25.0, 50.0, 75.0, 100.0];
@@ -59,10 +59,16 @@ pub struct DriverPower {
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Stress {
+    /// The sine drive: the amplifier's full rated power.
     pub e_rms: f64,
+    /// The programme drive: its long-term power, by default one eighth of rated.
+    pub programme_e_rms: f64,
+    pub programme_w: f64,
     pub amplifier: String,
     pub programme: Programme,
     pub programme_text: &'static str,
+    /// How the two drive levels were chosen, in a sentence.
+    pub basis: String,
     pub rows: Vec<StressRow>,
     pub drivers: Vec<DriverPower>,
 }
@@ -76,6 +82,8 @@ pub fn choose_rating(programme_w: f64) -> f64 {
 pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
     let e = job.amplifier.e_rms();
     let e2 = e * e;
+    let ep = job.amplifier.programme_e_rms();
+    let ep2 = ep * ep;
     let mut rows = Vec::new();
     let mut drivers = Vec::new();
     for s in scenes {
@@ -83,7 +91,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
             // The scene's peaks are per volt of EMF, with the programme weights of the job.
             let pk = &s.peaks[k];
             let sine = (e2 * pk.power.0, freqs[pk.power.1]);
-            let prog = e2 * pk.programme;
+            let prog = ep2 * pk.programme;
             let (v2max, i2max) = ((pk.v2.0, freqs[pk.v2.1]), (pk.i2.0, freqs[pk.i2.1]));
             let peak = (std::f64::consts::SQRT_2 * e * v2max.0.sqrt(), v2max.1);
             let irms = (e * i2max.0.sqrt(), i2max.1);
@@ -102,7 +110,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                             trim_number(r, 3)
                         ),
                     ),
-                    Some(r) => ("ok", format!("{} W of programme against a {} W rating", trim_number(prog, 3), trim_number(r, 3))),
+                    Some(r) => ("ok", format!("{} W of programme against {} {} W rating", trim_number(prog, 3), a_or_an(r), trim_number(r, 3))),
                     None => ("ok", "no power rating on record for this driver".to_string()),
                 };
                 drivers.push(DriverPower {
@@ -147,9 +155,14 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                         Rating::None => None,
                     };
                     row.rating_w = rating;
-                    let zero = matches!(el.model, ElementModel::Resistor { r } if r == 0.0);
-                    (row.verdict, row.reason) = if zero {
-                        ("ok", "not fitted (0 ohm)".to_string())
+                    let r_ohm = match el.model {
+                        ElementModel::Resistor { r } => r,
+                        _ => f64::NAN,
+                    };
+                    (row.verdict, row.reason) = if r_ohm == 0.0 {
+                        ("ok", "not fitted: a wire link (0 ohm) in its place".to_string())
+                    } else if r_ohm.is_infinite() {
+                        ("ok", "not fitted: left open".to_string())
                     } else {
                         match rating {
                             None => (
@@ -159,9 +172,10 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                             Some(r) if prog > r => (
                                 "over",
                                 format!(
-                                    "dissipates {} W on programme, above its {} W rating: fit a {} W part",
+                                    "dissipates {} W on programme, above its {} W rating: fit {} {} W part",
                                     trim_number(prog, 3),
                                     trim_number(r, 3),
+                                    a_or_an(choose_rating(prog)),
                                     trim_number(choose_rating(prog), 3)
                                 ),
                             ),
@@ -172,16 +186,24 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                             Some(r) if sine.0 > r => (
                                 "check",
                                 format!(
-                                    "a full-level test tone near {} overheats {} ({} W in a {} W part): keep bench test levels low",
+                                    "a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low",
                                     hz(Some(sine.1)),
                                     el.name,
                                     trim_number(sine.0, 3),
+                                    a_or_an(r),
                                     trim_number(r, 3)
                                 ),
                             ),
-                            Some(r) => {
-                                ("ok", format!("{} W on programme, {} W with a full-level sine, in a {} W part", trim_number(prog, 2), trim_number(sine.0, 2), trim_number(r, 3)))
-                            }
+                            Some(r) => (
+                                "ok",
+                                format!(
+                                    "{} W on programme, {} W with a full-level sine, in {} {} W part",
+                                    trim_number(prog, 2),
+                                    trim_number(sine.0, 2),
+                                    a_or_an(r),
+                                    trim_number(r, 3)
+                                ),
+                            ),
                         }
                     };
                 }
@@ -199,7 +221,7 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                         Some(r) if peak.0 > CAPACITOR_MARGIN * r => {
                             ("check", format!("peaks at {} V, above 80 % of its {} V rating (common practice)", trim_number(peak.0, 3), trim_number(r, 3)))
                         }
-                        Some(r) => ("ok", format!("peaks at {} V near {} against a {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), trim_number(r, 3))),
+                        Some(r) => ("ok", format!("peaks at {} V near {} against {} {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), a_or_an(r), trim_number(r, 3))),
                     };
                 }
                 PartKind::Inductor => {
@@ -220,11 +242,32 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
             rows.push(row);
         }
     }
+    let amp = &job.amplifier;
+    let pw = amp.programme_power_w();
+    let share = match amp.programme_w {
+        Some(_) => "as the job gives it".to_string(),
+        None => "one eighth of the rated power, the level IEC 62368-1 uses for an audio amplifier in normal operation with pink noise (recalled from memory)".to_string(),
+    };
+    let basis = format!(
+        "Sine figures: a full-level sine of {} V RMS ({} W into {} ohm) at the worst frequency from {} to {}, the bench-tone worst case. Programme figures: {} at {} W into {} ohm ({} V RMS), {share}; noise peaks 1.8 to 4 times its RMS, so an amplifier cannot deliver noise at its full sine power unclipped.",
+        trim_number(e, 3),
+        trim_number(amp.power_w, 3),
+        trim_number(amp.into_ohm, 3),
+        hz(freqs.first().copied()),
+        hz(freqs.last().copied()),
+        programme::describe(job.analysis.programme),
+        trim_number(pw, 3),
+        trim_number(amp.into_ohm, 3),
+        trim_number(ep, 3),
+    );
     Stress {
         e_rms: e,
-        amplifier: format!("{} W into {} ohm ({} V RMS)", trim_number(job.amplifier.power_w, 3), trim_number(job.amplifier.into_ohm, 3), trim_number(e, 3)),
+        programme_e_rms: ep,
+        programme_w: pw,
+        amplifier: format!("{} W into {} ohm ({} V RMS)", trim_number(amp.power_w, 3), trim_number(amp.into_ohm, 3), trim_number(e, 3)),
         programme: job.analysis.programme,
         programme_text: programme::describe(job.analysis.programme),
+        basis,
         rows,
         drivers,
     }

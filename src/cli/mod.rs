@@ -44,6 +44,7 @@ enum Command {
     },
     /// Solve the job and print the compensation plan, levels, load and stress
     Solve {
+        /// The job file (YAML)
         job: PathBuf,
         /// text for people, json for other programs
         #[arg(long, value_enum, default_value_t = Format::Text)]
@@ -51,6 +52,7 @@ enum Command {
     },
     /// Write the PDF service report
     Report {
+        /// The job file (YAML)
         job: PathBuf,
         /// Where to write the PDF (default: beside the job, same name)
         #[arg(short, long)]
@@ -59,12 +61,14 @@ enum Command {
         #[arg(long)]
         template: Option<String>,
     },
-    /// Write the plots alone
+    /// Write the plots alone, named after the job (JOB-response.svg, ...)
     Plot {
+        /// The job file (YAML)
         job: PathBuf,
         /// Folder for the plot files
         #[arg(long)]
         out: PathBuf,
+        /// svg for documents, png for viewing
         #[arg(long, value_enum, default_value_t = PlotFormat::Svg)]
         format: PlotFormat,
     },
@@ -172,7 +176,7 @@ fn solve(path: &Path, format: Format) -> u8 {
         Err(c) => return c,
     };
     match format {
-        Format::Text => out(&results::text(&job, &f)),
+        Format::Text => out(&results::wrap(&results::text(&job, &f), text_width())),
         Format::Json => match serde_json::to_string_pretty(&results::json(&job, &f)) {
             Ok(s) => out(&(s + "\n")),
             Err(e) => {
@@ -238,11 +242,14 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
         return FAILURE;
     }
     let mut written = String::new();
-    for (name, svg) in report::plots::all(&job, &f) {
+    // Named after the job, so the plots of several jobs can share a folder.
+    let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into());
+    for (kind, svg) in report::plots::all(&job, &f) {
+        let name = kind.name();
         let (file, bytes) = match format {
-            PlotFormat::Svg => (dir.join(format!("{name}.svg")), svg.into_bytes()),
+            PlotFormat::Svg => (dir.join(format!("{stem}-{name}.svg")), svg.into_bytes()),
             PlotFormat::Png => match report::plots::svg_to_png(&svg) {
-                Ok(b) => (dir.join(format!("{name}.png")), b),
+                Ok(b) => (dir.join(format!("{stem}-{name}.png")), b),
                 Err(e) => {
                     eprintln!("voicekeep: internal error drawing {name}.png: {e}; please report this");
                     return FAILURE;
@@ -258,9 +265,60 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
     out(&written)
 }
 
+/// The width `solve` wraps its text to: the terminal's, or 100 columns when the output is
+/// not a terminal.
+fn text_width() -> usize {
+    match terminal_size::terminal_size() {
+        Some((terminal_size::Width(w), _)) if w >= 40 => w as usize,
+        _ => 100,
+    }
+}
+
+/// The `job:` block a starter prints: placeholders a shop fills in, never a sample's
+/// invented shop and customer.
+const STARTER_JOB: &str = "job:
+  number: JOB-0001                  # your job number
+  date: 2026-01-31                  # the report's date (never the clock): today's, as YYYY-MM-DD
+  work: what was done, in a line
+  technician: your name
+  shop: { name: your shop's name, address: \"street, town\", contact: phone or e-mail }
+  customer: { name: the customer's name, reference: their reference for the speaker }
+  speaker:
+    description: the speaker, in a line
+    serials: [serial of each cabinet]
+    rated_impedance: 8 ohm          # from the speaker's plate
+  notes: |
+    Bench notes, printed as written.
+";
+
+/// A sample job with its opening comment and its `job:` block replaced by placeholders
+/// ([`STARTER_JOB`]).
+fn starter(name: &str, sample: &str) -> String {
+    let mut out = format!(
+        "# voicekeep starter job, from the {name} example. Fill in the job block, then replace the\n# network, readings and changes with your speaker's; `voicekeep check` lists every problem.\n# Values are \"number unit\" (3.3 uF, 0.27 mH, 2.2 ohm) or the RKM code printed on parts (2R2, 4u7).\n"
+    );
+    let mut skipping = false;
+    for line in sample.lines().skip_while(|l| l.starts_with('#') || l.trim().is_empty()) {
+        if line.starts_with("job:") {
+            out.push_str(STARTER_JOB);
+            skipping = true;
+            continue;
+        }
+        if skipping && !line.is_empty() && !line.starts_with(' ') && !line.starts_with('#') {
+            skipping = false;
+            out.push('\n');
+        }
+        if !skipping {
+            out.push_str(line);
+            out.push('\n');
+        }
+    }
+    out
+}
+
 fn new(example: &str) -> u8 {
     match STARTERS.iter().find(|(n, _)| *n == example) {
-        Some((_, text)) => out(text),
+        Some((name, text)) => out(&starter(name, text)),
         None => {
             let names: Vec<&str> = STARTERS.iter().map(|(n, _)| *n).collect();
             eprintln!("voicekeep: no starter job called \"{example}\"; choose one of: {}", names.join(", "));

@@ -160,6 +160,8 @@ pub enum SolveError {
     /// The matrix is singular at this frequency (a short across the source, a loop of
     /// zero-impedance parts).
     Singular { f_hz: f64, nodes: Vec<String>, parts: Vec<String> },
+    /// A broken invariant of voicekeep's own, never a problem in the job.
+    Internal(String),
 }
 
 impl fmt::Display for SolveError {
@@ -181,6 +183,7 @@ impl fmt::Display for SolveError {
                 nodes.join(", "),
                 parts.join(", ")
             ),
+            SolveError::Internal(m) => write!(f, "internal error: {m}; please report this"),
         }
     }
 }
@@ -560,7 +563,7 @@ impl Workspace {
     pub fn current(&self, c: &Circuit, k: usize) -> Complex64 {
         match self.zero.iter().find(|z| z.0 == k) {
             Some(z) => z.1,
-            None => self.across(c, k) / self.z(k),
+            None => self.across(c, k) * inv(self.z(k)),
         }
     }
 
@@ -572,21 +575,26 @@ impl Workspace {
 
 const ZERO_OHM: f64 = 1e-12;
 
-/// 1 / z with one division (num-complex's `inv` takes two).
+/// 1 / z with one division (num-complex's `inv` takes two). An infinite impedance (a part
+/// left open) has no admittance.
 #[inline]
 pub fn inv(z: Complex64) -> Complex64 {
-    let s = 1.0 / z.norm_sqr();
+    let m = z.norm_sqr();
+    if m.is_infinite() {
+        return C0;
+    }
+    let s = 1.0 / m;
     Complex64::new(z.re * s, -z.im * s)
 }
 
 /// 1 / z in every lane, written so the divisions pack into vector instructions; a lane whose
-/// z is zero or not finite is marked not ok.
+/// z is zero or NaN is marked not ok. An infinite z (a part left open) gives no admittance.
 #[inline]
 fn inv_lanes<const L: usize>(z: &[Complex64; L], ok: &mut [bool; L]) -> [Complex64; L] {
     let mut m = [0.0; L];
     for l in 0..L {
         m[l] = z[l].norm_sqr();
-        ok[l] &= m[l] >= ZERO_OHM * ZERO_OHM && m[l].is_finite();
+        ok[l] &= m[l] >= ZERO_OHM * ZERO_OHM && !m[l].is_nan();
     }
     let mut s = [0.0; L];
     for l in 0..L {
@@ -594,7 +602,7 @@ fn inv_lanes<const L: usize>(z: &[Complex64; L], ok: &mut [bool; L]) -> [Complex
     }
     let mut y = [C0; L];
     for l in 0..L {
-        y[l] = Complex64::new(z[l].re * s[l], -z[l].im * s[l]);
+        y[l] = if m[l].is_finite() { Complex64::new(z[l].re * s[l], -z[l].im * s[l]) } else { C0 };
     }
     y
 }
@@ -871,7 +879,10 @@ impl Solved<'_> {
             Solved::One(ws) => {
                 for k in 0..c.elements.len() {
                     let i2 = ws.current(c, k).norm_sqr();
-                    f(k, ws.across(c, k).norm_sqr(), i2, i2 * ws.z(k).re);
+                    let v2 = ws.across(c, k).norm_sqr();
+                    // |I|^2 Re Z, as |V|^2 Re Y where Z may be infinite (a part left open).
+                    let power = if ws.z(k).norm_sqr().is_finite() { i2 * ws.z(k).re } else { 0.0 };
+                    f(k, v2, i2, power);
                 }
             }
         }

@@ -325,8 +325,8 @@ fn decode_info(node: &Node, ctx: &mut Ctx) -> Option<JobInfo> {
     }
     if let Some(n) = ctx.req(&f, "date", "the report's date, as 2026-11-28") {
         if let Some(t) = ctx.text(n, &f.at("date")) {
-            if valid_iso_date(&t) {
-                info.date = t;
+            if let Some(d) = Date::parse_iso(&t) {
+                info.date = d;
             } else {
                 ctx.error(
                     n.pos(),
@@ -373,26 +373,34 @@ fn decode_info(node: &Node, ctx: &mut Ctx) -> Option<JobInfo> {
     Some(info)
 }
 
-fn valid_iso_date(t: &str) -> bool {
-    let parts: Vec<&str> = t.split('-').collect();
-    if parts.len() != 3 || parts[0].len() != 4 || parts[1].len() != 2 || parts[2].len() != 2 {
-        return false;
-    }
-    let (Ok(y), Ok(m), Ok(d)) = (parts[0].parse::<u32>(), parts[1].parse::<u32>(), parts[2].parse::<u32>()) else { return false };
-    let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
-    let days = [31, if leap { 29 } else { 28 }, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31];
-    (1..=12).contains(&m) && d >= 1 && d <= days[(m - 1) as usize]
-}
-
 fn decode_amplifier(node: &Node, ctx: &mut Ctx) -> Option<Amplifier> {
-    let f = ctx.fields(node, "amplifier", &["power", "into", "output_impedance"])?;
+    let f = ctx.fields(node, "amplifier", &["power", "into", "output_impedance", "programme_power"])?;
     let power = ctx.req(&f, "power", "continuous power rating, e.g. 60 W").and_then(|n| ctx.positive(n, &f.at("power"), Quantity::Power, false));
     let into = ctx.req(&f, "into", "the load the power is rated into, e.g. 8 ohm").and_then(|n| ctx.positive(n, &f.at("into"), Quantity::Resistance, false));
     let out = match f.get("output_impedance") {
         Some(n) => ctx.positive(n, &f.at("output_impedance"), Quantity::Resistance, true),
         None => Some(0.0),
     };
-    Some(Amplifier { power_w: power?, into_ohm: into?, output_ohm: out? })
+    let programme = match f.get("programme_power") {
+        Some(n) => match (ctx.positive(n, &f.at("programme_power"), Quantity::Power, false), power) {
+            (Some(p), Some(rated)) if p > rated => {
+                ctx.error(
+                    n.pos(),
+                    &f.at("programme_power"),
+                    format!(
+                        "a programme power of {} is above the amplifier's rated {}",
+                        crate::units::format_si(p, Quantity::Power, 3),
+                        crate::units::format_si(rated, Quantity::Power, 3)
+                    ),
+                    Some("the programme's long-term power is a fraction of the rated sine power (one eighth when not given)".into()),
+                );
+                None
+            }
+            (p, _) => p.map(Some),
+        },
+        None => Some(None),
+    };
+    Some(Amplifier { power_w: power?, into_ohm: into?, output_ohm: out?, programme_w: programme? })
 }
 
 fn map_entries<'n>(node: &'n Node, path: &str, ctx: &mut Ctx) -> &'n [(Key, Node)] {
@@ -710,15 +718,15 @@ fn decode_model(node: &Node, path: &str, ctx: &mut Ctx) -> Option<DriverModel> {
 
 enum Target<'a> {
     Part(&'a Part),
-    Driver,
+    Driver(&'a Driver),
 }
 
 fn find_target<'a>(net: &'a Network, extra: &[String], key: &str, pos: Pos, path: &str, ctx: &mut Ctx) -> Option<Target<'a>> {
     if let Some(p) = net.part(key) {
         return Some(Target::Part(p));
     }
-    if net.driver(key).is_some() {
-        return Some(Target::Driver);
+    if let Some(d) = net.driver(key) {
+        return Some(Target::Driver(d));
     }
     if extra.iter().any(|e| e == key) || ctx.failed.iter().any(|e| e == key) {
         return None;
@@ -732,6 +740,50 @@ fn find_target<'a>(net: &'a Network, extra: &[String], key: &str, pos: Pos, path
     None
 }
 
+/// A driver reading names fields of the driver's own model; one its model does not have
+/// (a resonance reading on a model without one, `re` on a measured table) would otherwise be
+/// dropped, so it is refused where it is written.
+fn reading_fits_model(f: &Fields, d: &Driver, ctx: &mut Ctx) -> bool {
+    let (kind, has): (&str, Vec<&str>) = match &d.model {
+        DriverModel::Resistance(_) => ("a plain resistance", vec!["resistance", "re"]),
+        DriverModel::VoiceCoil { inductance, resonance, .. } => {
+            let leach = matches!(inductance, VoiceCoilInductance::Leach { .. });
+            let mut has = vec!["re"];
+            if !leach {
+                has.push("le");
+            }
+            if resonance.is_some() {
+                has.extend(["fs", "qms", "qes"]);
+            }
+            let kind = match (leach, resonance.is_some()) {
+                (true, true) => "Re with Leach's inductance and a resonance",
+                (true, false) => "Re with Leach's inductance and no resonance",
+                (false, true) => "Re and Le with a resonance",
+                (false, false) => "Re and Le with no resonance",
+            };
+            (kind, has)
+        }
+        DriverModel::Table(_) => ("a measured impedance table", vec![]),
+    };
+    let mut ok = true;
+    for key in ["resistance", "re", "le", "fs", "qms", "qes"] {
+        let Some(n) = f.get(key) else { continue };
+        if has.contains(&key) {
+            continue;
+        }
+        let hint = match (&d.model, key) {
+            (DriverModel::Table(_), _) => "a table holds the whole impedance: measure the driver again and `replace` it with the new table".to_string(),
+            (DriverModel::Resistance(_), _) => format!("a plain resistance takes `resistance` (or `re`); give {} a voice-coil model to read `{key}`", d.name),
+            (_, "resistance") => "for a voice-coil model, read its DC resistance as `re`".to_string(),
+            (_, "le") => "Leach's K and n are not read on the bench; `replace` the driver's model if it has changed".to_string(),
+            _ => format!("give {}'s model fs, qms and qes in `network.drivers.{}.model` before reading them", d.name, d.name),
+        };
+        ctx.error(n.pos(), &f.at(key), format!("{}'s model is {kind}: a reading of `{key}` has nothing to apply to", d.name), Some(hint));
+        ok = false;
+    }
+    ok
+}
+
 fn decode_measured(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Reading> {
     let mut out = Vec::new();
     for (k, v) in map_entries(node, "measured", ctx) {
@@ -743,8 +795,11 @@ fn decode_measured(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Reading> {
                     out.push(Reading { target: k.name.clone(), patch: Patch::Part(patch), pos: k.pos });
                 }
             }
-            Some(Target::Driver) => {
+            Some(Target::Driver(d)) => {
                 let Some(f) = ctx.fields(v, &path, READING_DRIVER_KEYS) else { continue };
+                if !reading_fits_model(&f, d, ctx) {
+                    continue;
+                }
                 let dp = DriverPatch {
                     resistance: ctx.opt_positive(&f, "resistance", Quantity::Resistance, false),
                     re: ctx.opt_positive(&f, "re", Quantity::Resistance, false),
@@ -796,7 +851,7 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
                         let Some(patch) = decode_part_fields(&wf, p.kind, ctx, true) else { continue };
                         ChangeStep::Replace { target, with: Patch::Part(patch) }
                     }
-                    Some(Target::Driver) => {
+                    Some(Target::Driver(_)) => {
                         let Some(wf) = ctx.fields(with, &wpath, REPLACE_DRIVER_KEYS) else { continue };
                         let dp = DriverPatch {
                             model: wf.get("model").and_then(|n| decode_model(n, &wf.at("model"), ctx)),
@@ -815,7 +870,7 @@ fn decode_changes(node: &Node, net: &Network, ctx: &mut Ctx) -> Vec<Change> {
                 let n = f.get("remove").unwrap_or(item);
                 let Some(target) = ctx.text(n, &f.at("remove")) else { continue };
                 match find_target(net, &added, &target, n.pos(), &f.at("remove"), ctx) {
-                    Some(Target::Driver) => {
+                    Some(Target::Driver(_)) => {
                         ctx.error(
                             n.pos(),
                             &f.at("remove"),
@@ -907,7 +962,7 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
         .collect();
     for (k, v) in map_entries(node, "compensate", ctx) {
         let path = format!("compensate.{}", k.name);
-        let Some(f) = ctx.fields(v, &path, &["driver", "match", "band", "series"]) else { continue };
+        let Some(f) = ctx.fields(v, &path, &["driver", "match", "band", "series", "keep_impedance"]) else { continue };
         let replaced_auto = changes.iter().any(|c| matches!(&c.step, ChangeStep::Replace { target, with: Patch::Part(p) } if target == &k.name && p.auto_value));
         match auto_parts.iter().find(|p| p.name == k.name) {
             Some(p) if p.auto_value || replaced_auto => {}
@@ -930,6 +985,10 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
         }
         let driver = ctx.req(&f, "driver", "the driver whose level it restores").and_then(|n| {
             let name = ctx.text(n, &f.at("driver"))?;
+            if net.driver(&name).is_none() && ctx.failed.contains(&name) {
+                // The driver itself could not be read: its own message says so.
+                return None;
+            }
             if net.driver(&name).is_none() {
                 let hint = match suggest(&name, net.drivers.iter().map(|d| d.name.as_str())) {
                     Some(s) => format!("did you mean `{s}`?"),
@@ -945,12 +1004,19 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
             None => Some(Scenario::AsDesigned),
         };
         let band = f.get("band").and_then(|n| ctx.band(n, &f.at("band")));
+        let band_pos = f.get("band").map(|n| n.pos()).unwrap_or(k.pos);
         let series = match f.get("series") {
             Some(n) => ctx.choice(n, &f.at("series"), &[("E6", ESeries::E6), ("E12", ESeries::E12), ("E24", ESeries::E24), ("E48", ESeries::E48), ("E96", ESeries::E96)]),
             None => Some(ESeries::E24),
         };
-        match (driver, reference, series) {
-            (Some(driver), Some(reference), Some(series)) => out.push(CompensateEntry { part: k.name.clone(), driver, reference, band, series, pos: k.pos }),
+        let keep_impedance = match f.get("keep_impedance") {
+            Some(n) => ctx.choice(n, &f.at("keep_impedance"), &[("true", true), ("false", false)]),
+            None => Some(false),
+        };
+        match (driver, reference, series, keep_impedance) {
+            (Some(driver), Some(reference), Some(series), Some(keep_impedance)) => {
+                out.push(CompensateEntry { part: k.name.clone(), driver, reference, band, band_pos, series, keep_impedance, pos: k.pos })
+            }
             // The entry is there but wrong: its own messages say so, not "no entry" again.
             _ => ctx.failed.push(k.name.clone()),
         }
@@ -1035,6 +1101,26 @@ fn decode_sweep(node: &Node, ctx: &mut Ctx) -> Option<Sweep> {
         let pts: Vec<Option<f64>> = items.iter().map(|i| ctx.positive(i, &f.at("at"), Quantity::Frequency, false)).collect();
         if items.is_empty() {
             ctx.error(n.pos(), &f.at("at"), "the list of frequencies is empty", None);
+            return None;
+        }
+        // Bands, programme slices and crossings all assume rising frequencies: an unsorted
+        // or repeated point is refused where it stands rather than quietly reordered.
+        let mut ok = true;
+        for k in 1..items.len() {
+            if let (Some(prev), Some(here)) = (pts[k - 1], pts[k]) {
+                if here <= prev {
+                    let what = if here == prev { "repeats" } else { "is below" };
+                    ctx.error(
+                        items[k].pos(),
+                        &f.at("at"),
+                        format!("{} {what} the point before it ({}): the points must rise", crate::units::hz(Some(here)), crate::units::hz(Some(prev))),
+                        Some("list the frequencies lowest first, each once".into()),
+                    );
+                    ok = false;
+                }
+            }
+        }
+        if !ok {
             return None;
         }
         return pts.into_iter().collect::<Option<Vec<f64>>>().map(Sweep::Points);
@@ -1158,33 +1244,69 @@ fn check_scenarios(job: &Job, ctx: &mut Ctx) {
             }
         }
     }
-    // A measured table must cover the sweep.
+    // Every measured table, the original drivers' and any replacement's, must cover the
+    // sweep: outside its range a table could only be held flat, which would be invented data.
     let freqs = job.analysis.sweep.frequencies();
     let (lo, hi) = (freqs.iter().cloned().fold(f64::INFINITY, f64::min), freqs.iter().cloned().fold(0.0, f64::max));
+    let mut covers = |pos: Pos, field: String, file: &str, f: &[f64]| {
+        let (tlo, thi) = (f[0], f[f.len() - 1]);
+        if lo < tlo * (1.0 - 1e-9) || hi > thi * (1.0 + 1e-9) {
+            ctx.error(
+                pos,
+                &field,
+                format!(
+                    "{} covers {} to {} but the sweep runs from {} to {}",
+                    file,
+                    crate::units::hz(Some(tlo)),
+                    crate::units::hz(Some(thi)),
+                    crate::units::hz(Some(lo)),
+                    crate::units::hz(Some(hi))
+                ),
+                Some("narrow the sweep to the table's range, or measure the driver over the whole sweep".into()),
+            );
+        }
+    };
     for d in &job.network.drivers {
         if let DriverModel::Table(t) = &d.model {
-            let (tlo, thi) = (t.freq_hz[0], t.freq_hz[t.freq_hz.len() - 1]);
-            if lo < tlo * (1.0 - 1e-9) || hi > thi * (1.0 + 1e-9) {
-                ctx.error(
-                    d.pos,
-                    &format!("network.drivers.{}.model.table", d.name),
-                    format!(
-                        "{} covers {} Hz to {} Hz but the sweep runs from {} Hz to {} Hz",
-                        t.file,
-                        tlo,
-                        thi,
-                        crate::units::trim_number(lo, 4),
-                        crate::units::trim_number(hi, 4)
-                    ),
-                    Some("narrow the sweep to the table's range, or measure the driver over the whole sweep".into()),
-                );
+            covers(d.pos, format!("network.drivers.{}.model.table", d.name), &t.file, &t.freq_hz);
+        }
+        if let Some(r) = &d.response {
+            covers(d.pos, format!("network.drivers.{}.response", d.name), &r.file, &r.freq_hz);
+        }
+    }
+    for c in &job.changes {
+        if let ChangeStep::Replace { with: Patch::Driver(p), .. } = &c.step {
+            if let Some(DriverModel::Table(t)) = &p.model {
+                covers(c.pos, format!("changes[{}].with.model.table", c.number), &t.file, &t.freq_hz);
+            }
+            if let Some(r) = &p.response {
+                covers(c.pos, format!("changes[{}].with.response", c.number), &r.file, &r.freq_hz);
             }
         }
     }
     for c in &job.compensate {
         if let Some((blo, bhi)) = c.band {
-            if !freqs.iter().any(|f| *f >= blo && *f <= bhi) {
-                ctx.error(c.pos, &format!("compensate.{}.band", c.part), "no sweep point falls in this band", Some("widen the band or add sweep points".into()));
+            let field = format!("compensate.{}.band", c.part);
+            // A band may end between the sweep's last point and where the next would be (a
+            // sweep of 20 Hz at 12 per octave ends at 19.3 kHz, short of 20 kHz); beyond that
+            // the fit would silently use less of the band than the job asks.
+            let n = freqs.len();
+            let (step_lo, step_hi) = if n > 1 { (freqs[1] / freqs[0], freqs[n - 1] / freqs[n - 2]) } else { (1.0, 1.0) };
+            if blo < lo / step_lo * (1.0 - 1e-9) || bhi > hi * step_hi * (1.0 + 1e-9) {
+                ctx.error(
+                    c.band_pos,
+                    &field,
+                    format!(
+                        "the band {} to {} reaches outside the sweep ({} to {}); the fit could only use the part inside it",
+                        crate::units::hz(Some(blo)),
+                        crate::units::hz(Some(bhi)),
+                        crate::units::hz(Some(lo)),
+                        crate::units::hz(Some(hi))
+                    ),
+                    Some("narrow the band to the sweep, or widen the sweep".into()),
+                );
+            } else if !freqs.iter().any(|f| *f >= blo * (1.0 - 1e-9) && *f <= bhi * (1.0 + 1e-9)) {
+                ctx.error(c.band_pos, &field, "no sweep point falls in this band", Some("widen the band or add sweep points".into()));
             }
         }
     }

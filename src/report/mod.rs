@@ -60,12 +60,13 @@ pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, R
     let archive = matches!(template, Template::Archive);
     let results = serde_json::to_vec_pretty(&crate::results::json(job, f)).map_err(|e| ReportError::Pdf(e.to_string()))?;
     let plots = plots::all(job, f);
-    let report_data = data::build(job, f, template, plots.iter().map(|(n, _)| n.to_string()).collect());
+    let kinds: Vec<crate::model::PlotKind> = plots.iter().map(|(k, _)| *k).collect();
+    let report_data = data::build(job, f, template, &kinds);
     let data_json = serde_json::to_vec(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
 
     let mut binaries: Vec<(String, Vec<u8>)> = vec![("data.json".into(), data_json), ("results.json".into(), results)];
-    for (name, svg) in plots {
-        binaries.push((format!("plots/{name}.svg"), svg.into_bytes()));
+    for (kind, svg) in plots {
+        binaries.push((format!("plots/{}.svg", kind.name()), svg.into_bytes()));
     }
     for (i, input) in job.inputs.iter().enumerate() {
         binaries.push((format!("inputs/{i}"), input.bytes.clone()));
@@ -79,7 +80,8 @@ pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, R
         .with_world(main_name.as_str(), |world| typst::compile::<PagedDocument>(world).output.map_err(|diags| template_error(world, &diags)))
         .map_err(|e| ReportError::Template { messages: vec![format!("{main_name}: {e}")] })??;
 
-    let date = Datetime::from_ymd(report_data.date.year, report_data.date.month, report_data.date.day);
+    let d = job.info.date;
+    let date = Datetime::from_ymd(d.year, d.month, d.day);
     let standards = if archive { PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| ReportError::Pdf(format!("{e:?}")))? } else { PdfStandards::default() };
     let options = PdfOptions {
         ident: Smart::Custom(format!("voicekeep {} {}", job.info.number, job.info.date)),

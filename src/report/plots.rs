@@ -1,26 +1,59 @@
 //! The plots, drawn as SVG by plotters: driver levels per scenario, the level change, the
-//! input impedance with the rated-impedance floor, the tolerance band and the acoustic sum.
+//! input impedance with the rated-impedance floor, its phase, the tolerance band and the
+//! acoustic sum.
 //!
-//! Scenarios differ by line pattern (as designed long dashes, as found short dashes, as left
-//! solid) and drivers by colour of distinct lightness, so the plots read in greyscale. The
-//! legend sits in its own strip below the chart, so it never covers data.
+//! Made to be read in print and in greyscale: scenarios differ by line pattern (as designed
+//! long dashes, as found short dashes, as left solid), drivers by colours whose lightness
+//! rises with the driver's frequency (darkest for the woofer), and reference lines are thin,
+//! grey and dotted, labelled above the line on a white ground so no trace strikes them
+//! through. The text is set in Libertinus Serif, the report's body font (shipped with the
+//! Typst engine's fonts), so plots and page match. The legend sits in its own strip below
+//! the chart, as many rows as its entries need, so it never covers data or runs off the
+//! edge. A trace below the axis floor is broken, not drawn along the bottom edge.
 
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
-use crate::analysis::Findings;
-use crate::model::{Job, Scenario};
+use crate::analysis::{frequency_order, Findings};
+use crate::model::{Job, PlotKind, Scenario};
 
-/// The font family the SVG text asks for; the report and PNG output provide it.
-pub const FONT: &str = "DejaVu Sans Mono";
+/// The font family the SVG text asks for: the report's body font.
+pub const FONT: &str = "Libertinus Serif";
 const W: u32 = 900;
-const H: u32 = 460;
-const LEGEND_H: u32 = 60;
+const CHART_H: u32 = 420;
+const LEGEND_ROW: u32 = 22;
 
-/// Driver colours: dark blue, orange, green, purple, red; distinct in lightness as well as hue.
-const COLOURS: [RGBColor; 5] = [RGBColor(0x1b, 0x36, 0x5d), RGBColor(0xd0, 0x7a, 0x1c), RGBColor(0x3f, 0x8a, 0x4a), RGBColor(0x7a, 0x4e, 0x9a), RGBColor(0xb0, 0x2a, 0x2a)];
+const NAVY: RGBColor = RGBColor(0x1f, 0x3a, 0x68);
+const BRICK: RGBColor = RGBColor(0xc0, 0x3c, 0x30);
+const GREEN: RGBColor = RGBColor(0x4c, 0xa8, 0x6c);
+const GOLD: RGBColor = RGBColor(0xd9, 0xa4, 0x00);
+const PURPLE: RGBColor = RGBColor(0x7b, 0x4f, 0x9d);
+const REFERENCE_GREY: RGBColor = RGBColor(0x6e, 0x6e, 0x6e);
 
-#[derive(Clone, Copy)]
+/// Colours for `n` drivers in rising frequency, darkest first, so they stay apart in grey
+/// (relative luminance about 0.04, 0.15, 0.31, 0.41).
+fn palette(n: usize) -> Vec<RGBColor> {
+    match n {
+        0 | 1 => vec![NAVY],
+        2 => vec![NAVY, GOLD],
+        3 => vec![NAVY, BRICK, GOLD],
+        4 => vec![NAVY, BRICK, GREEN, GOLD],
+        _ => [NAVY, PURPLE, BRICK, GREEN, GOLD].iter().cycle().take(n).cloned().collect(),
+    }
+}
+
+/// Each driver's colour, in network order.
+fn driver_colours(f: &Findings) -> Vec<RGBColor> {
+    let order = frequency_order(&f.bands);
+    let p = palette(order.len());
+    let mut out = vec![NAVY; order.len()];
+    for (rank, &d) in order.iter().enumerate() {
+        out[d] = p[rank];
+    }
+    out
+}
+
+#[derive(Clone, Copy, PartialEq)]
 enum Pattern {
     Solid,
     Long,
@@ -45,149 +78,281 @@ struct Curve {
 /// A shaded band: (frequency, low, high) points and its colour.
 type Shaded = (Vec<(f64, f64, f64)>, RGBColor);
 
+/// A horizontal reference line and its label.
+struct Reference {
+    at: f64,
+    label: String,
+}
+
 type DrawResult = Result<(), Box<dyn std::error::Error>>;
+
+/// A chart: its title, axis label, ranges and what it shows.
+struct Chart<'a> {
+    title: &'a str,
+    y_label: &'a str,
+    x: (f64, f64),
+    y: (f64, f64),
+    curves: Vec<Curve>,
+    references: Vec<Reference>,
+    bands: Vec<Shaded>,
+    /// Extra legend entries for the shaded bands: (label, colour).
+    band_labels: Vec<(String, RGBColor)>,
+}
+
+fn style(colour: &RGBColor) -> ShapeStyle {
+    ShapeStyle::from(colour).stroke_width(2)
+}
+
+/// The runs of consecutive points inside the y range: a trace leaving the chart is broken
+/// there instead of being drawn along its edge.
+fn runs(points: &[(f64, f64)], y: (f64, f64)) -> Vec<Vec<(f64, f64)>> {
+    let mut out = Vec::new();
+    let mut run = Vec::new();
+    for &(f, v) in points {
+        if v.is_finite() && v >= y.0 && v <= y.1 {
+            run.push((f, v));
+        } else if !run.is_empty() {
+            out.push(std::mem::take(&mut run));
+        }
+    }
+    if !run.is_empty() {
+        out.push(run);
+    }
+    out
+}
 
 fn draw_curve<DB: DrawingBackend, CT: plotters::coord::CoordTranslate<From = (f64, f64)>>(
     chart: &mut ChartContext<DB, CT>,
     c: &Curve,
+    y: (f64, f64),
 ) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
-    let style = ShapeStyle::from(&c.colour).stroke_width(2);
-    match c.pattern {
-        Pattern::Solid => chart.draw_series(LineSeries::new(c.points.iter().cloned(), style)).map(|_| ()),
-        Pattern::Long => chart.draw_series(DashedLineSeries::new(c.points.iter().cloned(), 10, 6, style)).map(|_| ()),
-        Pattern::Short => chart.draw_series(DashedLineSeries::new(c.points.iter().cloned(), 3, 4, style)).map(|_| ()),
-    }
-}
-
-fn legend(area: &DrawingArea<SVGBackend, Shift>, items: &[(String, RGBColor, Pattern)]) -> DrawResult {
-    let per_row = 3usize;
-    let col_w = (W as i32 - 80) / per_row as i32;
-    for (i, (label, colour, pat)) in items.iter().enumerate() {
-        let x = 70 + (i % per_row) as i32 * col_w;
-        let y = 14 + (i / per_row) as i32 * 20;
-        let style = ShapeStyle::from(colour).stroke_width(2);
-        let segs: Vec<(i32, i32)> = match pat {
-            Pattern::Solid => vec![(0, 36)],
-            Pattern::Long => vec![(0, 10), (16, 26), (32, 36)],
-            Pattern::Short => vec![(0, 3), (7, 10), (14, 17), (21, 24), (28, 31)],
-        };
-        for (a, b) in segs {
-            area.draw(&PathElement::new(vec![(x + a, y), (x + b, y)], style))?;
+    for run in runs(&c.points, y) {
+        match c.pattern {
+            Pattern::Solid => chart.draw_series(LineSeries::new(run, style(&c.colour))).map(|_| ())?,
+            Pattern::Long => chart.draw_series(DashedLineSeries::new(run, 11, 6, style(&c.colour))).map(|_| ())?,
+            Pattern::Short => chart.draw_series(DashedLineSeries::new(run, 3, 4, style(&c.colour))).map(|_| ())?,
         }
-        area.draw(&Text::new(label.clone(), (x + 44, y - 7), (FONT, 13).into_font().color(&BLACK)))?;
     }
     Ok(())
 }
 
-fn log_chart(title: &str, y_label: &str, x: (f64, f64), y: (f64, f64), curves: &[Curve], hlines: &[(f64, String)], bands: &[Shaded]) -> Result<String, Box<dyn std::error::Error>> {
+/// A legend entry's sample: the pattern as drawn on the chart, or a shaded swatch.
+enum Sample {
+    Line(Pattern),
+    Swatch,
+    Reference,
+}
+
+/// Text width estimate for the legend layout (Libertinus Serif at `size` px averages under
+/// half an em a character).
+fn text_w(s: &str, size: u32) -> i32 {
+    (s.chars().count() as f64 * size as f64 * 0.5).ceil() as i32
+}
+
+const LEGEND_FONT: u32 = 14;
+const SAMPLE_W: i32 = 40;
+
+/// Legend entries laid out left to right in equal columns, as many per row as fit.
+fn legend_layout(items: &[(String, RGBColor, Sample)]) -> (usize, i32) {
+    let widest = items.iter().map(|(l, _, _)| text_w(l, LEGEND_FONT)).max().unwrap_or(0) + SAMPLE_W + 28;
+    let per_row = ((W as i32 - 60) / widest.max(1)).clamp(1, 4) as usize;
+    (per_row, (W as i32 - 60) / per_row as i32)
+}
+
+fn legend_rows(n: usize, per_row: usize) -> u32 {
+    n.div_ceil(per_row.max(1)) as u32
+}
+
+fn legend(area: &DrawingArea<SVGBackend, Shift>, items: &[(String, RGBColor, Sample)], per_row: usize, col_w: i32) -> DrawResult {
+    for (i, (label, colour, sample)) in items.iter().enumerate() {
+        let x = 40 + (i % per_row) as i32 * col_w;
+        let y = 14 + (i / per_row) as i32 * LEGEND_ROW as i32;
+        match sample {
+            Sample::Line(pat) => {
+                let segs: Vec<(i32, i32)> = match pat {
+                    Pattern::Solid => vec![(0, SAMPLE_W)],
+                    Pattern::Long => vec![(0, 11), (17, 28), (34, SAMPLE_W)],
+                    Pattern::Short => (0..6).map(|k| (k * 7, k * 7 + 3)).collect(),
+                };
+                for (a, b) in segs {
+                    area.draw(&PathElement::new(vec![(x + a, y), (x + b, y)], style(colour)))?;
+                }
+            }
+            Sample::Swatch => area.draw(&Rectangle::new([(x, y - 6), (x + SAMPLE_W, y + 6)], colour.mix(0.22).filled()))?,
+            Sample::Reference => {
+                for k in 0..10 {
+                    area.draw(&PathElement::new(vec![(x + k * 4, y), (x + k * 4 + 1, y)], ShapeStyle::from(&REFERENCE_GREY).stroke_width(1)))?;
+                }
+            }
+        }
+        area.draw(&Text::new(label.clone(), (x + SAMPLE_W + 8, y - 8), (FONT, LEGEND_FONT).into_font().color(&BLACK)))?;
+    }
+    Ok(())
+}
+
+fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
+    let mut items: Vec<(String, RGBColor, Sample)> = Vec::new();
+    for curve in &c.curves {
+        if !items.iter().any(|(l, _, _)| *l == curve.label) {
+            items.push((curve.label.clone(), curve.colour, Sample::Line(curve.pattern)));
+        }
+    }
+    for (label, colour) in &c.band_labels {
+        items.push((label.clone(), *colour, Sample::Swatch));
+    }
+    for r in &c.references {
+        if !r.label.is_empty() {
+            items.push((r.label.clone(), REFERENCE_GREY, Sample::Reference));
+        }
+    }
+    let (per_row, col_w) = legend_layout(&items);
+    let legend_h = 12 + legend_rows(items.len(), per_row) * LEGEND_ROW;
+    let h = CHART_H + legend_h;
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (W, H)).into_drawing_area();
+        let root = SVGBackend::with_string(&mut svg, (W, h)).into_drawing_area();
         root.fill(&WHITE)?;
-        let (top, bottom) = root.split_vertically(H - LEGEND_H);
+        let (top, bottom) = root.split_vertically(CHART_H);
         let mut chart = ChartBuilder::on(&top)
-            .caption(title, (FONT, 17).into_font())
+            .caption(c.title, (FONT, 19).into_font())
             .margin(12)
-            .x_label_area_size(42)
-            .y_label_area_size(62)
-            .build_cartesian_2d((x.0..x.1).log_scale(), y.0..y.1)?;
+            .x_label_area_size(44)
+            .y_label_area_size(64)
+            .build_cartesian_2d((c.x.0..c.x.1).log_scale(), c.y.0..c.y.1)?;
         chart
             .configure_mesh()
             .x_desc("frequency (Hz)")
-            .y_desc(y_label)
-            .label_style((FONT, 12))
-            .axis_desc_style((FONT, 13))
+            .y_desc(c.y_label)
+            .label_style((FONT, 14))
+            .axis_desc_style((FONT, 15))
             .x_label_formatter(&|v| if *v >= 1000.0 { format!("{}k", crate::units::trim_number(v / 1000.0, 3)) } else { crate::units::trim_number(*v, 3) })
             .y_label_formatter(&|v| crate::units::trim_number(*v, 3))
-            .light_line_style(RGBColor(0xe4, 0xe4, 0xe4))
-            .bold_line_style(RGBColor(0xc8, 0xc8, 0xc8))
+            .light_line_style(RGBColor(0xec, 0xec, 0xec))
+            .bold_line_style(RGBColor(0xd4, 0xd4, 0xd4))
             .draw()?;
-        for (pts, colour) in bands {
-            let fill = colour.mix(0.18);
-            let mut poly: Vec<(f64, f64)> = pts.iter().map(|(f, lo, _)| (*f, *lo)).collect();
-            poly.extend(pts.iter().rev().map(|(f, _, hi)| (*f, *hi)));
-            chart.draw_series(std::iter::once(Polygon::new(poly, fill.filled())))?;
+        for (pts, colour) in &c.bands {
+            let mut poly: Vec<(f64, f64)> = pts.iter().map(|(f, lo, _)| (*f, lo.clamp(c.y.0, c.y.1))).collect();
+            poly.extend(pts.iter().rev().map(|(f, _, hi)| (*f, hi.clamp(c.y.0, c.y.1))));
+            chart.draw_series(std::iter::once(Polygon::new(poly, colour.mix(0.22).filled())))?;
         }
-        for (v, label) in hlines {
-            let style = ShapeStyle::from(&BLACK).stroke_width(1);
-            chart.draw_series(DashedLineSeries::new(vec![(x.0, *v), (x.1, *v)], 6, 4, style))?;
-            chart.draw_series(std::iter::once(Text::new(label.clone(), (x.0 * 1.15, *v + (y.1 - y.0) * 0.015), (FONT, 12).into_font().color(&BLACK))))?;
+        for r in &c.references {
+            chart.draw_series(DashedLineSeries::new(vec![(c.x.0, r.at), (c.x.1, r.at)], 1, 4, ShapeStyle::from(&REFERENCE_GREY).stroke_width(1)))?;
         }
-        for c in curves {
-            draw_curve(&mut chart, c)?;
+        for curve in &c.curves {
+            draw_curve(&mut chart, curve, c.y)?;
         }
-        let mut items: Vec<(String, RGBColor, Pattern)> = curves.iter().map(|c| (c.label.clone(), c.colour, c.pattern)).collect();
-        items.dedup_by(|a, b| a.0 == b.0);
-        legend(&bottom, &items)?;
+        legend(&bottom, &items, per_row, col_w)?;
         root.present()?;
     }
     Ok(svg)
 }
 
-fn range(values: impl Iterator<Item = f64>, pad: f64, min_span: f64) -> (f64, f64) {
+/// A range covering `values` with room above and below (at least a tenth of the span, and of
+/// `min_span`), so a trace never lies on the frame.
+fn range(values: impl Iterator<Item = f64>, min_span: f64) -> (f64, f64) {
     let (lo, hi) = values.filter(|v| v.is_finite()).fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(v), b.max(v)));
     if !lo.is_finite() {
         return (-1.0, 1.0);
     }
     let span = (hi - lo).max(min_span);
     let mid = (hi + lo) / 2.0;
+    let pad = 0.1 * span;
     (mid - span / 2.0 - pad, mid + span / 2.0 + pad)
 }
 
-/// Every plot this job supports, as (name, SVG text), in report order.
-pub fn all(job: &Job, f: &Findings) -> Vec<(&'static str, String)> {
+/// Every plot this job supports, as (kind, SVG text), in report order.
+pub fn all(job: &Job, f: &Findings) -> Vec<(PlotKind, String)> {
     let mut out = Vec::new();
-    let mut push = |name: &'static str, r: Result<String, Box<dyn std::error::Error>>| {
+    let mut push = |kind: PlotKind, r: Result<String, Box<dyn std::error::Error>>| {
         if let Ok(svg) = r {
-            out.push((name, svg));
+            out.push((kind, svg));
         }
     };
-    push("response", response(job, f));
-    push("change", change(job, f));
-    push("impedance", impedance(job, f));
-    push("phase", phase(f));
+    push(PlotKind::Response, response(job, f));
+    push(PlotKind::Change, change(job, f));
+    push(PlotKind::Impedance, impedance(job, f));
+    push(PlotKind::Phase, phase(f));
     if f.tolerance.is_some() {
-        push("tolerance", tolerance(f));
+        push(PlotKind::Tolerance, tolerance(f));
     }
     if f.acoustic.is_some() {
-        push("acoustic", acoustic(f));
+        push(PlotKind::Acoustic, acoustic(f));
     }
     out
+}
+
+/// What each plot shows, for its caption: the same words as its legend.
+pub fn caption(kind: PlotKind) -> &'static str {
+    match kind {
+        PlotKind::Response => "Each driver's level as designed (long dashes), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
+        PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid). 0 dB is the original design.",
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees as designed (long dashes), as found (short dashes) and as left (solid); the dotted grey line is 80 % of the rated impedance (IEC 60268-5).",
+        PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
+        PlotKind::Tolerance => "As-left levels with nominal parts (lines) and the 5-95 % band from part tolerances (shaded).",
+        PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (long dashes), as found (short dashes), as left (solid).",
+    }
 }
 
 fn xr(f: &Findings) -> (f64, f64) {
     (f.freqs[0], *f.freqs.last().unwrap_or(&f.freqs[0]) * 1.0001)
 }
 
+/// The highest value any curve reaches.
+fn peak(curves: &[Curve]) -> f64 {
+    curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| v.is_finite()).fold(f64::NEG_INFINITY, f64::max)
+}
+
 fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+    let colours = driver_colours(f);
     let mut curves = Vec::new();
     for (di, d) in job.network.drivers.iter().enumerate() {
         for s in &f.scenes {
             let Some(k) = s.driver_index(&d.name) else { continue };
             curves.push(Curve {
                 label: format!("{} {}", d.name, s.scenario.label()),
-                colour: COLOURS[di % COLOURS.len()],
+                colour: colours[di],
                 pattern: pattern(s.scenario),
                 points: f.freqs.iter().cloned().zip(s.db[k].iter().cloned()).collect(),
             });
         }
     }
     let max = peak(&curves);
-    log_chart("Driver levels (dB re amplifier EMF)", "level (dB)", xr(f), (max - 40.0, max + 4.0), &curves, &[], &[])
+    log_chart(Chart {
+        title: "Driver levels (dB re amplifier EMF)",
+        y_label: "level (dB)",
+        x: xr(f),
+        y: (max - 40.0, max + 4.0),
+        curves,
+        references: vec![],
+        bands: vec![],
+        band_labels: vec![],
+    })
 }
 
 fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+    let colours = driver_colours(f);
     let mut curves = Vec::new();
     for (di, d) in job.network.drivers.iter().enumerate() {
         let band = &f.bands[di];
         for s in &f.scenes[1..] {
             let Some(k) = s.driver_index(&d.name) else { continue };
             let pts = band.idx.iter().map(|&i| (f.freqs[i], s.db[k][i] - f.scenes[0].db[di][i])).collect();
-            curves.push(Curve { label: format!("{} {} - designed", d.name, s.scenario.label()), colour: COLOURS[di % COLOURS.len()], pattern: pattern(s.scenario), points: pts });
+            curves.push(Curve { label: format!("{} {}", d.name, s.scenario.label()), colour: colours[di], pattern: pattern(s.scenario), points: pts });
         }
     }
-    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.3, 2.0);
-    log_chart("Level change against the original design, over each driver's band", "difference (dB)", xr(f), (lo, hi), &curves, &[(0.0, "as designed".into())], &[])
+    // Faults (tens of dB down) would flatten every other trace: the axis stops at -12 dB and
+    // breaks what falls below.
+    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| *v > -12.0), 2.0);
+    log_chart(Chart {
+        title: "Level against the original design, over each driver's band",
+        y_label: "difference (dB)",
+        x: xr(f),
+        y: (lo.min(-1.0), hi.max(1.0)),
+        curves,
+        references: vec![Reference { at: 0.0, label: String::new() }],
+        bands: vec![],
+        band_labels: vec![],
+    })
 }
 
 /// One curve per scenario of a quantity of the input impedance.
@@ -203,42 +368,54 @@ fn impedance_curves(f: &Findings, what: &str, colour: RGBColor, value: impl Fn(&
         .collect()
 }
 
-/// The highest value any curve reaches.
-fn peak(curves: &[Curve]) -> f64 {
-    curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).fold(f64::NEG_INFINITY, f64::max)
-}
-
 fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves = impedance_curves(f, "|Z|", COLOURS[0], |z| z.norm());
+    let curves = impedance_curves(f, "|Z|", NAVY, |z| z.norm());
     let rated = job.rated_impedance_ohm();
     let floor = crate::analysis::load::rated_floor(rated);
-    let (_, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.0, 1.0);
-    log_chart(
-        "Input impedance magnitude at the amplifier terminals",
-        "|Z| (ohm)",
-        xr(f),
-        (0.0, (hi * 1.1).max(floor * 1.5)),
-        &curves,
-        &[(floor, format!("80 % of rated {} ohm = {} ohm (IEC 60268-5)", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)))],
-        &[],
-    )
+    let (_, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 1.0);
+    log_chart(Chart {
+        title: "Input impedance magnitude at the amplifier terminals",
+        y_label: "|Z| (Ω)",
+        x: xr(f),
+        y: (0.0, hi.max(floor * 1.5)),
+        curves,
+        references: vec![Reference {
+            at: floor,
+            label: format!("80 % of the rated {} Ω: {} Ω (IEC 60268-5)", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)),
+        }],
+        bands: vec![],
+        band_labels: vec![],
+    })
 }
 
 fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves = impedance_curves(f, "phase", COLOURS[1], |z| z.arg().to_degrees());
-    log_chart("Input impedance phase", "phase (degrees)", xr(f), (-90.0, 90.0), &curves, &[(0.0, String::new())], &[])
+    let curves = impedance_curves(f, "phase", BRICK, |z| z.arg().to_degrees());
+    log_chart(Chart {
+        title: "Input impedance phase at the amplifier terminals",
+        y_label: "phase (degrees)",
+        x: xr(f),
+        y: (-95.0, 95.0),
+        curves,
+        references: vec![Reference { at: 0.0, label: String::new() }],
+        bands: vec![],
+        band_labels: vec![],
+    })
 }
 
 fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let t = f.tolerance.as_ref().ok_or("no tolerance runs")?;
+    let colours = driver_colours(f);
     let mut bands = Vec::new();
     let mut curves = Vec::new();
-    for (di, (name, lo, hi)) in t.curves.iter().enumerate() {
-        let colour = COLOURS[di % COLOURS.len()];
+    let mut band_labels = Vec::new();
+    for (name, lo, hi) in &t.curves {
+        let Some(di) = f.scenes[0].driver_index(name) else { continue };
+        let colour = colours[di];
         bands.push((t.curve_hz.iter().zip(lo.iter().zip(hi)).map(|(f, (a, b))| (*f, *a, *b)).collect(), colour));
+        band_labels.push((format!("{name} 5-95 %"), colour));
         if let Some(k) = f.scenes[2].driver_index(name) {
             curves.push(Curve {
-                label: format!("{name} as left, nominal parts (band: 5-95 %)"),
+                label: format!("{name} as left, nominal"),
                 colour,
                 pattern: Pattern::Solid,
                 points: f.freqs.iter().cloned().zip(f.scenes[2].db[k].iter().cloned()).collect(),
@@ -246,7 +423,8 @@ fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
         }
     }
     let max = peak(&curves);
-    log_chart(&format!("Spread of driver levels from part tolerances ({} runs)", t.runs), "level (dB)", xr(f), (max - 30.0, max + 4.0), &curves, &[], &bands)
+    let title = format!("Spread of driver levels from part tolerances ({} runs)", t.runs);
+    log_chart(Chart { title: &title, y_label: "level (dB)", x: xr(f), y: (max - 30.0, max + 4.0), curves, references: vec![], bands, band_labels })
 }
 
 fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
@@ -254,10 +432,19 @@ fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let curves: Vec<Curve> = Scenario::ALL
         .iter()
         .zip(a)
-        .map(|(s, v)| Curve { label: format!("sum {}", s.label()), colour: COLOURS[2], pattern: pattern(*s), points: f.freqs.iter().cloned().zip(v.iter().cloned()).collect() })
+        .map(|(s, v)| Curve { label: format!("sum {}", s.label()), colour: GREEN, pattern: pattern(*s), points: f.freqs.iter().cloned().zip(v.iter().cloned()).collect() })
         .collect();
     let max = peak(&curves);
-    log_chart("Acoustic sum from the drivers' measured responses (dB SPL at 2.83 V, 1 m)", "SPL (dB)", xr(f), (max - 40.0, max + 5.0), &curves, &[], &[])
+    log_chart(Chart {
+        title: "Acoustic sum from the drivers' measured responses (dB SPL at 2.83 V, 1 m)",
+        y_label: "SPL (dB)",
+        x: xr(f),
+        y: (max - 40.0, max + 5.0),
+        curves,
+        references: vec![],
+        bands: vec![],
+        band_labels: vec![],
+    })
 }
 
 /// Renders an SVG plot to PNG at 2x, with the embedded fonts (no system fonts).
@@ -273,4 +460,39 @@ pub fn svg_to_png(svg: &str) -> Result<Vec<u8>, String> {
     pixmap.fill(resvg::tiny_skia::Color::WHITE);
     resvg::render(&tree, resvg::tiny_skia::Transform::from_scale(2.0, 2.0), &mut pixmap.as_mut());
     pixmap.encode_png().map_err(|e| e.to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_trace_leaving_the_chart_is_broken_not_drawn_along_the_edge() {
+        let pts = [(1.0, 0.0), (2.0, -50.0), (3.0, 1.0), (4.0, 2.0), (5.0, f64::NAN), (6.0, 3.0)];
+        let r = runs(&pts, (-10.0, 10.0));
+        assert_eq!(r, vec![vec![(1.0, 0.0)], vec![(3.0, 1.0), (4.0, 2.0)], vec![(6.0, 3.0)]]);
+    }
+
+    #[test]
+    fn driver_colours_stay_apart_in_grey() {
+        // Relative luminance (ITU-R BT.709 weights on linearised sRGB, IEC 61966-2-1): each
+        // palette's colours differ by at least 0.08, so they read apart printed in grey.
+        let lin = |c: u8| {
+            let v = c as f64 / 255.0;
+            if v <= 0.04045 {
+                v / 12.92
+            } else {
+                ((v + 0.055) / 1.055).powf(2.4)
+            }
+        };
+        let y = |c: &RGBColor| 0.2126 * lin(c.0) + 0.7152 * lin(c.1) + 0.0722 * lin(c.2);
+        for n in 2..=4 {
+            let p = palette(n);
+            for i in 0..n {
+                for j in i + 1..n {
+                    assert!((y(&p[i]) - y(&p[j])).abs() >= 0.08, "palette of {n}: colours {i} and {j} too close in grey");
+                }
+            }
+        }
+    }
 }

@@ -196,7 +196,25 @@ fn auto_value_on_a_capacitor() {
 
 #[test]
 fn band_with_no_sweep_points() {
-    bad("sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }", "sweep: { at: [100 Hz, 1 kHz] }", "R9: { driver", 0, &["no sweep point falls in this band"]);
+    bad("sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }", "sweep: { at: [100 Hz, 1 kHz, 20 kHz] }", "[3 kHz", 0, &["compensate.R9.band", "no sweep point falls in this band"]);
+}
+
+#[test]
+fn band_beyond_the_sweep_is_not_clipped_silently() {
+    // The sweep ends at 10 kHz; a 3-15 kHz band would be fitted over 3-10 kHz only.
+    bad("sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }", "sweep: { from: 20 Hz, to: 10 kHz, per_octave: 6 }", "[3 kHz", 0, &["reaches outside the sweep", "narrow the band"]);
+}
+
+#[test]
+fn unsorted_or_repeated_sweep_points_are_refused_where_they_stand() {
+    bad(
+        "sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }",
+        "sweep: { at: [100 Hz, 10 kHz, 1 kHz, 20 kHz] }",
+        "1 kHz, 20",
+        0,
+        &["1 kHz is below the point before it (10 kHz)", "lowest first"],
+    );
+    bad("sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 }", "sweep: { at: [100 Hz, 1 kHz, 1 kHz, 20 kHz] }", "1 kHz, 20", 0, &["1 kHz repeats the point before it"]);
 }
 
 #[test]
@@ -240,7 +258,7 @@ fn table_too_short() {
 
 #[test]
 fn table_not_covering_the_sweep() {
-    table_case_at("100, 6.1, 0\n10000, 6.5, 3\n", "LF:", &["covers 100 Hz to 10000 Hz but the sweep runs from 20 Hz"]);
+    table_case_at("100, 6.1, 0\n10000, 6.5, 3\n", "LF:", &["covers 100 Hz to 10 kHz but the sweep runs from 20 Hz"]);
 }
 
 #[test]
@@ -292,4 +310,44 @@ fn an_insert_between_two_nodes_is_one_message_pointing_to_add() {
 #[test]
 fn a_transposed_field_name_gets_its_suggestion() {
     bad("C1: { value: 2.9 uF, esr: 1.6 ohm }", "C1: { value: 2.9 uF, ers: 1.6 ohm }", "ers: 1.6", 0, &["unknown field `ers`", "did you mean `esr`?"]);
+}
+
+#[test]
+fn a_driver_reading_its_model_cannot_take_is_refused_not_dropped() {
+    // HF is Re and Le only: a bench fs has no resonance to apply to.
+    bad(
+        "  C1: { value: 2.9 uF, esr: 1.6 ohm }\n",
+        "  C1: { value: 2.9 uF, esr: 1.6 ohm }\n  HF: { fs: 1.1 kHz }\n",
+        "1.1 kHz",
+        0,
+        &["measured.HF.fs", "Re and Le with no resonance", "nothing to apply to"],
+    );
+    // LF is a plain resistance: an `le` reading would be dropped.
+    bad("  C1: { value: 2.9 uF, esr: 1.6 ohm }\n", "  C1: { value: 2.9 uF, esr: 1.6 ohm }\n  LF: { le: 0.5 mH }\n", "0.5 mH", 0, &["measured.LF.le", "a plain resistance"]);
+}
+
+#[test]
+fn a_reading_of_re_on_a_table_driver_is_refused() {
+    let text = BASE.replacen("model: { resistance: 6 ohm }", "model: { table: lf.csv }", 1).replacen(
+        "  C1: { value: 2.9 uF, esr: 1.6 ohm }\n",
+        "  C1: { value: 2.9 uF, esr: 1.6 ohm }\n  LF: { re: 5.9 ohm }\n",
+        1,
+    );
+    let o = Cli::new().job(&text).file("lf.csv", b"10, 6.1, 0\n30000, 9, 40\n").args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "5.9 ohm", 0)).stderr_has("a measured impedance table").stderr_has("replace");
+}
+
+#[test]
+fn a_replacement_drivers_table_must_cover_the_sweep() {
+    let text = BASE.replacen("changes:\n", "changes:\n  - replace: LF\n    with: { model: { table: new.csv } }\n", 1);
+    let o = Cli::new().job(&text).file("new.csv", b"100, 6.1, 0\n10000, 6.5, 3\n").args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "replace: LF", 0)).stderr_has("changes[1].with.model.table").stderr_has("covers 100 Hz to 10 kHz but the sweep runs from 20 Hz");
+}
+
+#[test]
+fn a_driver_whose_table_fails_is_not_also_unknown_to_its_compensate_entry() {
+    let text = BASE.replacen("model: { re: 4.6 ohm, le: 0.04 mH }", "model: { table: hf.csv }", 1);
+    let o = Cli::new().job(&text).file("hf.csv", b"10, six, 0\n30000, 9, 40\n").args(["check", "{job}"]).run();
+    o.code(1).stderr_has("\"six\" is not a number").stderr_has("1 problem found");
+    assert!(!o.stderr.contains("there is no driver HF"), "{}", o.stderr);
 }

@@ -83,6 +83,12 @@ impl Output {
         assert!(self.stderr.contains(s), "stderr lacks {s:?}\n{}", self.dump());
         self
     }
+    /// As [`Output::stdout_has`], with runs of whitespace (a wrapped line) read as one space.
+    pub fn stdout_says(&self, s: &str) -> &Self {
+        let flat = self.stdout.split_whitespace().collect::<Vec<_>>().join(" ");
+        assert!(flat.contains(s), "stdout lacks {s:?}\n{}", self.dump());
+        self
+    }
     pub fn stdout_has(&self, s: &str) -> &Self {
         assert!(self.stdout.contains(s), "stdout lacks {s:?}\n{}", self.dump());
         self
