@@ -268,7 +268,8 @@ impl Network {
 
     /// Connection problems: nodes only one terminal touches, and branches not reachable from
     /// the input. Each entry names the branch it concerns.
-    pub fn connection_problems(&self) -> Vec<(String, String)> {
+    /// Each problem is (the branch it concerns, the node it concerns, the message).
+    pub fn connection_problems(&self) -> Vec<(String, Option<String>, String)> {
         let mut problems = Vec::new();
         let mut touches: BTreeMap<&str, Vec<&str>> = BTreeMap::new();
         for (name, [a, b]) in self.branches() {
@@ -278,18 +279,22 @@ impl Network {
         for (node, names) in &touches {
             let is_input = *node == self.input[0] || *node == self.input[1];
             if names.len() == 1 && !is_input {
-                problems.push((names[0].to_string(), format!("node {} is touched by {} alone, so no current can flow through it", node, names[0])));
+                problems.push((names[0].to_string(), Some(node.to_string()), format!("node {} is touched by {} alone, so no current can flow through it", node, names[0])));
             }
         }
         for (i, n) in self.input.iter().enumerate() {
             if !touches.contains_key(n.as_str()) {
-                problems.push((String::new(), format!("input node {} ({}) is not connected to any part or driver", n, if i == 0 { "amplifier +" } else { "amplifier -" })));
+                problems.push((
+                    String::new(),
+                    Some(n.clone()),
+                    format!("input node {} ({}) is not connected to any part or driver", n, if i == 0 { "amplifier +" } else { "amplifier -" }),
+                ));
             }
         }
         let reached = self.reach(&[self.input[0].as_str(), self.input[1].as_str()], &[]);
         for (name, [a, _]) in self.branches() {
             if !reached.contains(&a.as_str()) {
-                problems.push((name.to_string(), format!("{} is not connected to the input ({} / {})", name, self.input[0], self.input[1])));
+                problems.push((name.to_string(), None, format!("{} is not connected to the input ({} / {})", name, self.input[0], self.input[1])));
             }
         }
         problems
@@ -708,32 +713,13 @@ pub struct StepError {
 impl Job {
     /// The network with every bench reading applied.
     pub fn as_found(&self) -> Network {
-        let mut net = self.network.clone();
-        for r in &self.measured {
-            match &r.patch {
-                Patch::Part(p) => {
-                    if let Some(part) = net.part_mut(&r.target) {
-                        p.apply_reading(part);
-                    }
-                }
-                Patch::Driver(p) => {
-                    if let Some(d) = net.drivers.iter_mut().find(|d| d.name == r.target) {
-                        p.apply(d);
-                    }
-                }
-            }
-        }
-        net
+        found(&self.network, &self.measured)
     }
 
     /// The as-found network with every change step applied; `auto` values are left as they
     /// are (the compensation step solves them).
     pub fn as_left_unsolved(&self) -> Result<Network, StepError> {
-        let mut net = self.as_found();
-        for c in &self.changes {
-            apply_step(&mut net, c, &self.network)?;
-        }
-        Ok(net)
+        left_unsolved(&self.network, &self.measured, &self.changes)
     }
 
     /// The rated impedance the IEC 60268-5 rule is judged against: the speaker's, or the
@@ -755,6 +741,35 @@ impl Job {
     pub fn driver_names(&self) -> Vec<&str> {
         self.network.drivers.iter().map(|d| d.name.as_str()).collect()
     }
+}
+
+/// The network as designed with every bench reading applied.
+pub fn found(designed: &Network, measured: &[Reading]) -> Network {
+    let mut net = designed.clone();
+    for r in measured {
+        match &r.patch {
+            Patch::Part(p) => {
+                if let Some(part) = net.part_mut(&r.target) {
+                    p.apply_reading(part);
+                }
+            }
+            Patch::Driver(p) => {
+                if let Some(d) = net.drivers.iter_mut().find(|d| d.name == r.target) {
+                    p.apply(d);
+                }
+            }
+        }
+    }
+    net
+}
+
+/// The as-found network with the change steps applied in order (`auto` values unsolved).
+pub fn left_unsolved(designed: &Network, measured: &[Reading], changes: &[Change]) -> Result<Network, StepError> {
+    let mut net = found(designed, measured);
+    for c in changes {
+        apply_step(&mut net, c, designed)?;
+    }
+    Ok(net)
 }
 
 fn apply_step(net: &mut Network, c: &Change, designed: &Network) -> Result<(), StepError> {

@@ -173,6 +173,25 @@ fn parse_rkm(text: &str, quantity: Quantity) -> Option<f64> {
     Some(number * factor)
 }
 
+/// The unit a slip of case most likely meant for this field (`uf` for `uF`, `khz` for
+/// `kHz`). The old markings `mfd` and `MF` mean a microfarad on a crossover capacitor (a
+/// millifarad would be a thousand times larger than any there).
+fn unit_slip(unit: &str, q: Quantity) -> Option<String> {
+    let lower = unit.to_lowercase();
+    if q == Quantity::Capacitance && (lower == "mfd" || lower == "mf") {
+        return Some("uF".into());
+    }
+    let sym = if q == Quantity::Resistance { "ohm" } else { q.symbol() };
+    ["p", "n", "u", "m", "k", "M", ""].iter().map(|p| format!("{p}{sym}")).find(|c| c.to_lowercase() == lower)
+}
+
+/// A unit of another quantity that a slip of case spells (`uf` in an inductor's field).
+fn other_quantity(unit: &str) -> Option<(String, Quantity)> {
+    let lower = unit.to_lowercase();
+    let all = [Quantity::Capacitance, Quantity::Inductance, Quantity::Resistance, Quantity::Power, Quantity::Voltage, Quantity::Current, Quantity::Frequency];
+    all.iter().find_map(|q| unit_slip(&lower, *q).map(|u| (u, *q)))
+}
+
 /// Reads a physical value of the given quantity, in SI base units (farad, henry, ohm, watt,
 /// volt, ampere, hertz; a percentage as a fraction, 10 % -> 0.10; a level in dB as dB).
 pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
@@ -183,6 +202,13 @@ pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
     }
     if let Some(v) = parse_rkm(t, quantity) {
         return Ok(v);
+    }
+    // A decimal comma, as much of Europe writes it: "4,7 uF".
+    if let Some((whole, rest)) = t.split_once(',') {
+        if !whole.is_empty() && whole.chars().all(|c| c.is_ascii_digit()) && rest.starts_with(|c: char| c.is_ascii_digit()) {
+            let fixed = t.replacen(',', ".", 1);
+            return Err(ValueError { message: format!("\"{t}\" has a decimal comma"), hint: Some(format!("write a decimal point: \"{fixed}\"")) });
+        }
     }
     let Some((number, rest)) = split_number(t) else {
         return Err(ValueError { message: expected(), hint: Some(format!("write a number and a unit, e.g. \"{}\"", quantity.example())) });
@@ -206,7 +232,11 @@ pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
             _ => {
                 return Err(ValueError {
                     message: format!("{}: unknown unit \"{}\"", expected(), rest),
-                    hint: Some(format!("units are F, H, ohm (or Ω), W, V, A, Hz, %, dB with prefixes p n u µ m k M; this field takes {}", quantity.symbol())),
+                    hint: Some(match (unit_slip(rest, quantity), other_quantity(rest)) {
+                        (Some(fix), _) => format!("did you mean \"{}{fix}\"?", &t[..t.len() - rest.len()]),
+                        (None, Some((u, q))) => format!("\"{u}\" would be {}; this field takes {} in {}", q.noun(), quantity.noun(), quantity.symbol()),
+                        (None, None) => format!("units are F, H, ohm (or Ω), W, V, A, Hz, %, dB with prefixes p n u µ m k M; this field takes {}", quantity.symbol()),
+                    }),
                 })
             }
         }
@@ -404,6 +434,18 @@ mod tests {
             let err = parse_value(text, *q).expect_err(text);
             assert!(err.message.contains(want), "{text}: message {:?} lacks {want:?}", err.message);
         }
+    }
+
+    #[test]
+    fn slips_get_the_fix_as_a_hint() {
+        let hint = |t: &str, q| parse_value(t, q).unwrap_err().hint.unwrap_or_default();
+        assert_eq!(hint("33 uf", Capacitance), "did you mean \"33 uF\"?");
+        assert_eq!(hint("1.2 KHZ", Frequency), "did you mean \"1.2 kHz\"?");
+        assert_eq!(hint("4.7 mfd", Capacitance), "did you mean \"4.7 uF\"?");
+        assert_eq!(hint("2.2 OHM", Resistance), "did you mean \"2.2 ohm\"?");
+        assert_eq!(hint("33 uf", Inductance), "\"uF\" would be a capacitance; this field takes an inductance in H");
+        let e = parse_value("4,7 uF", Capacitance).unwrap_err();
+        assert!(e.message.contains("decimal comma") && e.hint.as_deref() == Some("write a decimal point: \"4.7 uF\""), "{e:?}");
     }
 
     #[test]

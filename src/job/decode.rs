@@ -16,6 +16,8 @@ pub struct Ctx<'a> {
     /// References that were declared but could not be read: later mentions of them are not
     /// reported again, so one mistake gives one message.
     pub failed: Vec<String>,
+    /// Values already reported (a decimal comma split by YAML): not reported again.
+    pub silenced: Vec<Pos>,
 }
 
 pub struct Fields<'n> {
@@ -52,7 +54,7 @@ fn join(path: &str, key: &str) -> String {
 
 impl<'a> Ctx<'a> {
     pub fn new(base_dir: &'a Path) -> Self {
-        Ctx { diags: Vec::new(), base_dir, inputs: Vec::new(), failed: Vec::new() }
+        Ctx { diags: Vec::new(), base_dir, inputs: Vec::new(), failed: Vec::new(), silenced: Vec::new() }
     }
 
     pub fn error(&mut self, pos: Pos, field: &str, message: impl Into<String>, hint: Option<String>) {
@@ -66,7 +68,23 @@ impl<'a> Ctx<'a> {
             self.error(node.pos(), path, format!("expected a mapping of fields, found {}", node.kind_name()), Some(format!("fields here are: {}", allowed.join(", "))));
             return None;
         };
-        for (k, _) in entries {
+        for (i, (k, _)) in entries.iter().enumerate() {
+            // `{ value: 4,7 uF }`: in braces the comma ends the value, leaving `4` and a field
+            // `7 uF`. That is one mistake, a decimal comma, and is said once.
+            let split = k.name.starts_with(|c: char| c.is_ascii_digit());
+            if let (true, Some((pk, Node::Scalar { text, pos: vpos, .. }))) = (split, i.checked_sub(1).map(|j| &entries[j])) {
+                if !text.is_empty() && text.trim().chars().all(|c| c.is_ascii_digit()) {
+                    let written = format!("{},{}", text.trim(), k.name);
+                    self.error(
+                        *vpos,
+                        &join(path, &pk.name),
+                        format!("\"{written}\" has a decimal comma: inside {{ }} the comma ends the value, leaving \"{}\" and a field \"{}\"", text.trim(), k.name),
+                        Some(format!("write a decimal point: \"{}\"", written.replacen(',', ".", 1))),
+                    );
+                    self.silenced.push(*vpos);
+                    continue;
+                }
+            }
             if !allowed.contains(&k.name.as_str()) {
                 let hint = match suggest(&k.name, allowed.iter().copied()) {
                     Some(s) => format!("did you mean `{s}`?"),
@@ -94,13 +112,19 @@ impl<'a> Ctx<'a> {
 
     fn req<'n>(&mut self, f: &Fields<'n>, key: &str, what: &str) -> Option<&'n Node> {
         let n = f.get(key);
-        if n.is_none() {
+        // A misspelt key is already reported with this key as its suggestion: one mistake,
+        // one message.
+        let misspelt = f.entries.iter().any(|(k, _)| k.name != key && suggest(&k.name, [key]).is_some());
+        if n.is_none() && !misspelt {
             self.error(f.pos, &f.at(key), format!("missing `{key}` ({what})"), None);
         }
         n
     }
 
     pub fn value(&mut self, node: &Node, path: &str, q: Quantity) -> Option<f64> {
+        if self.silenced.contains(&node.pos()) {
+            return None;
+        }
         let text = self.text(node, path)?;
         match parse_value(&text, q) {
             Ok(v) => Some(v),
@@ -294,27 +318,35 @@ pub fn decode(root: &Node, ctx: &mut Ctx) -> Option<Job> {
         Some(n) => decode_amplifier(n, ctx),
         None => None,
     };
+    let before = ctx.diags.len();
     let network = match ctx.req(&top, "network", "the crossover as designed") {
         Some(n) => decode_network(n, ctx),
         None => None,
     };
+    let network_read = ctx.diags.len() == before;
     let analysis = match ctx.req(&top, "analysis", "the sweep") {
         Some(n) => decode_analysis(n, ctx),
         None => None,
     };
     let network = network?;
+    let before = ctx.diags.len();
     let measured = top.get("measured").map(|n| decode_measured(n, &network, ctx)).unwrap_or_default();
     let changes = top.get("changes").map(|n| decode_changes(n, &network, ctx)).unwrap_or_default();
+    let steps_read = ctx.diags.len() == before;
     let empty = Node::Map { entries: Vec::new(), pos: top.pos };
     let compensate = decode_compensate(top.get("compensate").unwrap_or(&empty), &network, &changes, ctx);
     let (template, blocks) = top.get("report").map(|n| decode_report(n, ctx)).unwrap_or((Template::Customer, None));
 
-    let job = Job { info, amplifier: amplifier?, network, measured, changes, compensate, analysis: analysis?, template, blocks, inputs: std::mem::take(&mut ctx.inputs) };
-    // Connection problems are only meaningful once every part and driver was read.
-    if ctx.diags.is_empty() {
-        check_scenarios(&job, ctx);
+    // Every check runs on what could be read, so one pass lists every problem: connections
+    // once every part and driver was read, the steps once every step was, the tables and
+    // bands once the sweep was.
+    if network_read {
+        check_connections(&network, if steps_read { Some((&measured, &changes)) } else { None }, ctx);
     }
-    Some(job)
+    if let Some(a) = &analysis {
+        check_coverage(&network, &changes, &compensate, &a.sweep, ctx);
+    }
+    Some(Job { info, amplifier: amplifier?, network, measured, changes, compensate, analysis: analysis?, template, blocks, inputs: std::mem::take(&mut ctx.inputs) })
 }
 
 fn decode_info(node: &Node, ctx: &mut Ctx) -> Option<JobInfo> {
@@ -1028,7 +1060,10 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
                 p.pos,
                 &p.name,
                 format!("{} has `value: auto` but no `compensate` entry says what to solve it for", p.name),
-                Some(format!("add `compensate: {{ {}: {{ driver: HF, band: [3 kHz, 15 kHz] }} }}`", p.name)),
+                Some(match likely_driver(net, p) {
+                    Some(d) => format!("add `{}: {{ driver: {d} }}` under `compensate:` (and `band: [low, high]` to fit over a band of your choosing)", p.name),
+                    None => format!("add `{}: {{ driver: NAME }}` under `compensate:`, naming the driver whose level it sets", p.name),
+                }),
             );
         }
     }
@@ -1040,6 +1075,22 @@ fn decode_compensate(node: &Node, net: &Network, changes: &[Change], ctx: &mut C
         }
     }
     out
+}
+
+/// The driver an auto part most likely serves: the one whose section (the parts joined to it
+/// without passing the amplifier's terminals) holds the part it is inserted beside, or a
+/// node it is added at.
+fn likely_driver<'n>(net: &'n Network, p: &Part) -> Option<&'n str> {
+    let inputs = [net.input[0].as_str(), net.input[1].as_str()];
+    net.drivers.iter().map(|d| d.name.as_str()).find(|d| {
+        let section = net.section(d);
+        let drv = net.driver(d).map(|x| x.between.clone()).unwrap_or_default();
+        p.between.iter().any(|n| {
+            n == d
+                || section.contains(&n.as_str())
+                || (!inputs.contains(&n.as_str()) && (drv.contains(n) || section.iter().any(|s| net.part(s).is_some_and(|q| q.between.contains(n)))))
+        })
+    })
 }
 
 fn decode_analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
@@ -1221,32 +1272,41 @@ fn decode_report(node: &Node, ctx: &mut Ctx) -> (Template, Option<Vec<Block>>) {
     (template, blocks)
 }
 
-/// Builds the scenarios that can be built without solving, and reports what would stop
-/// the engine: a step that cannot apply, a floating node, a branch cut off from the input.
-fn check_scenarios(job: &Job, ctx: &mut Ctx) {
+/// Reports what would stop the engine in the network as designed and as left: a step that
+/// cannot apply, a node only one terminal touches (with the node it was likely meant to be),
+/// a branch cut off from the input.
+fn check_connections(network: &Network, steps: Option<(&[Reading], &[Change])>, ctx: &mut Ctx) {
     let pos_of = |name: &str, net: &Network| net.part(name).map(|p| p.pos).or_else(|| net.driver(name).map(|d| d.pos)).unwrap_or(net.input_pos);
-    for (name, msg) in job.network.connection_problems() {
-        ctx.error(
-            pos_of(&name, &job.network),
-            &format!("network.{}", if name.is_empty() { "input".to_string() } else { name.clone() }),
-            msg,
-            Some("check the `between` nodes: every node needs two or more terminals".into()),
-        );
+    let mut nodes: Vec<&str> = network.branches().flat_map(|(_, b)| b.iter().map(|s| s.as_str())).collect();
+    nodes.sort_unstable();
+    nodes.dedup();
+    for (name, node, msg) in network.connection_problems() {
+        let hint = node
+            .as_deref()
+            .and_then(|n| suggest(n, nodes.iter().copied().filter(|m| *m != n)))
+            .map(|s| format!("did you mean node `{s}`? every node needs two or more terminals"))
+            .unwrap_or_else(|| "check the `between` nodes: every node needs two or more terminals".into());
+        ctx.error(pos_of(&name, network), &format!("network.{}", if name.is_empty() { "input".to_string() } else { name.clone() }), msg, Some(hint));
     }
-    match job.as_left_unsolved() {
+    let Some((measured, changes)) = steps else { return };
+    match left_unsolved(network, measured, changes) {
         Err(e) => ctx.error(e.pos, &format!("changes[{}]", e.number), e.message, None),
         Ok(left) => {
-            if job.network.connection_problems().is_empty() {
-                for (_, msg) in left.connection_problems() {
-                    let step = job.changes.last().map(|c| c.pos).unwrap_or(Pos { line: 1, col: 1 });
+            if network.connection_problems().is_empty() {
+                for (_, _, msg) in left.connection_problems() {
+                    let step = changes.last().map(|c| c.pos).unwrap_or(Pos { line: 1, col: 1 });
                     ctx.error(step, "changes", format!("after the changes, {msg}"), Some("a removed part leaves its nodes open; add or insert what replaces it".into()));
                 }
             }
         }
     }
+}
+
+/// Reports tables that do not cover the sweep and compensate bands the sweep cannot fill.
+fn check_coverage(network: &Network, changes: &[Change], compensate: &[CompensateEntry], sweep: &Sweep, ctx: &mut Ctx) {
     // Every measured table, the original drivers' and any replacement's, must cover the
     // sweep: outside its range a table could only be held flat, which would be invented data.
-    let freqs = job.analysis.sweep.frequencies();
+    let freqs = sweep.frequencies();
     let (lo, hi) = (freqs.iter().cloned().fold(f64::INFINITY, f64::min), freqs.iter().cloned().fold(0.0, f64::max));
     let mut covers = |pos: Pos, field: String, file: &str, f: &[f64]| {
         let (tlo, thi) = (f[0], f[f.len() - 1]);
@@ -1266,7 +1326,7 @@ fn check_scenarios(job: &Job, ctx: &mut Ctx) {
             );
         }
     };
-    for d in &job.network.drivers {
+    for d in &network.drivers {
         if let DriverModel::Table(t) = &d.model {
             covers(d.pos, format!("network.drivers.{}.model.table", d.name), &t.file, &t.freq_hz);
         }
@@ -1274,7 +1334,7 @@ fn check_scenarios(job: &Job, ctx: &mut Ctx) {
             covers(d.pos, format!("network.drivers.{}.response", d.name), &r.file, &r.freq_hz);
         }
     }
-    for c in &job.changes {
+    for c in changes {
         if let ChangeStep::Replace { with: Patch::Driver(p), .. } = &c.step {
             if let Some(DriverModel::Table(t)) = &p.model {
                 covers(c.pos, format!("changes[{}].with.model.table", c.number), &t.file, &t.freq_hz);
@@ -1284,7 +1344,7 @@ fn check_scenarios(job: &Job, ctx: &mut Ctx) {
             }
         }
     }
-    for c in &job.compensate {
+    for c in compensate {
         if let Some((blo, bhi)) = c.band {
             let field = format!("compensate.{}.band", c.part);
             // A band may end between the sweep's last point and where the next would be (a

@@ -351,3 +351,43 @@ fn a_driver_whose_table_fails_is_not_also_unknown_to_its_compensate_entry() {
     o.code(1).stderr_has("\"six\" is not a number").stderr_has("1 problem found");
     assert!(!o.stderr.contains("there is no driver HF"), "{}", o.stderr);
 }
+
+#[test]
+fn a_decimal_comma_is_one_message_with_the_fix() {
+    // In braces YAML splits `4,7 uF` into `4` and a field `7 uF`: one mistake, one message.
+    let text = BASE.replacen("value: 3.3 uF, esr: 0.9", "value: 4,7 uF, esr: 0.9", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "4,7", 0)).stderr_has("decimal comma").stderr_has("write a decimal point: \"4.7 uF\"").stderr_has("1 problem found");
+    // Outside braces the value is one string, and says the same.
+    let text = BASE.replacen("  C1: { value: 2.9 uF, esr: 1.6 ohm }\n", "  C1:\n    value: 2,9 uF\n", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has(&pos_of(&text, "2,9", 0)).stderr_has("write a decimal point: \"2.9 uF\"");
+}
+
+#[test]
+fn a_unit_in_the_wrong_case_gets_its_fix() {
+    bad("value: 3.3 uF, esr: 0.9", "value: 33 uf, esr: 0.9", "33 uf", 0, &["unknown unit \"uf\"", "did you mean \"33 uF\"?"]);
+}
+
+#[test]
+fn a_missing_compensate_entry_names_the_driver_it_serves() {
+    // R9 sits beside C1, in HF's section: the hint names HF, not a demo's guess.
+    bad("compensate:\n  R9: { driver: HF, band: [3 kHz, 15 kHz] }\n", "", "R9: { kind", 0, &["no `compensate` entry", "add `R9: { driver: HF }` under `compensate:`"]);
+    let text = BASE.replacen("between: [IN, C1], value: auto", "between: [IN, L2], value: auto", 1).replacen("compensate:\n  R9: { driver: HF, band: [3 kHz, 15 kHz] }\n", "", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("add `R9: { driver: LF }`");
+}
+
+#[test]
+fn a_node_typo_gets_the_node_it_meant() {
+    bad("between: [H1, COM], value: 0.27", "between: [H1, CMO], value: 0.27", "L1: {", 0, &["node CMO is touched by L1 alone", "did you mean node `COM`?"]);
+}
+
+#[test]
+fn problems_in_different_sections_are_listed_together() {
+    // A misspelt amplifier field and a dangling node: both in one pass, and the misspelt key
+    // is not also reported as a missing one.
+    let text = BASE.replacen("into: 8 ohm", "intoo: 8 ohm", 1).replacen("between: [H1, COM], value: 0.27", "between: [H1, CMO], value: 0.27", 1);
+    let o = Cli::new().job(&text).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("unknown field `intoo`").stderr_has("did you mean `into`?").stderr_has("node CMO is touched by L1 alone").stderr_has("2 problems found");
+}

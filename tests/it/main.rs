@@ -4,6 +4,7 @@
 mod analytic;
 mod bad;
 mod commands;
+mod nodal;
 mod reference;
 mod report;
 mod util;

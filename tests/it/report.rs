@@ -172,3 +172,64 @@ fn basis_lines_keep_their_punctuation_and_say_where_the_rated_impedance_comes_fr
     assert!(text.contains("Sine figures: a full-level sine of 21.9 V RMS"), "{text}");
     assert!(text.contains("one eighth of the rated power"), "{text}");
 }
+
+#[test]
+fn the_sale_sheet_never_shows_the_previous_owner() {
+    for sample in SAMPLES {
+        let job = voicekeep::job::load(&root().join(sample)).unwrap();
+        let (pdf, text) = render(sample, "sale");
+        for field in [&job.info.customer_name, &job.info.customer_reference] {
+            assert!(!field.is_empty() && !text.contains(field.as_str()), "{sample}: \"{field}\" on the sale sheet");
+        }
+        assert!(!text.contains("Customer") && !text.contains("Bench notes"), "{sample}");
+        // Nothing attached names them either: the job file stays out of the sale sheet.
+        let list = Command::new("pdfdetach").arg("-list").arg(&pdf).output().unwrap();
+        let list = String::from_utf8_lossy(&list.stdout);
+        assert!(!list.contains(".yaml"), "{sample}: {list}");
+        let out = pdf.with_file_name("results.json");
+        assert!(Command::new("pdfdetach").arg("-savefile").arg("results.json").arg("-o").arg(&out).arg(&pdf).status().unwrap().success());
+        let results = std::fs::read_to_string(&out).unwrap();
+        assert!(!results.contains(job.info.customer_name.as_str()));
+        // The amplifier line is the shop's assumption, not a rating of the speaker.
+        assert!(text.contains("the shop's figures assume an amplifier of"), "{sample}");
+    }
+}
+
+#[test]
+fn the_customer_report_says_what_was_fitted_in_plain_words() {
+    let (_, text) = render("samples/two-way-recap.yaml", "customer");
+    assert!(text.contains("with a 3.3 µF polypropylene film capacitor rated 250 V (was a bipolar electrolytic)"), "{text}");
+    assert!(text.contains("Fitted R9, a 0.91 Ω resistor rated 3 W"), "{text}");
+    for archive_only in ["Soldering", "Computed from", "as designed", "Exact"] {
+        assert!(!text.contains(archive_only), "{archive_only} in the customer report");
+    }
+    assert!(text.contains("Listening levels"), "the customer's cautions");
+    let (_, text) = render("samples/two-way-recap.yaml", "archive");
+    for caution in ["Soldering", "Bench tests", "bipolar (non-polar)", "Crossover resistors get hot"] {
+        assert!(text.contains(caution), "{caution} missing from the archive");
+    }
+}
+
+#[test]
+fn an_over_rating_note_is_about_the_speaker_as_left_and_names_the_part() {
+    // R1 (1 W) is overloaded as designed and as found, then replaced by a 50 W part: no
+    // "over its rating" note. A 3 W part instead: the note names R1.
+    let job = |rating: &str| {
+        voicekeep::job::load_bytes(
+            format!("voicekeep: 1\njob: {{ number: A, date: 2026-01-01 }}\namplifier: {{ power: 100 W, into: 8 ohm }}\nnetwork:\n  input: [IN, COM]\n  parts:\n    R1: {{ kind: resistor, between: [IN, H1], value: 2 ohm, rating: 1 W }}\n  drivers:\n    HF: {{ role: tweeter, between: [H1, COM], model: {{ resistance: 6 ohm }} }}\nchanges:\n  - replace: R1\n    with: {{ rating: {rating} }}\nanalysis: {{ sweep: {{ from: 20 Hz, to: 20 kHz, per_octave: 3 }} }}\n").as_bytes(),
+            "t.yaml",
+            "t.yaml",
+            std::path::Path::new("."),
+        )
+        .unwrap()
+    };
+    for (rating, over) in [("50 W", false), ("3 W", true)] {
+        let j = job(rating);
+        let f = voicekeep::analysis::analyse(&j).unwrap();
+        for t in [voicekeep::model::Template::Archive, voicekeep::model::Template::Customer] {
+            let d = voicekeep::report::data::build(&j, &f, &t, &[]);
+            let all = d.safety.join(" ");
+            assert_eq!(all.contains("R1 is over its rating") || all.contains("R1 would run above its rating"), over, "{rating}: {all}");
+        }
+    }
+}
