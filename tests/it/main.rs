@@ -4,6 +4,7 @@
 mod analytic;
 mod bad;
 mod commands;
+mod golden;
 mod nodal;
 mod reference;
 mod report;
