@@ -3,7 +3,17 @@
 
 use std::fmt;
 
-use crate::job::yaml::Pos;
+/// A place in the job file (1-based line and column).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Default)]
+pub struct Pos {
+    pub line: usize,
+    pub col: usize,
+}
+
+impl Pos {
+    /// The top of the file, where a missing section is reported.
+    pub const START: Pos = Pos { line: 1, col: 1 };
+}
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct Diagnostic {
@@ -63,37 +73,16 @@ impl fmt::Display for Problems {
 }
 
 /// The closest candidate to a misspelt name, if one is close enough to be a likely slip.
+/// Distance is strsim's optimal string alignment: insertions, deletions, changes and the swap
+/// of two neighbours each count one, so `ers` for `esr` is one slip.
 pub fn suggest<'a>(name: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
     let lower = name.to_lowercase();
     candidates
         .into_iter()
-        .map(|c| (edit_distance(&lower, &c.to_lowercase()), c))
+        .map(|c| (strsim::osa_distance(&lower, &c.to_lowercase()), c))
         .filter(|(d, c)| *d <= (c.chars().count().max(2) / 3).max(1) || (*d <= 2 && c.len() > 3))
         .min_by_key(|(d, _)| *d)
         .map(|(_, c)| c)
-}
-
-/// Edits (insert, delete, change, or swap of two neighbours) from `a` to `b`: the optimal
-/// string alignment distance, so a transposed pair such as `ers` for `esr` counts as one slip.
-fn edit_distance(a: &str, b: &str) -> usize {
-    let (a, b): (Vec<char>, Vec<char>) = (a.chars().collect(), b.chars().collect());
-    let mut d = vec![vec![0; b.len() + 1]; a.len() + 1];
-    for (i, row) in d.iter_mut().enumerate() {
-        row[0] = i;
-    }
-    for (j, cell) in d[0].iter_mut().enumerate() {
-        *cell = j;
-    }
-    for i in 1..=a.len() {
-        for j in 1..=b.len() {
-            let change = usize::from(a[i - 1] != b[j - 1]);
-            d[i][j] = (d[i - 1][j - 1] + change).min(d[i - 1][j] + 1).min(d[i][j - 1] + 1);
-            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
-                d[i][j] = d[i][j].min(d[i - 2][j - 2] + 1);
-            }
-        }
-    }
-    d[a.len()][b.len()]
 }
 
 #[cfg(test)]

@@ -10,6 +10,7 @@ pub mod analysis;
 pub mod cli;
 pub mod diag;
 pub mod engine;
+pub mod files;
 pub mod job;
 pub mod model;
 pub mod report;

@@ -453,13 +453,13 @@ pub fn plan(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &
         if t.placement == Placement::Series && !at_input {
             warnings.push(Warning {
                 subject: t.entry.part.clone(),
-                message: format!("{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).", t.entry.part, d.name, display_node(&part.between[0]), display_node(&part.between[1])),
+                message: format!("{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).", t.entry.part, d.name, unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1])),
             });
         }
         let placement = match t.placement {
             Placement::Series if at_input => format!("in series at the input of {}'s filter, between node {} and the filter's first part", d.name, unsolved.input[0]),
-            Placement::Series => format!("in series between {} and {}", display_node(&part.between[0]), display_node(&part.between[1])),
-            Placement::Shunt => format!("across {} (between {} and {})", d.name, display_node(&part.between[0]), display_node(&part.between[1])),
+            Placement::Series => format!("in series between {} and {}", unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1])),
+            Placement::Shunt => format!("across {} (between {} and {})", d.name, unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1])),
         };
         fits.push(Fit {
             part: t.entry.part.clone(),
@@ -491,14 +491,6 @@ pub fn plan(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &
     let mut plan = Plan { network, fits, alternatives: Vec::new(), warnings };
     alternatives(job, freqs, bands, designed, found, unsolved, &mut plan)?;
     Ok(plan)
-}
-
-/// Inserted nodes are named `R9~IN`; show them as "R9's far side".
-pub fn display_node(n: &str) -> String {
-    match n.split_once('~') {
-        Some((part, _)) => format!("{part}'s far side"),
-        None => n.to_string(),
-    }
 }
 
 /// Residual (RMS, worst) of a driver against its reference over its band, and its crossover

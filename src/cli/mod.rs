@@ -187,19 +187,25 @@ fn solve(path: &Path, format: Format) -> u8 {
     }
 }
 
-fn template_choice(arg: Option<String>, job: &Job) -> Template {
-    match arg.as_deref() {
-        None => job.template.clone(),
-        Some("customer") => Template::Customer,
-        Some("archive") => Template::Archive,
-        Some("sale") => Template::Sale,
-        Some(path) => Template::File(PathBuf::from(path)),
+/// The template the command line asks for (over the job's choice): a built-in, or a shop's
+/// file read here, at the edge, so rendering reads nothing from disk.
+fn template_choice(arg: Option<String>, job: &Job) -> Result<Template, u8> {
+    let Some(arg) = arg else { return Ok(job.template.clone()) };
+    if let Some(t) = Template::built_in(&arg) {
+        return Ok(t);
+    }
+    match std::fs::read(&arg) {
+        Ok(bytes) => Ok(Template::File { name: arg, text: String::from_utf8_lossy(&bytes).into_owned() }),
+        Err(e) => {
+            eprintln!("voicekeep: cannot read the template {arg}: {e}");
+            Err(PROBLEMS)
+        }
     }
 }
 
 fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8 {
     if let Some(t) = &template {
-        if !["customer", "archive", "sale"].contains(&t.as_str()) && !t.ends_with(".typ") {
+        if Template::built_in(t).is_none() && !t.ends_with(".typ") {
             eprintln!("voicekeep: --template takes customer, archive, sale or the path of a .typ file, not \"{t}\"");
             return USAGE;
         }
@@ -209,7 +215,10 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
         Err(c) => return c,
     };
     let target = output.unwrap_or_else(|| path.with_extension("pdf"));
-    let template = template_choice(template, &job);
+    let template = match template_choice(template, &job) {
+        Ok(t) => t,
+        Err(c) => return c,
+    };
     match render_to(path, &job, &template, &target) {
         Ok(()) => out(&format!("wrote {}\n", target.display())),
         Err(c) => c,
@@ -220,7 +229,7 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Resu
     let f = analyse(path, job)?;
     let pdf = report::render(job, &f, template).map_err(|e| {
         eprintln!("{}: {e}", path.display());
-        if matches!(e, report::ReportError::Template { .. } | report::ReportError::TemplateFile { .. }) {
+        if matches!(e, report::ReportError::Template { .. }) {
             PROBLEMS
         } else {
             FAILURE

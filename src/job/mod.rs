@@ -1,19 +1,38 @@
-//! Reading a job file: YAML with positions ([`yaml`]), then validation into the model
-//! ([`decode`]), collecting every problem with its place.
+//! Reading a job file, in two stages as ripgrep reads its flags: [`parse`] turns the
+//! positioned YAML tree ([`yaml`]) into the raw job ([`raw`]), reporting problems of shape;
+//! [`build`] resolves its names, reads its tables and template through [`Files`] and checks
+//! the scenarios ([`checks`]), giving the validated [`Job`]. Every problem of both stages is
+//! collected, with its place, so a technician fixes the whole file in one pass.
+//!
+//! | file | what it holds |
+//! | --- | --- |
+//! | `yaml.rs` | the YAML tree with every node's line and column |
+//! | `reader.rs` | the reading context and its primitives (fields, values, choices) |
+//! | `fields.rs` | field groups both stages read: a part, its value fields, a driver, a model |
+//! | `raw.rs`, `parse.rs` | the raw job and the parse stage |
+//! | `tables.rs` | the tables a job names |
+//! | `build.rs`, `checks.rs` | the build stage and the whole-network checks |
 
-pub mod decode;
+pub mod build;
+pub mod checks;
+pub mod fields;
+pub mod parse;
+pub mod raw;
+pub mod reader;
+pub mod tables;
 pub mod yaml;
 
 use std::fmt;
 use std::path::Path;
 
-use crate::diag::{Diagnostic, Problems};
+use crate::diag::{Diagnostic, Pos, Problems};
+use crate::files::{DiskFiles, Files};
 use crate::model::{InputFile, Job};
 
 #[derive(Debug)]
 pub enum LoadError {
     /// The file could not be read at all.
-    Io { file: String, error: std::io::Error },
+    Io { file: String, error: String },
     /// The file was read and has problems.
     Problems(Problems),
 }
@@ -27,31 +46,40 @@ impl fmt::Display for LoadError {
     }
 }
 
-/// Reads and validates the job file at `path`; tables are read relative to its folder.
+/// Reads and validates the job file at `path`; its tables and template are read from its folder.
 pub fn load(path: &Path) -> Result<Job, LoadError> {
-    let file = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|error| LoadError::Io { file: file.clone(), error })?;
-    let base = path.parent().unwrap_or(Path::new("."));
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| file.clone());
-    load_bytes(&bytes, &file, &name, base)
+    let files = DiskFiles::beside(path);
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| path.display().to_string());
+    load_with(&files, &name, &path.display().to_string())
 }
 
-/// Validates job text held in memory. `display` names the file in messages; `name` is how
-/// the report's appendix lists it.
+/// Reads and validates the job `name` from `files`; `display` names it in messages.
+pub fn load_with(files: &dyn Files, name: &str, display: &str) -> Result<Job, LoadError> {
+    let bytes = files.read(name).map_err(|e| LoadError::Io { file: display.to_string(), error: e.reason })?;
+    load_text(&bytes, display, name, files)
+}
+
+/// Validates job text held in memory, reading its tables from `base`. `display` names the
+/// file in messages; `name` is how the report's appendix lists it.
 pub fn load_bytes(bytes: &[u8], display: &str, name: &str, base: &Path) -> Result<Job, LoadError> {
+    load_text(bytes, display, name, &DiskFiles::new(base))
+}
+
+/// Validates job text held in memory, reading what it names from `files`.
+pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> Result<Job, LoadError> {
     let problems = |list: Vec<Diagnostic>, source: &str| LoadError::Problems(Problems { file: display.to_string(), source: source.to_string(), list });
     let text = match std::str::from_utf8(bytes) {
         Ok(t) => t,
         Err(e) => {
             let line = bytes[..e.valid_up_to()].iter().filter(|b| **b == b'\n').count() + 1;
-            return Err(problems(vec![Diagnostic::new(yaml::Pos { line, col: 1 }, "", "the file is not UTF-8 text").hint("save the job file as UTF-8")], ""));
+            return Err(problems(vec![Diagnostic::new(Pos { line, col: 1 }, "", "the file is not UTF-8 text").hint("save the job file as UTF-8")], ""));
         }
     };
     let root = yaml::parse(text)
         .map_err(|e| problems(vec![Diagnostic::new(e.pos, "", format!("YAML syntax: {}", e.message)).hint("check indentation (spaces, not tabs), colons and brackets")], text))?;
-    let mut ctx = decode::Ctx::new(base);
+    let mut ctx = reader::Ctx::new(files);
     ctx.inputs.push(InputFile { name: name.to_string(), bytes: bytes.to_vec() });
-    let job = decode::decode(&root, &mut ctx);
+    let job = parse::parse(&root, &mut ctx).and_then(|raw| build::build(raw, &mut ctx));
     if !ctx.diags.is_empty() {
         let mut list = ctx.diags;
         list.sort_by_key(|d| (d.pos.line, d.pos.col));
@@ -59,7 +87,10 @@ pub fn load_bytes(bytes: &[u8], display: &str, name: &str, base: &Path) -> Resul
         return Err(problems(list, text));
     }
     match job {
-        Some(job) => Ok(job),
-        None => Err(problems(vec![Diagnostic::new(yaml::Pos { line: 1, col: 1 }, "", "internal error: the job was refused without a reason; please report this")], text)),
+        Some(mut job) => {
+            job.inputs = ctx.inputs;
+            Ok(job)
+        }
+        None => Err(problems(vec![Diagnostic::new(Pos::START, "", "internal error: the job was refused without a reason; please report this")], text)),
     }
 }

@@ -4,12 +4,7 @@
 use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser};
 use yaml_rust2::scanner::{Marker, TScalarStyle};
 
-/// A place in the job file (1-based line and column).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub struct Pos {
-    pub line: usize,
-    pub col: usize,
-}
+pub use crate::diag::Pos;
 
 impl From<Marker> for Pos {
     fn from(m: Marker) -> Self {

@@ -30,7 +30,7 @@ impl Audience {
         match t {
             Template::Customer => Audience::Customer,
             Template::Sale => Audience::Sale,
-            Template::Archive | Template::File(_) => Audience::Archive,
+            Template::Archive | Template::File { .. } => Audience::Archive,
         }
     }
 
@@ -314,12 +314,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
     let date = Date { year: info.date.year, month: info.date.month, day: info.date.day, text: info.date.to_string() };
     let mut data = ReportData {
         version: crate::results::VERSION.into(),
-        template: match template {
-            Template::Customer => "customer".into(),
-            Template::Archive => "archive".into(),
-            Template::Sale => "sale".into(),
-            Template::File(p) => p.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default(),
-        },
+        template: template.name().to_string(),
         audience,
         date,
         job: header(&c),
@@ -570,12 +565,8 @@ fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, insert: Option<(
     }
     match insert {
         Some((node, next_to)) => format!("{number}. Inserted {} ({}) in series between node {node} and {next_to}", part.name, part_text(fitted)),
-        None => format!("{number}. Added {} ({}, {} - {})", part.name, part_text(fitted), display(&part.between[0]), display(&part.between[1])),
+        None => format!("{number}. Added {} ({}, {} - {})", part.name, part_text(fitted), net_left.node_label(&part.between[0]), net_left.node_label(&part.between[1])),
     }
-}
-
-fn display(n: &str) -> String {
-    crate::analysis::compensate::display_node(n)
 }
 
 fn levels(c: &Ctx) -> LevelsData {
@@ -749,7 +740,8 @@ fn parts(c: &Ctx) -> Table {
         .filter_map(|n| {
             let (d, fo, l) = (designed.network.part(n), found.network.part(n), left.network.part(n));
             let any = d.or(fo).or(l)?;
-            let where_ = format!("{}, {} - {}", any.kind.name(), display(&any.between[0]), display(&any.between[1]));
+            // Nodes voicekeep made up exist only as left, where their labels are.
+            let where_ = format!("{}, {} - {}", any.kind.name(), left.network.node_label(&any.between[0]), left.network.node_label(&any.between[1]));
             let t = |p: Option<&Part>| p.map(part_text).unwrap_or_else(|| "-".into());
             let change = match (fo, l) {
                 (None, Some(_)) => "added".to_string(),

@@ -26,8 +26,6 @@ pub const SALE_TYP: &str = include_str!("../../templates/sale.typ");
 
 #[derive(Debug)]
 pub enum ReportError {
-    /// A shop's template file could not be read.
-    TemplateFile { path: String, error: std::io::Error },
     /// The template has errors; each with its file, line and column.
     Template { messages: Vec<String> },
     /// The PDF could not be written out (an internal problem).
@@ -37,7 +35,6 @@ pub enum ReportError {
 impl fmt::Display for ReportError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            ReportError::TemplateFile { path, error } => write!(f, "cannot read the template {path}: {error}"),
             ReportError::Template { messages } => write!(f, "the report template has problems:\n{}", messages.join("\n")),
             ReportError::Pdf(m) => write!(f, "internal error writing the PDF: {m}; please report this"),
         }
@@ -52,10 +49,8 @@ pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, R
         Template::Customer => ("customer.typ".to_string(), CUSTOMER_TYP.to_string()),
         Template::Archive => ("archive.typ".to_string(), ARCHIVE_TYP.to_string()),
         Template::Sale => ("sale.typ".to_string(), SALE_TYP.to_string()),
-        Template::File(p) => {
-            let text = std::fs::read_to_string(p).map_err(|error| ReportError::TemplateFile { path: p.display().to_string(), error })?;
-            (p.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text)
-        }
+        // A shop template's text came in with the job: rendering reads nothing from disk.
+        Template::File { name, text } => (std::path::Path::new(name).file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text.clone()),
     };
     let archive = matches!(template, Template::Archive);
     let results = serde_json::to_vec_pretty(&crate::results::json(job, f)).map_err(|e| ReportError::Pdf(e.to_string()))?;

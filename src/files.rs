@@ -1,0 +1,71 @@
+//! The one way voicekeep reads its inputs: the job file, the tables it names and a shop's
+//! template all come through [`Files`], as typst reads through its `World`. The real one
+//! ([`DiskFiles`]) reads the job's folder; an in-memory one ([`MemFiles`]) serves tests, so
+//! every stage after it runs without touching the disk.
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+/// Why a file could not be read, in words for a diagnostic.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FileError {
+    /// The file as a message names it (its full path, for a file on disk).
+    pub file: String,
+    pub reason: String,
+}
+
+pub trait Files: Sync {
+    /// The bytes of `name`, a path as the job writes it (relative to the job's folder).
+    fn read(&self, name: &str) -> Result<Vec<u8>, FileError>;
+}
+
+/// The files of one folder on disk: the job's.
+#[derive(Debug, Clone)]
+pub struct DiskFiles {
+    base: PathBuf,
+}
+
+impl DiskFiles {
+    pub fn new(base: &Path) -> DiskFiles {
+        DiskFiles { base: base.to_path_buf() }
+    }
+
+    /// The folder of the job file at `job`.
+    pub fn beside(job: &Path) -> DiskFiles {
+        DiskFiles::new(job.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new(".")))
+    }
+
+    pub fn path_of(&self, name: &str) -> PathBuf {
+        self.base.join(name)
+    }
+}
+
+impl Files for DiskFiles {
+    fn read(&self, name: &str) -> Result<Vec<u8>, FileError> {
+        let full = self.path_of(name);
+        std::fs::read(&full).map_err(|e| FileError { file: full.display().to_string(), reason: e.to_string() })
+    }
+}
+
+/// Files held in memory, by name: for tests, and for anything that has its inputs already.
+#[derive(Debug, Clone, Default)]
+pub struct MemFiles {
+    files: BTreeMap<String, Vec<u8>>,
+}
+
+impl MemFiles {
+    pub fn new() -> MemFiles {
+        MemFiles::default()
+    }
+
+    pub fn with(mut self, name: &str, bytes: impl Into<Vec<u8>>) -> MemFiles {
+        self.files.insert(name.to_string(), bytes.into());
+        self
+    }
+}
+
+impl Files for MemFiles {
+    fn read(&self, name: &str) -> Result<Vec<u8>, FileError> {
+        self.files.get(name).cloned().ok_or_else(|| FileError { file: name.to_string(), reason: "no such file".into() })
+    }
+}

@@ -1,0 +1,407 @@
+//! The build stage: the raw job's names are resolved into the validated model. Tables and a
+//! shop's template are read (through the job's [`Files`](crate::files::Files)), readings and
+//! replacements are read against the kind of part or driver they name, inserts are placed,
+//! compensate entries are matched with their parts and drivers, and the scenarios are
+//! checked ([`checks`](crate::job::checks)). Every problem is collected with its place.
+
+use crate::diag::{suggest, Pos};
+use crate::job::checks;
+use crate::job::fields::{self, part_fields};
+use crate::job::raw::*;
+use crate::job::reader::{Ctx, Fields};
+use crate::job::yaml::Node;
+use crate::model::*;
+use crate::units::Quantity;
+
+const READING_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "at"];
+const READING_DRIVER_KEYS: &[&str] = &["resistance", "re", "le", "fs", "qms", "qes", "at"];
+const REPLACE_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core"];
+const REPLACE_DRIVER_KEYS: &[&str] = &["model", "sensitivity", "response", "rated_power", "note"];
+
+pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
+    let before = ctx.diags.len();
+    let network = raw.network.map(|n| network(n, ctx));
+    let network_whole = raw.network_whole && ctx.diags.len() == before;
+    let network = network?;
+    let before = ctx.diags.len();
+    let measured = measured(&raw.measured, &network, ctx);
+    let changes = changes(&raw.changes, &network, ctx);
+    let steps_whole = ctx.diags.len() == before;
+    let compensate = compensate(raw.compensate, &network, &changes, ctx);
+    let template = template(raw.template, ctx);
+    // Every check runs on what could be read, so one pass lists every problem: connections
+    // once every part and driver was read, the steps once every step was, the tables and
+    // bands once the sweep was.
+    if network_whole {
+        checks::connections(&network, if steps_whole { Some((&measured, &changes)) } else { None }, ctx);
+    }
+    if let Some(a) = &raw.analysis {
+        checks::coverage(&network, &changes, &compensate, &a.sweep, ctx);
+    }
+    Some(Job {
+        info: raw.info.unwrap_or_default(),
+        amplifier: raw.amplifier?,
+        network,
+        measured,
+        changes,
+        compensate,
+        analysis: raw.analysis?,
+        template,
+        blocks: raw.blocks,
+        inputs: Vec::new(),
+    })
+}
+
+/// A driver model with its table read.
+fn model(m: RawModel, ctx: &mut Ctx) -> Option<DriverModel> {
+    Some(match m {
+        RawModel::Resistance(r) => DriverModel::Resistance(r),
+        RawModel::VoiceCoil { re, inductance, resonance } => DriverModel::VoiceCoil { re, inductance, resonance },
+        RawModel::Table(t) => DriverModel::Table(ctx.impedance_table(&t)?),
+    })
+}
+
+fn network(raw: RawNetwork, ctx: &mut Ctx) -> Network {
+    let mut drivers = Vec::new();
+    for d in raw.drivers {
+        let response = d.response.as_ref().and_then(|r| ctx.response_table(r));
+        let failed_response = d.response.is_some() && response.is_none();
+        match model(d.model, ctx) {
+            Some(m) if !failed_response => drivers.push(Driver {
+                name: d.name,
+                role: d.role,
+                between: d.between,
+                model: m,
+                rated_power: d.rated_power,
+                sensitivity: d.sensitivity,
+                response,
+                inverted: d.inverted,
+                note: d.note,
+                pos: d.pos,
+            }),
+            // Its table's own message says what is wrong; later mentions stay quiet.
+            _ => ctx.failed.push(d.name),
+        }
+    }
+    Network { input: raw.input, input_pos: raw.input_pos, labels: Default::default(), parts: raw.parts, drivers }
+}
+
+enum Target<'a> {
+    Part(&'a Part),
+    Driver(&'a Driver),
+}
+
+/// The part or driver a step or reading names: in the network, or added by an earlier step.
+fn find_target<'a>(net: &'a Network, added: &'a [Part], key: &str, pos: Pos, path: &str, ctx: &mut Ctx) -> Option<Target<'a>> {
+    if let Some(p) = net.part(key).or_else(|| added.iter().find(|p| p.name == key)) {
+        return Some(Target::Part(p));
+    }
+    if let Some(d) = net.driver(key) {
+        return Some(Target::Driver(d));
+    }
+    if ctx.failed.iter().any(|e| e == key) {
+        return None;
+    }
+    let names: Vec<&str> = net.branches().map(|(n, _)| n).chain(added.iter().map(|p| p.name.as_str())).collect();
+    let hint = match suggest(key, names.iter().copied()) {
+        Some(s) => format!("did you mean `{s}`?"),
+        None => format!("the network has: {}", names.join(", ")),
+    };
+    ctx.error(pos, path, format!("there is no part or driver {key} in the network"), Some(hint));
+    None
+}
+
+/// A driver reading names fields of the driver's own model; one its model does not have
+/// (a resonance reading on a model without one, `re` on a measured table) would otherwise be
+/// dropped, so it is refused where it is written.
+fn reading_fits_model(f: &Fields, d: &Driver, ctx: &mut Ctx) -> bool {
+    let (kind, has): (&str, Vec<&str>) = match &d.model {
+        DriverModel::Resistance(_) => ("a plain resistance", vec!["resistance", "re"]),
+        DriverModel::VoiceCoil { inductance, resonance, .. } => {
+            let leach = matches!(inductance, VoiceCoilInductance::Leach { .. });
+            let mut has = vec!["re"];
+            if !leach {
+                has.push("le");
+            }
+            if resonance.is_some() {
+                has.extend(["fs", "qms", "qes"]);
+            }
+            let kind = match (leach, resonance.is_some()) {
+                (true, true) => "Re with Leach's inductance and a resonance",
+                (true, false) => "Re with Leach's inductance and no resonance",
+                (false, true) => "Re and Le with a resonance",
+                (false, false) => "Re and Le with no resonance",
+            };
+            (kind, has)
+        }
+        DriverModel::Table(_) => ("a measured impedance table", vec![]),
+    };
+    let mut ok = true;
+    for key in ["resistance", "re", "le", "fs", "qms", "qes"] {
+        let Some(n) = f.get(key) else { continue };
+        if has.contains(&key) {
+            continue;
+        }
+        let hint = match (&d.model, key) {
+            (DriverModel::Table(_), _) => "a table holds the whole impedance: measure the driver again and `replace` it with the new table".to_string(),
+            (DriverModel::Resistance(_), _) => format!("a plain resistance takes `resistance` (or `re`); give {} a voice-coil model to read `{key}`", d.name),
+            (_, "resistance") => "for a voice-coil model, read its DC resistance as `re`".to_string(),
+            (_, "le") => "Leach's K and n are not read on the bench; `replace` the driver's model if it has changed".to_string(),
+            _ => format!("give {}'s model fs, qms and qes in `network.drivers.{}.model` before reading them", d.name, d.name),
+        };
+        ctx.error(n.pos(), &f.at(key), format!("{}'s model is {kind}: a reading of `{key}` has nothing to apply to", d.name), Some(hint));
+        ok = false;
+    }
+    ok
+}
+
+/// The fields a driver's bench reading may give, read against its model.
+fn driver_reading(f: &Fields, d: &Driver, ctx: &mut Ctx) -> Option<DriverPatch> {
+    if !reading_fits_model(f, d, ctx) {
+        return None;
+    }
+    Some(DriverPatch {
+        resistance: ctx.opt_positive(f, "resistance", Quantity::Resistance, false),
+        re: ctx.opt_positive(f, "re", Quantity::Resistance, false),
+        le: ctx.opt_positive(f, "le", Quantity::Inductance, true),
+        fs: ctx.opt_positive(f, "fs", Quantity::Frequency, false),
+        qms: f.get("qms").and_then(|n| ctx.bare_number(n, &f.at("qms"))),
+        qes: f.get("qes").and_then(|n| ctx.bare_number(n, &f.at("qes"))),
+        ..Default::default()
+    })
+}
+
+fn measured(entries: &[Entry], net: &Network, ctx: &mut Ctx) -> Vec<Reading> {
+    let mut out = Vec::new();
+    for e in entries {
+        let (k, v) = (e.key, e.node);
+        let path = format!("measured.{}", k.name);
+        let patch = match find_target(net, &[], &k.name, k.pos, &path, ctx) {
+            Some(Target::Part(p)) => ctx.fields(v, &path, READING_PART_KEYS).and_then(|f| part_fields(&f, p.kind, ctx, false)).map(Patch::Part),
+            Some(Target::Driver(d)) => ctx.fields(v, &path, READING_DRIVER_KEYS).and_then(|f| driver_reading(&f, d, ctx)).map(Patch::Driver),
+            None => None,
+        };
+        if let Some(patch) = patch {
+            out.push(Reading { target: k.name.clone(), patch, pos: k.pos });
+        }
+    }
+    out
+}
+
+/// A replacement's fields, read against what it replaces.
+fn replacement(target: Target, with: &Node, path: &str, ctx: &mut Ctx) -> Option<Patch> {
+    match target {
+        Target::Part(p) => {
+            let wf = ctx.fields(with, path, REPLACE_PART_KEYS)?;
+            part_fields(&wf, p.kind, ctx, true).map(Patch::Part)
+        }
+        Target::Driver(_) => {
+            let wf = ctx.fields(with, path, REPLACE_DRIVER_KEYS)?;
+            let model = wf.get("model").and_then(|n| fields::model(n, &wf.at("model"), ctx)).and_then(|m| model(m, ctx));
+            let response = wf.get("response").and_then(|n| fields::table_ref(n, &wf.at("response"), ctx)).and_then(|r| ctx.response_table(&r));
+            Some(Patch::Driver(DriverPatch {
+                model,
+                sensitivity: wf.get("sensitivity").and_then(|n| ctx.value(n, &wf.at("sensitivity"), Quantity::Decibel)),
+                response,
+                rated_power: ctx.opt_positive(&wf, "rated_power", Quantity::Power, false),
+                note: ctx.opt_text(&wf, "note"),
+                ..Default::default()
+            }))
+        }
+    }
+}
+
+fn changes(raw: &[RawChange], net: &Network, ctx: &mut Ctx) -> Vec<Change> {
+    let mut out = Vec::new();
+    // Parts added by earlier steps, so later steps may name them.
+    let mut added: Vec<Part> = Vec::new();
+    let is_new = |name: &str, added: &[Part]| net.part(name).is_none() && net.driver(name).is_none() && !added.iter().any(|p| p.name == name);
+    for c in raw {
+        let path = format!("changes[{}]", c.number);
+        let step = match &c.step {
+            RawStep::Replace { target, target_pos, with, with_path } => {
+                let Some(t) = find_target(net, &added, target, *target_pos, &format!("{path}.replace"), ctx) else { continue };
+                let Some(with) = replacement(t, with, with_path, ctx) else { continue };
+                ChangeStep::Replace { target: target.clone(), with }
+            }
+            RawStep::Remove { target, target_pos } => match find_target(net, &added, target, *target_pos, &format!("{path}.remove"), ctx) {
+                Some(Target::Driver(_)) => {
+                    ctx.error(
+                        *target_pos,
+                        &format!("{path}.remove"),
+                        format!("{target} is a driver; `remove` takes parts"),
+                        Some("to fit a different driver, use `replace` with a new model".into()),
+                    );
+                    continue;
+                }
+                Some(Target::Part(_)) => ChangeStep::Remove { target: target.clone() },
+                None => continue,
+            },
+            RawStep::Add { parts } => {
+                let mut fresh = Vec::new();
+                for p in parts {
+                    if is_new(&p.name, &added) {
+                        fresh.push(p.clone());
+                        added.push(p.clone());
+                    } else {
+                        ctx.error(
+                            p.pos,
+                            &format!("{path}.add.{}", p.name),
+                            format!("{} is already in the network", p.name),
+                            Some("new parts need new references (R9, C7, ...)".into()),
+                        );
+                    }
+                }
+                ChangeStep::Add { parts: fresh }
+            }
+            RawStep::Insert { part } => {
+                let ppath = format!("{path}.insert.{}", part.name);
+                if !is_new(&part.name, &added) {
+                    ctx.error(part.pos, &ppath, format!("{} is already in the network", part.name), Some("new parts need new references (R9, C7, ...)".into()));
+                    continue;
+                }
+                // between: [node, part]: the new part goes in series where that part meets the node.
+                let [a, b] = part.between.clone();
+                if ctx.failed.contains(&a) || ctx.failed.contains(&b) {
+                    ctx.failed.push(part.name.clone());
+                    continue;
+                }
+                let is_ref = |s: &str| !is_new(s, &added);
+                let (node, next_to) = match (is_ref(&a), is_ref(&b)) {
+                    (false, true) => (a, b),
+                    (true, false) => (b, a),
+                    _ => {
+                        ctx.error(
+                            part.pos,
+                            &format!("{ppath}.between"),
+                            "insert takes `between: [NODE, PART]`: the node and the part it goes in series with",
+                            Some("e.g. between: [IN, C1] puts the new part between node IN and C1; to connect a part between two nodes, use `add`".into()),
+                        );
+                        // Its later mentions (a compensate entry) would only repeat this.
+                        ctx.failed.push(part.name.clone());
+                        continue;
+                    }
+                };
+                let mut part = part.clone();
+                part.between = [node.clone(), next_to.clone()];
+                added.push(part.clone());
+                ChangeStep::Insert { part, node, next_to }
+            }
+        };
+        out.push(Change { number: c.number, step, pos: c.pos });
+    }
+    out
+}
+
+fn compensate(raw: Vec<RawCompensate>, net: &Network, changes: &[Change], ctx: &mut Ctx) -> Vec<CompensateEntry> {
+    let mut out = Vec::new();
+    let auto_parts: Vec<&Part> = net
+        .parts
+        .iter()
+        .chain(changes.iter().flat_map(|c| match &c.step {
+            ChangeStep::Insert { part, .. } => std::slice::from_ref(part).iter().collect::<Vec<_>>(),
+            ChangeStep::Add { parts } => parts.iter().collect(),
+            _ => Vec::new(),
+        }))
+        .collect();
+    for RawCompensate { entry, driver_pos } in raw {
+        let path = format!("compensate.{}", entry.part);
+        let replaced_auto = changes.iter().any(|c| matches!(&c.step, ChangeStep::Replace { target, with: Patch::Part(p) } if *target == entry.part && p.auto_value));
+        match auto_parts.iter().find(|p| p.name == entry.part) {
+            Some(p) if p.auto_value || replaced_auto => {}
+            Some(_) => {
+                ctx.error(
+                    entry.pos,
+                    &path,
+                    format!("{} has a fixed value; only `value: auto` parts are solved", entry.part),
+                    Some(format!("write `value: auto` for {} to have voicekeep solve it", entry.part)),
+                );
+                continue;
+            }
+            None if ctx.failed.contains(&entry.part) => continue,
+            None => {
+                let names: Vec<&str> = auto_parts.iter().map(|p| p.name.as_str()).collect();
+                let hint = suggest(&entry.part, names.iter().copied()).map(|s| format!("did you mean `{s}`?"));
+                ctx.error(entry.pos, &path, format!("there is no part {} in the network or the changes", entry.part), hint);
+                continue;
+            }
+        }
+        if net.driver(&entry.driver).is_none() {
+            // A driver that could not be read has its own message already.
+            if !ctx.failed.contains(&entry.driver) {
+                let hint = match suggest(&entry.driver, net.drivers.iter().map(|d| d.name.as_str())) {
+                    Some(s) => format!("did you mean `{s}`?"),
+                    None => format!("the network's drivers are: {}", net.drivers.iter().map(|d| d.name.as_str()).collect::<Vec<_>>().join(", ")),
+                };
+                ctx.error(driver_pos, &format!("{path}.driver"), format!("there is no driver {}", entry.driver), Some(hint));
+            }
+            ctx.failed.push(entry.part.clone());
+            continue;
+        }
+        out.push(entry);
+    }
+    // Every auto value needs its entry.
+    for p in &auto_parts {
+        if p.auto_value && !out.iter().any(|c| c.part == p.name) && !ctx.failed.contains(&p.name) {
+            ctx.error(
+                p.pos,
+                &p.name,
+                format!("{} has `value: auto` but no `compensate` entry says what to solve it for", p.name),
+                Some(match likely_driver(net, p) {
+                    Some(d) => format!("add `{}: {{ driver: {d} }}` under `compensate:` (and `band: [low, high]` to fit over a band of your choosing)", p.name),
+                    None => format!("add `{}: {{ driver: NAME }}` under `compensate:`, naming the driver whose level it sets", p.name),
+                }),
+            );
+        }
+    }
+    for c in changes {
+        if let ChangeStep::Replace { target, with: Patch::Part(p) } = &c.step {
+            if p.auto_value && !out.iter().any(|e| &e.part == target) && !ctx.failed.contains(target) {
+                ctx.error(c.pos, &format!("changes[{}]", c.number), format!("{target} is replaced with `value: auto` but has no `compensate` entry"), None);
+            }
+        }
+    }
+    out
+}
+
+/// The driver an auto part most likely serves: the one whose section (the parts joined to it
+/// without passing the amplifier's terminals) holds the part it is inserted beside, or a
+/// node it is added at.
+fn likely_driver<'n>(net: &'n Network, p: &Part) -> Option<&'n str> {
+    let inputs = [net.input[0].as_str(), net.input[1].as_str()];
+    net.drivers.iter().map(|d| d.name.as_str()).find(|d| {
+        let section = net.section(d);
+        let drv = net.driver(d).map(|x| x.between.clone()).unwrap_or_default();
+        p.between.iter().any(|n| {
+            n == d
+                || section.contains(&n.as_str())
+                || (!inputs.contains(&n.as_str()) && (drv.contains(n) || section.iter().any(|s| net.part(s).is_some_and(|q| q.between.contains(n)))))
+        })
+    })
+}
+
+/// The report's template: a built-in, or a shop's file read now (and recorded as an input),
+/// so rendering reads nothing from disk.
+fn template(raw: RawTemplate, ctx: &mut Ctx) -> Template {
+    match raw {
+        RawTemplate::Customer => Template::Customer,
+        RawTemplate::Archive => Template::Archive,
+        RawTemplate::Sale => Template::Sale,
+        RawTemplate::File { name, pos } => match ctx.files.read(&name) {
+            Ok(bytes) => {
+                let text = String::from_utf8_lossy(&bytes).into_owned();
+                ctx.inputs.push(InputFile { name: name.clone(), bytes });
+                Template::File { name, text }
+            }
+            Err(e) => {
+                ctx.error(
+                    pos,
+                    "report.template",
+                    format!("cannot read the template \"{}\": {}", e.file, e.reason),
+                    Some("a template path is relative to the job file's folder".into()),
+                );
+                Template::Customer
+            }
+        },
+    }
+}

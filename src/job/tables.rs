@@ -1,0 +1,98 @@
+//! The tables a job names (a driver's measured impedance, its acoustic response), read
+//! through the job's [`Files`](crate::files::Files): three numeric columns, comma, tab or
+//! space separated, `#` comments, an optional header line, frequencies rising.
+
+use crate::job::raw::TableRef;
+use crate::job::reader::Ctx;
+use crate::model::{ImpedanceTable, InputFile, ResponseTable};
+
+impl Ctx<'_> {
+    /// Reads a file the job names (relative to the job's folder) through the job's files, and
+    /// records it for the report.
+    pub(crate) fn read_file(&mut self, r: &TableRef) -> Option<(String, String)> {
+        match self.files.read(&r.name) {
+            Ok(bytes) => {
+                let text = String::from_utf8_lossy(&bytes).into_owned();
+                if !self.inputs.iter().any(|f| f.name == r.name) {
+                    self.inputs.push(InputFile { name: r.name.clone(), bytes });
+                }
+                Some((r.name.clone(), text))
+            }
+            Err(e) => {
+                self.error(r.pos, &r.field, format!("cannot read table file \"{}\": {}", e.file, e.reason), Some("table paths are relative to the job file's folder".into()));
+                None
+            }
+        }
+    }
+
+    /// A table of three numeric columns (comma, tab or space separated; `#` comments).
+    fn table(&mut self, r: &TableRef, min_rows: usize) -> Option<(String, [Vec<f64>; 3])> {
+        let (node, path) = (r, r.field.as_str());
+        let (name, text) = self.read_file(r)?;
+        let mut cols: [Vec<f64>; 3] = Default::default();
+        for (i, line) in text.lines().enumerate() {
+            let line = line.split('#').next().unwrap_or("").trim();
+            if line.is_empty() {
+                continue;
+            }
+            let cells: Vec<&str> = line.split(|c: char| c == ',' || c == ';' || c.is_whitespace()).filter(|s| !s.is_empty()).collect();
+            let nums: Vec<Option<f64>> = cells.iter().map(|c| c.parse::<f64>().ok().filter(|v| v.is_finite())).collect();
+            if cols[0].is_empty() && nums.iter().any(|n| n.is_none()) && nums.first().map(|n| n.is_none()).unwrap_or(false) {
+                continue; // a header line
+            }
+            if cells.len() < 3 {
+                self.error(node.pos, path, format!("{name}:{}: expected 3 columns (frequency Hz, magnitude, phase deg), found {}", i + 1, cells.len()), None);
+                return None;
+            }
+            if let Some(bad) = nums.iter().take(3).position(|n| n.is_none()) {
+                self.error(
+                    node.pos,
+                    path,
+                    format!("{name}:{}: \"{}\" is not a number", i + 1, cells[bad]),
+                    Some("a header line is allowed only before the first row of numbers".into()),
+                );
+                return None;
+            }
+            let f = nums[0].unwrap_or(0.0);
+            if let Some(&last) = cols[0].last() {
+                if f <= last {
+                    self.error(
+                        node.pos,
+                        path,
+                        format!("{name}:{}: frequency {f} Hz does not rise above the previous row's {last} Hz", i + 1),
+                        Some("sort the table by frequency, lowest first, without repeats".into()),
+                    );
+                    return None;
+                }
+            }
+            if f <= 0.0 {
+                self.error(node.pos, path, format!("{name}:{}: frequency must be above 0 Hz", i + 1), None);
+                return None;
+            }
+            for (c, n) in cols.iter_mut().zip(nums.iter()) {
+                c.push(n.unwrap_or(0.0));
+            }
+        }
+        if cols[0].len() < min_rows {
+            self.error(node.pos, path, format!("{name}: {} rows of numbers; at least {min_rows} are needed", cols[0].len()), None);
+            return None;
+        }
+        Some((name, cols))
+    }
+
+    /// A driver's measured impedance: frequency Hz, |Z| ohm (above zero), phase deg.
+    pub(crate) fn impedance_table(&mut self, r: &TableRef) -> Option<ImpedanceTable> {
+        let (file, [fr, ohm, ph]) = self.table(r, 2)?;
+        if let Some(i) = ohm.iter().position(|z| *z <= 0.0) {
+            self.error(r.pos, &r.field, format!("{file}: row {} has |Z| = {} ohm; impedance magnitudes must be above zero", i + 1, ohm[i]), None);
+            return None;
+        }
+        Some(ImpedanceTable { file, freq_hz: fr, ohm, phase_deg: ph })
+    }
+
+    /// A driver's acoustic response at 2.83 V, 1 m: frequency Hz, SPL dB, phase deg.
+    pub(crate) fn response_table(&mut self, r: &TableRef) -> Option<ResponseTable> {
+        let (file, [f, spl, ph]) = self.table(r, 2)?;
+        Some(ResponseTable { file, freq_hz: f, spl_db: spl, phase_deg: ph })
+    }
+}

@@ -1,0 +1,390 @@
+//! The validated job: the network as designed, the bench readings, the change steps, and how
+//! each scenario's network is built from them. Everything here is checked; nothing here
+//! reads files.
+
+mod driver;
+mod network;
+mod part;
+mod steps;
+
+pub use driver::*;
+pub use network::*;
+pub use part::*;
+pub use steps::*;
+
+use crate::diag::Pos;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Scenario {
+    AsDesigned,
+    AsFound,
+    AsLeft,
+}
+
+impl Scenario {
+    pub const ALL: [Scenario; 3] = [Scenario::AsDesigned, Scenario::AsFound, Scenario::AsLeft];
+
+    pub fn key(self) -> &'static str {
+        match self {
+            Scenario::AsDesigned => "as_designed",
+            Scenario::AsFound => "as_found",
+            Scenario::AsLeft => "as_left",
+        }
+    }
+
+    /// The scenario as an adjective: "the as-designed level".
+    pub fn adjective(self) -> &'static str {
+        match self {
+            Scenario::AsDesigned => "as-designed",
+            Scenario::AsFound => "as-found",
+            Scenario::AsLeft => "as-left",
+        }
+    }
+
+    pub fn label(self) -> &'static str {
+        match self {
+            Scenario::AsDesigned => "as designed",
+            Scenario::AsFound => "as found",
+            Scenario::AsLeft => "as left",
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Amplifier {
+    pub power_w: f64,
+    pub into_ohm: f64,
+    pub output_ohm: f64,
+    /// The long-term programme power into `into_ohm`, when the job gives one; otherwise
+    /// [`Amplifier::DEFAULT_PROGRAMME_FRACTION`] of `power_w`.
+    pub programme_w: Option<f64>,
+}
+
+impl Amplifier {
+    /// The programme's share of rated power when the job gives none: one eighth, the level
+    /// IEC 62368-1 uses for audio amplifiers in normal operation with pink noise (recalled
+    /// from memory, not checked against the standard's text). Noise peaks 1.8 to 4 times its
+    /// RMS, so an amplifier cannot deliver noise at its full sine power unclipped.
+    pub const DEFAULT_PROGRAMME_FRACTION: f64 = 1.0 / 8.0;
+
+    /// The sine drive level: E_rms = sqrt(power x into), the bench-tone worst case.
+    pub fn e_rms(&self) -> f64 {
+        (self.power_w * self.into_ohm).sqrt()
+    }
+
+    /// The programme's long-term power into the rated load.
+    pub fn programme_power_w(&self) -> f64 {
+        self.programme_w.unwrap_or(self.power_w * Self::DEFAULT_PROGRAMME_FRACTION)
+    }
+
+    /// The programme's RMS EMF: sqrt(programme power x into).
+    pub fn programme_e_rms(&self) -> f64 {
+        (self.programme_power_w() * self.into_ohm).sqrt()
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+pub enum ESeries {
+    E6,
+    E12,
+    E24,
+    E48,
+    E96,
+}
+
+impl ESeries {
+    pub const ALL: [ESeries; 5] = [ESeries::E6, ESeries::E12, ESeries::E24, ESeries::E48, ESeries::E96];
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompensateEntry {
+    pub part: String,
+    pub driver: String,
+    pub reference: Scenario,
+    pub band: Option<(f64, f64)>,
+    /// Where the band is written (the entry's key when it has none).
+    pub band_pos: Pos,
+    pub series: ESeries,
+    /// Hold the impedance the driver's filter sees to the reference's as well as the level
+    /// (a series and shunt pair fitted as an L-pad).
+    pub keep_impedance: bool,
+    pub pos: Pos,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Sweep {
+    Log { from: f64, to: f64, per_octave: f64 },
+    Points(Vec<f64>),
+}
+
+impl Sweep {
+    pub fn frequencies(&self) -> Vec<f64> {
+        match self {
+            Sweep::Points(p) => p.clone(),
+            Sweep::Log { from, to, per_octave } => {
+                let mut out = Vec::new();
+                let mut k = 0u32;
+                loop {
+                    let f = from * 2f64.powf(k as f64 / per_octave);
+                    if f > to * (1.0 + 1e-9) {
+                        break;
+                    }
+                    out.push(f);
+                    k += 1;
+                }
+                out
+            }
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Programme {
+    Pink,
+    IecProgramme,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Distribution {
+    Uniform,
+    Normal,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct ToleranceRuns {
+    pub runs: usize,
+    pub seed: u64,
+    pub distribution: Distribution,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Analysis {
+    pub sweep: Sweep,
+    pub programme: Programme,
+    pub tolerance: Option<ToleranceRuns>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Template {
+    Customer,
+    Archive,
+    Sale,
+    /// A shop's own template: its file name and text, read when the job was.
+    File {
+        name: String,
+        text: String,
+    },
+}
+
+impl Template {
+    /// The built-in templates' names, as the job and the command line spell them.
+    pub const NAMES: [&'static str; 3] = ["customer", "archive", "sale"];
+
+    pub fn built_in(name: &str) -> Option<Template> {
+        match name {
+            "customer" => Some(Template::Customer),
+            "archive" => Some(Template::Archive),
+            "sale" => Some(Template::Sale),
+            _ => None,
+        }
+    }
+
+    /// The built-in's name, or the shop template's file name.
+    pub fn name(&self) -> &str {
+        match self {
+            Template::Customer => "customer",
+            Template::Archive => "archive",
+            Template::Sale => "sale",
+            Template::File { name, .. } => name,
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Block {
+    Text(String),
+    Levels,
+    Parts,
+    Compensation,
+    Stress,
+    Load,
+    Tolerance,
+    Health,
+    Safety,
+    Appendix,
+    Plot(PlotKind),
+}
+
+impl Block {
+    /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
+    pub const NAMES: [&'static str; 9] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix"];
+
+    pub fn named(name: &str) -> Option<Block> {
+        Some(match name {
+            "levels" => Block::Levels,
+            "parts" => Block::Parts,
+            "compensation" => Block::Compensation,
+            "stress" => Block::Stress,
+            "load" => Block::Load,
+            "tolerance" => Block::Tolerance,
+            "health" => Block::Health,
+            "safety" => Block::Safety,
+            "appendix" => Block::Appendix,
+            _ => return None,
+        })
+    }
+
+    /// The block's name as the report data gives it to the template.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Block::Text(_) => "text",
+            Block::Plot(_) => "plot",
+            Block::Levels => "levels",
+            Block::Parts => "parts",
+            Block::Compensation => "compensation",
+            Block::Stress => "stress",
+            Block::Load => "load",
+            Block::Tolerance => "tolerance",
+            Block::Health => "health",
+            Block::Safety => "safety",
+            Block::Appendix => "appendix",
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PlotKind {
+    Response,
+    Change,
+    Impedance,
+    Phase,
+    Tolerance,
+    Acoustic,
+}
+
+impl PlotKind {
+    pub const ALL: [PlotKind; 6] = [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Phase, PlotKind::Tolerance, PlotKind::Acoustic];
+    pub fn name(self) -> &'static str {
+        match self {
+            PlotKind::Response => "response",
+            PlotKind::Change => "change",
+            PlotKind::Impedance => "impedance",
+            PlotKind::Phase => "phase",
+            PlotKind::Tolerance => "tolerance",
+            PlotKind::Acoustic => "acoustic",
+        }
+    }
+}
+
+/// A calendar date, checked when the job is read (the report's date: never the clock).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Default)]
+pub struct Date {
+    pub year: i32,
+    pub month: u8,
+    pub day: u8,
+}
+
+impl Date {
+    /// An ISO date, `2026-11-28`; None unless it is a real day of the Gregorian calendar.
+    pub fn parse_iso(t: &str) -> Option<Date> {
+        let parts: Vec<&str> = t.split('-').collect();
+        if parts.len() != 3 || parts[0].len() != 4 || parts[1].len() != 2 || parts[2].len() != 2 || !t.bytes().all(|b| b.is_ascii_digit() || b == b'-') {
+            return None;
+        }
+        let (Ok(y), Ok(m), Ok(d)) = (parts[0].parse::<i32>(), parts[1].parse::<u8>(), parts[2].parse::<u8>()) else { return None };
+        let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+        let days = [31, if leap { 29 } else { 28 }, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31];
+        ((1..=12).contains(&m) && d >= 1 && d <= days[(m - 1) as usize]).then_some(Date { year: y, month: m, day: d })
+    }
+}
+
+impl std::fmt::Display for Date {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{:04}-{:02}-{:02}", self.year, self.month, self.day)
+    }
+}
+
+impl serde::Serialize for Date {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self)
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
+pub struct JobInfo {
+    pub number: String,
+    pub date: Date,
+    pub work: String,
+    pub technician: String,
+    pub shop_name: String,
+    pub shop_address: String,
+    pub shop_contact: String,
+    pub customer_name: String,
+    pub customer_reference: String,
+    pub speaker_description: String,
+    pub serials: Vec<String>,
+    pub rated_impedance: Option<f64>,
+    /// The range over which the rated impedance is judged (IEC 60268-5 "rated frequency range").
+    pub rated_range: (f64, f64),
+    pub notes: String,
+}
+
+/// A file the job read, for the report's appendix and attachments.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InputFile {
+    pub name: String,
+    pub bytes: Vec<u8>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Job {
+    pub info: JobInfo,
+    pub amplifier: Amplifier,
+    pub network: Network,
+    pub measured: Vec<Reading>,
+    pub changes: Vec<Change>,
+    pub compensate: Vec<CompensateEntry>,
+    pub analysis: Analysis,
+    pub template: Template,
+    pub blocks: Option<Vec<Block>>,
+    /// The job file first, then every table it read, in order.
+    pub inputs: Vec<InputFile>,
+}
+
+impl Job {
+    /// The network with every bench reading applied.
+    pub fn as_found(&self) -> Network {
+        found(&self.network, &self.measured)
+    }
+
+    /// The as-found network with every change step applied; `auto` values are left as they
+    /// are (the compensation step solves them).
+    pub fn as_left_unsolved(&self) -> Result<Network, StepError> {
+        left_unsolved(&self.network, &self.measured, &self.changes)
+    }
+
+    /// The rated impedance the IEC 60268-5 rule is judged against: the speaker's, or the
+    /// amplifier's rated load when the job gives none.
+    pub fn rated_impedance_ohm(&self) -> f64 {
+        self.info.rated_impedance.unwrap_or(self.amplifier.into_ohm)
+    }
+
+    /// Where the rated impedance comes from, in words: the job, or (when the job gives none)
+    /// the amplifier's rated load, which is an assumption and is said to be one.
+    pub fn rated_impedance_basis(&self) -> String {
+        let r = crate::units::trim_number(self.rated_impedance_ohm(), 3);
+        match self.info.rated_impedance {
+            Some(_) => format!("rated impedance {r} ohm, from the job"),
+            None => format!("rated impedance not given in the job: {r} ohm assumed (the amplifier's rated load); add `rated_impedance` from the speaker's plate"),
+        }
+    }
+
+    pub fn driver_names(&self) -> Vec<&str> {
+        self.network.drivers.iter().map(|d| d.name.as_str()).collect()
+    }
+}

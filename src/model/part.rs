@@ -1,0 +1,141 @@
+//! Crossover parts: capacitors, inductors and resistors with their losses, tolerances and
+//! ratings, and the fields a bench reading or a replacement changes.
+
+use crate::diag::Pos;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PartKind {
+    Resistor,
+    Capacitor,
+    Inductor,
+}
+
+impl PartKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            PartKind::Resistor => "resistor",
+            PartKind::Capacitor => "capacitor",
+            PartKind::Inductor => "inductor",
+        }
+    }
+}
+
+/// A part's power or voltage rating as written in the job.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Rating {
+    None,
+    /// Watts for a resistor, volts for a capacitor.
+    Given(f64),
+    /// Chosen by voicekeep from the stress figures.
+    Auto,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Part {
+    pub name: String,
+    pub kind: PartKind,
+    pub between: [String; 2],
+    /// ohm, farad or henry. For an `auto` part, the value being tried or the solved value.
+    pub value: f64,
+    pub auto_value: bool,
+    /// Capacitor: constant ESR in ohm.
+    pub esr: f64,
+    /// Capacitor: constant dissipation factor; when set, ESR(f) = tan_delta / (2 pi f C).
+    pub tan_delta: Option<f64>,
+    /// Inductor: DC resistance in ohm.
+    pub dcr: f64,
+    /// Fraction (0.05 for 5 %).
+    pub tolerance: Option<f64>,
+    pub rating: Rating,
+    /// Free text: electrolytic, polypropylene film, air core ...
+    pub type_text: Option<String>,
+    pub pos: Pos,
+}
+
+impl Part {
+    /// A part with no loss, tolerance, rating or type yet.
+    pub fn new(name: &str, kind: PartKind, between: [String; 2], value: f64, pos: Pos) -> Part {
+        Part { name: name.into(), kind, between, value, auto_value: false, esr: 0.0, tan_delta: None, dcr: 0.0, tolerance: None, rating: Rating::None, type_text: None, pos }
+    }
+
+    /// The part's own loss resistance at frequency `f_hz` (a resistor's value, a capacitor's
+    /// ESR, an inductor's DCR).
+    pub fn loss_ohm(&self, f_hz: f64) -> f64 {
+        match self.kind {
+            PartKind::Resistor => self.value,
+            PartKind::Capacitor => match self.tan_delta {
+                Some(d) => d / (2.0 * std::f64::consts::PI * f_hz * self.value),
+                None => self.esr,
+            },
+            PartKind::Inductor => self.dcr,
+        }
+    }
+}
+
+/// A bench reading or a replacement's fields: only what is given changes.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PartPatch {
+    pub value: Option<f64>,
+    pub auto_value: bool,
+    pub esr: Option<f64>,
+    pub tan_delta: Option<f64>,
+    pub dcr: Option<f64>,
+    pub tolerance: Option<f64>,
+    pub rating: Option<Rating>,
+    pub type_text: Option<String>,
+    pub at_hz: Option<f64>,
+}
+
+impl PartPatch {
+    /// Applies a bench reading: only the measured fields change.
+    pub fn apply_reading(&self, p: &mut Part) {
+        if let Some(v) = self.value {
+            p.value = v;
+        }
+        if let Some(v) = self.esr {
+            p.esr = v;
+            p.tan_delta = None;
+        }
+        if let Some(v) = self.tan_delta {
+            p.tan_delta = Some(v);
+        }
+        if let Some(v) = self.dcr {
+            p.dcr = v;
+        }
+    }
+
+    /// Applies a replacement: a new part has the nominal design values, so fields left out
+    /// come from the part as designed (`designed`; the part being replaced when it was added
+    /// by a change step), never from its measured drift. A capacitor's loss belongs to the new
+    /// part (0 when not given).
+    pub fn apply_replacement(&self, p: &mut Part, designed: Option<&Part>) {
+        if let Some(d) = designed.filter(|d| d.kind == p.kind) {
+            p.value = d.value;
+            p.dcr = d.dcr;
+            p.tolerance = d.tolerance;
+            p.rating = d.rating;
+            p.type_text = d.type_text.clone();
+        }
+        if let Some(v) = self.value {
+            p.value = v;
+        }
+        p.auto_value = self.auto_value;
+        if p.kind == PartKind::Capacitor {
+            p.esr = self.esr.unwrap_or(0.0);
+            p.tan_delta = self.tan_delta;
+        }
+        if let Some(v) = self.dcr {
+            p.dcr = v;
+        }
+        if let Some(v) = self.tolerance {
+            p.tolerance = Some(v);
+        }
+        if let Some(v) = self.rating {
+            p.rating = v;
+        }
+        if let Some(v) = &self.type_text {
+            p.type_text = Some(v.clone());
+        }
+    }
+}
