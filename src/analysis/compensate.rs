@@ -653,7 +653,8 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
             if old.kind != PartKind::Capacitor {
                 continue;
             }
-            let lost = old.loss_ohm(centre) - new.loss_ohm(centre);
+            let loss = |p: &Part| ElementModel::from_part(p).loss_ohm(centre);
+            let lost = loss(old) - loss(&new);
             if lost < SMALLEST_FITTED_OHM {
                 continue;
             }

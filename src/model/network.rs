@@ -45,23 +45,20 @@ impl Network {
     /// `stop` (which are reached, not crossed). The one flood fill every connectivity
     /// question uses.
     pub fn reach<'a>(&'a self, start: &[&'a str], stop: &[&str]) -> Vec<&'a str> {
-        let mut reached: Vec<&str> = start.to_vec();
-        let mut changed = true;
-        while changed {
-            changed = false;
-            for (_, [a, b]) in self.branches() {
-                let (ra, rb) = (reached.contains(&a.as_str()), reached.contains(&b.as_str()));
-                let crosses = |n: &str| !stop.contains(&n);
-                if ra && !rb && crosses(a) {
-                    reached.push(b);
-                    changed = true;
-                } else if rb && !ra && crosses(b) {
-                    reached.push(a);
-                    changed = true;
+        let mut names: Vec<&str> = start.to_vec();
+        for (_, [a, b]) in self.branches() {
+            for n in [a, b] {
+                if !names.contains(&n.as_str()) {
+                    names.push(n);
                 }
             }
         }
-        reached
+        let index = |n: &str| names.iter().position(|m| *m == n).unwrap_or(0);
+        let edges: Vec<(usize, usize)> = self.branches().map(|(_, [a, b])| (index(a), index(b))).collect();
+        let starts: Vec<usize> = (0..start.len()).collect();
+        let stops: Vec<bool> = names.iter().map(|n| stop.contains(n)).collect();
+        let reached = flood(names.len(), &edges, &starts, &stops);
+        names.iter().zip(reached).filter(|(_, r)| *r).map(|(n, _)| *n).collect()
     }
 
     /// The parts of a driver's own section: those joined to it without passing through the
@@ -109,4 +106,29 @@ impl Network {
         }
         problems
     }
+}
+
+/// The flood fill every connectivity question uses (validation's, the sections', the
+/// engine's floating-node check): which of `n` nodes are reached from `start` along `edges`,
+/// never leaving a node marked in `stop` (stop nodes are reached, not crossed).
+pub fn flood(n: usize, edges: &[(usize, usize)], start: &[usize], stop: &[bool]) -> Vec<bool> {
+    let mut reached = vec![false; n];
+    for &s in start {
+        reached[s] = true;
+    }
+    let crosses = |k: usize| !stop.get(k).copied().unwrap_or(false);
+    let mut changed = true;
+    while changed {
+        changed = false;
+        for &(a, b) in edges {
+            if reached[a] && !reached[b] && crosses(a) {
+                reached[b] = true;
+                changed = true;
+            } else if reached[b] && !reached[a] && crosses(b) {
+                reached[a] = true;
+                changed = true;
+            }
+        }
+    }
+    reached
 }

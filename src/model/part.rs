@@ -58,19 +58,6 @@ impl Part {
     pub fn new(name: &str, kind: PartKind, between: [String; 2], value: f64, pos: Pos) -> Part {
         Part { name: name.into(), kind, between, value, auto_value: false, esr: 0.0, tan_delta: None, dcr: 0.0, tolerance: None, rating: Rating::None, type_text: None, pos }
     }
-
-    /// The part's own loss resistance at frequency `f_hz` (a resistor's value, a capacitor's
-    /// ESR, an inductor's DCR).
-    pub fn loss_ohm(&self, f_hz: f64) -> f64 {
-        match self.kind {
-            PartKind::Resistor => self.value,
-            PartKind::Capacitor => match self.tan_delta {
-                Some(d) => d / (2.0 * std::f64::consts::PI * f_hz * self.value),
-                None => self.esr,
-            },
-            PartKind::Inductor => self.dcr,
-        }
-    }
 }
 
 /// A bench reading or a replacement's fields: only what is given changes.
