@@ -119,21 +119,31 @@ pub fn wrap(text: &str, width: usize) -> String {
         }
         let indent = line.len() - line.trim_start().len();
         let cont = " ".repeat((indent + 4).min(width / 2));
-        let mut current = String::from(&line[..indent]);
-        let mut has_word = false;
+        // Words of the line being built; a unit stays with its number ("0.018 dB" is never
+        // split), so a unit that would overflow takes its number to the next line.
+        let is_unit = |w: &str| matches!(w.trim_end_matches([',', ';', ')', '.', ':']), "dB" | "ohm" | "Hz" | "kHz" | "W" | "V" | "A" | "%" | "uF" | "mH" | "mohm" | "kohm");
+        let mut words: Vec<&str> = Vec::new();
+        let mut first = true;
+        let flush = |words: &mut Vec<&str>, first: &mut bool, out: &mut String| {
+            out.push_str(if *first { &line[..indent] } else { &cont });
+            out.push_str(words.join(" ").trim_end());
+            out.push('\n');
+            words.clear();
+            *first = false;
+        };
         for word in line[indent..].split(' ') {
-            if has_word && current.chars().count() + 1 + word.chars().count() > width {
-                out.push_str(current.trim_end());
-                out.push('\n');
-                current = cont.clone();
-                has_word = false;
+            let lead = if first { indent } else { cont.len() };
+            let len = |ws: &[&str]| lead + ws.iter().map(|w| w.chars().count()).sum::<usize>() + ws.len().saturating_sub(1);
+            let mut trial = words.clone();
+            trial.push(word);
+            if !words.is_empty() && len(&trial) > width {
+                let carried = if is_unit(word) && words.len() > 1 { words.pop() } else { None };
+                flush(&mut words, &mut first, &mut out);
+                words.extend(carried);
             }
-            if has_word {
-                current.push(' ');
-            }
-            current.push_str(word);
-            has_word = true;
+            words.push(word);
         }
+        let current = format!("{}{}", if first { &line[..indent] } else { cont.as_str() }, words.join(" "));
         out.push_str(current.trim_end());
         out.push('\n');
     }
@@ -248,7 +258,14 @@ pub fn text(job: &Job, f: &Findings) -> String {
         );
     }
     let _ = writeln!(s);
-    let _ = writeln!(s, "STRESS as left ({}, {})", f.stress.amplifier, f.stress.programme_text);
+    let _ = writeln!(
+        s,
+        "STRESS as left (sine {}; programme {} at {} W into {} ohm)",
+        f.stress.amplifier,
+        f.stress.programme_text,
+        trim_number(f.stress.programme_w, 3),
+        trim_number(job.amplifier.into_ohm, 3)
+    );
     for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft) {
         let _ = writeln!(s, "  {:<8} {:<5} {}", r.part, r.verdict, r.reason);
     }

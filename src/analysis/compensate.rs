@@ -554,13 +554,6 @@ fn crossover_clause(alt: Option<f64>, plan: Option<f64>, reference: Option<f64>,
 
 fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, found: &Scene, unsolved: &Network, plan: &mut Plan) -> Result<(), SolveError> {
     // Each alternative replaces the plan's auto parts, so it starts from them at "none".
-    let mut bare = unsolved.clone();
-    for p in bare.parts.iter_mut().filter(|p| p.auto_value) {
-        p.value = match plan.fits.iter().find(|f| f.part == p.name) {
-            Some(f) if f.shunt => f64::INFINITY,
-            _ => 0.0,
-        };
-    }
     let mut drivers: Vec<String> = Vec::new();
     for f in &plan.fits {
         if !drivers.contains(&f.driver) && !f.fault {
@@ -569,6 +562,14 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
     }
     for driver in drivers {
         let fits: Vec<Fit> = plan.fits.iter().filter(|f| f.driver == driver).cloned().collect();
+        // An alternative replaces this driver's auto parts only ("none": a wire link in series,
+        // nothing as a shunt); the other drivers keep the plan's.
+        let mut bare = plan.network.clone();
+        for p in bare.parts.iter_mut() {
+            if let Some(f) = fits.iter().find(|f| f.part == p.name) {
+                p.value = if f.shunt { f64::INFINITY } else { 0.0 };
+            }
+        }
         let Some(first) = fits.first() else { continue };
         let Some(di) = job.network.drivers.iter().position(|d| d.name == driver) else { continue };
         let reference = if first.reference == Scenario::AsFound { found } else { designed };
@@ -611,7 +612,7 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
                 driver: driver.clone(),
                 parts: vec![("series".into(), rs), ("shunt".into(), rp)],
                 description: format!(
-                    "An L-pad at {driver}: {} in series and {} across the driver ({} values for {:.1} dB into about {}), in place of {plan_name}.",
+                    "An L-pad at the driver: {} in series and {} across it ({} values for {:.1} dB into about {}), in place of {plan_name}.",
                     ohm(rs),
                     ohm(rp),
                     series.name(),
@@ -632,7 +633,7 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
                     crossover_clause(j.crossover, mine.crossover, ref_x, &plan_name)
                 ),
                 why_plan: if closer {
-                    format!("The plan keeps {plan_name} as the job's changes record it, with fewer parts; the L-pad is the closer match and the technician's choice.")
+                    format!("The plan fits {plan_name} because the job's changes place it there, with fewer parts. The L-pad comes closer; the choice is the technician's.")
                 } else {
                     format!("The plan keeps {plan_name}: it matches at least as closely with fewer parts.")
                 },
@@ -641,18 +642,34 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
         // Restoring in place: each replaced capacitor of this driver's own section gets back,
         // in series, the loss it lost, as a stock value.
         let section = unsolved.section(&driver);
+        // Two parts in series: they share a node nothing else touches.
+        let in_series = |a: &str, b: &str| {
+            let (Some(pa), Some(pb)) = (plan.network.part(a), plan.network.part(b)) else { return false };
+            pa.between.iter().any(|n| pb.between.contains(n) && plan.network.branches().filter(|(_, bt)| bt.contains(n)).count() == 2)
+        };
         let centre = (first.band_hz[0] * first.band_hz[1]).sqrt();
         let mut net = bare.clone();
         let mut parts = Vec::new();
+        let mut frequency_dependent = false;
         for c in &job.changes {
             let ChangeStep::Replace { target, with: Patch::Part(_) } = &c.step else { continue };
             if !section.contains(&target.as_str()) || parts.iter().any(|(p, _): &(String, f64)| p == target) {
+                continue;
+            }
+            // A capacitor the job's changes already gave a series resistor is restored already.
+            let restored = plan
+                .network
+                .parts
+                .iter()
+                .any(|r| r.kind == PartKind::Resistor && unsolved.part(&r.name).is_some() && job.network.part(&r.name).is_none() && in_series(&r.name, target));
+            if restored {
                 continue;
             }
             let (Some(old), Some(new)) = (reference.network.part(target), net.part(target).cloned()) else { continue };
             if old.kind != PartKind::Capacitor {
                 continue;
             }
+            frequency_dependent |= old.tan_delta.is_some() || new.tan_delta.is_some();
             let loss = |p: &Part| ElementModel::from_part(p).loss_ohm(centre);
             let lost = loss(old) - loss(&new);
             if lost < SMALLEST_FITTED_OHM {
@@ -667,7 +684,11 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
             net.parts.push(new_resistor(&format!("{target}-esr"), &a, &node, stock));
             parts.push((target.clone(), stock));
         }
-        if !parts.is_empty() {
+        // Restoring in place is the plan itself when each of its resistors equals a fitted one
+        // already in series with the same capacitor.
+        let same_as_plan = parts.len() == fits.iter().filter(|f| !f.is_none()).count()
+            && parts.iter().all(|(cap, r)| fits.iter().any(|f| (f.fitted_ohm - r).abs() < 1e-9 && in_series(&f.part, cap)));
+        if !parts.is_empty() && !same_as_plan {
             let j = judge(job, &net, freqs, bands, reference, di)?;
             let n = parts.len();
             let closer = j.rms + 0.005 < mine.rms;
@@ -677,9 +698,11 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
                 driver: driver.clone(),
                 parts: parts.clone(),
                 description: format!(
-                    "Restoring in place for {driver}: {}, equal to the ESR the new part lost at {} ({} values).",
+                    "Restoring in place: {}, {} the ESR {} lost{} ({} values).",
                     parts.iter().map(|(p, r)| format!("{} in series with {p}", ohm(*r))).collect::<Vec<_>>().join(", "),
-                    crate::units::hz(Some(centre)),
+                    if n == 1 { "equal to" } else { "each equal to" },
+                    if n == 1 { "the new part" } else { "its new part" },
+                    if frequency_dependent { format!(" at {}, the band's centre (a tan δ loss changes with frequency)", crate::units::hz(Some(centre))) } else { String::new() },
                     series.name()
                 ),
                 residual_db: j.rms,
@@ -703,7 +726,7 @@ fn alternatives(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, foun
                 ),
                 why_plan: if closer {
                     format!(
-                        "The plan keeps {plan_name} as the job's changes record it: {} against {n} resistor{} to mount, for a level difference under {} dB; restoring in place is the closer match and the technician's choice.",
+                        "The plan fits {plan_name} because the job's changes place it there: {} against {n} resistor{} to mount, for a level difference under {} dB. Restoring in place comes closer; the choice is the technician's.",
                         if plan_parts.len() == 1 { "one part".to_string() } else { format!("{} parts", plan_parts.len()) },
                         if n == 1 { "" } else { "s" },
                         db3((mine.rms - j.rms).max(0.0))

@@ -1,7 +1,8 @@
 //! Part health from the bench readings: values outside tolerance (the job's, or the usual one
-//! for the part's type), parts that read open or shorted, capacitor loss above what its type
-//! allows at the frequency its makers state it, inductor DCR risen. One finding per part,
-//! with the effect of that part's whole reading on the driver it moves most.
+//! for the part's type), parts that read open or shorted, a capacitor's ESR risen or its loss
+//! above what its type allows at the frequency its makers state it, inductor DCR risen. One
+//! entry for every part read (healthy ones too), with the effect of that part's whole
+//! reading on the driver it moves most.
 
 use crate::analysis::{driver_levels, mean_over, Band, Scene};
 use crate::model::{Job, Part, PartKind, PartPatch, Patch, Rating};
@@ -10,6 +11,8 @@ use crate::units::{format_si, hz, ohm, trim_number, Quantity};
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Flag {
     pub part: String,
+    /// The reading shows nothing wrong: within tolerance and its type's limits.
+    pub ok: bool,
     /// Each thing the reading shows, as a sentence; together they are one reading.
     pub findings: Vec<String>,
     /// The findings joined, for one line of text.
@@ -161,6 +164,13 @@ fn findings(p: &Part, m: &PartPatch) -> Vec<String> {
                 )),
                 _ => None,
             };
+            // An ESR well above the design's, even inside the type's limit, is the part ageing
+            // (common practice: half as much again).
+            if let (Some(esr), None, true) = (m.esr, m.tan_delta, p.tan_delta.is_none() && p.esr > 0.0) {
+                if esr > 1.5 * p.esr {
+                    out.push(format!("its ESR has risen {:.0} % (from {} to {})", (esr / p.esr - 1.0) * 100.0, ohm(p.esr), ohm(esr)));
+                }
+            }
             // Twice the limit is flagged: a margin for the meter (common practice).
             if let Some((td, how)) = at_limit {
                 if td > 2.0 * l.tan_delta {
@@ -193,16 +203,14 @@ pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene) -> Vec<
         let Patch::Part(m) = &r.patch else { continue };
         let Some(p) = job.network.part(&r.target) else { continue };
         let found = findings(p, m);
-        if found.is_empty() {
-            continue;
-        }
+        let ok = found.is_empty();
         let (effect_db, effect_driver) = effect(job, freqs, bands, designed, &p.name, |q| m.apply_reading(q));
-        let mut message = found.join("; ");
+        let mut message = if ok { "within its tolerance and its type's limits".to_string() } else { found.join("; ") };
         if let Some(first) = message.get(..1) {
             message = first.to_uppercase() + &message[1..];
         }
         message.push('.');
-        out.push(Flag { part: p.name.clone(), findings: found, message, effect_db, effect_driver });
+        out.push(Flag { part: p.name.clone(), ok, findings: found, message, effect_db, effect_driver });
     }
     out
 }

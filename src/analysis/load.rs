@@ -32,6 +32,7 @@ pub fn rated_floor(rated_ohm: f64) -> f64 {
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Load {
+    /// The lowest |Z| and EPDR inside the rated frequency range, where they are judged.
     pub min_ohm: f64,
     pub min_at_hz: f64,
     pub epdr_min_ohm: f64,
@@ -43,6 +44,9 @@ pub struct Load {
     /// The rated impedance the 80 % rule judges against (where it comes from:
     /// `Job::rated_impedance_basis`).
     pub rated_ohm: f64,
+    /// The load dips below what many amplifiers take at high level (common practice: |Z|
+    /// under 3 ohm or EPDR under 2 ohm).
+    pub demanding: bool,
     pub verdict: String,
     pub reason: String,
 }
@@ -51,7 +55,15 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
     let mut min = (f64::INFINITY, 0.0);
     let mut emin = (f64::INFINITY, 0.0);
     let mut rmin = f64::INFINITY;
+    // The load is judged where the amplifier delivers its power: inside the rated frequency
+    // range (20 Hz to 20 kHz unless the job says otherwise), or over the whole sweep when no
+    // point of the sweep falls inside it.
+    let inside = |f: f64| f >= range.0 * (1.0 - 1e-9) && f <= range.1 * (1.0 + 1e-9);
+    let any_inside = freqs.iter().any(|f| inside(*f));
     for (f, z) in freqs.iter().zip(z) {
+        if any_inside && !inside(*f) {
+            continue;
+        }
         let m = z.norm_sqr().sqrt();
         if m < min.0 {
             min = (m, *f);
@@ -64,7 +76,7 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
                 emin = (e, *f);
             }
         }
-        if *f >= range.0 * (1.0 - 1e-9) && *f <= range.1 * (1.0 + 1e-9) && m < rmin {
+        if m < rmin {
             rmin = m;
         }
     }
@@ -91,6 +103,7 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
         rated_range_min_ohm: rmin,
         rated_floor_ohm: floor,
         rated_ohm,
+        demanding: min.0 < 3.0 || emin.0 < 2.0,
         verdict: verdict.into(),
         reason,
     }

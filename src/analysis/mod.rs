@@ -258,6 +258,11 @@ pub struct LevelRow {
     pub as_left_db: f64,
     /// The change as found -> as left, and a plain-language flag for it.
     pub found_to_left_db: f64,
+    /// As left, the largest difference from the original design at any point of the band,
+    /// and of the whole passband (which the band may not span).
+    pub as_left_worst_db: f64,
+    pub passband_hz: [f64; 2],
+    pub passband_worst_db: f64,
     pub left_flag: String,
     /// More than [`compensate::FAULT_DB`] below the original design: not a level difference
     /// but a fault (a driver shorted or disconnected).
@@ -374,6 +379,15 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
             let reference = mean_over(&scenes[0].db[i], &b.idx);
             let rel = |s: &Scene| s.driver_index(&d.name).map(|k| mean_over(&s.db[k], &b.idx) - reference).unwrap_or(0.0);
             let (found_db, left_db) = (rel(&scenes[1]), rel(&scenes[2]));
+            // The largest difference at any one point, over the band and over the whole
+            // passband (where the original plays within 6 dB of its peak): a band mean can hide
+            // a peak at the band's edge.
+            let worst_over = |idx: &[usize]| match scenes[2].driver_index(&d.name) {
+                Some(k) => idx.iter().map(|&j| scenes[2].db[k][j] - scenes[0].db[i][j]).fold(0.0, |a: f64, v| if v.abs() > a.abs() { v } else { a }),
+                None => 0.0,
+            };
+            let pass = passband(&freqs, &scenes[0].db[i]);
+            let (worst_db, passband_worst_db) = (worst_over(&b.idx), worst_over(&pass.idx));
             LevelRow {
                 driver: d.name.clone(),
                 role: d.role.name().into(),
@@ -383,6 +397,9 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
                 as_found_db: found_db,
                 as_left_db: left_db,
                 found_to_left_db: left_db - found_db,
+                as_left_worst_db: worst_db,
+                passband_hz: [pass.lo_hz, pass.hi_hz],
+                passband_worst_db,
                 left_flag: if left_db < -compensate::FAULT_DB { FAULT_FLAG.into() } else { level_flag(left_db).into() },
                 as_found_fault: found_db < -compensate::FAULT_DB,
                 as_left_fault: left_db < -compensate::FAULT_DB,

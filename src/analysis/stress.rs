@@ -15,6 +15,8 @@ pub const STOCK_WATTS: [f64; 9] = [3.0, 5.0, 10.0, 15.0, 20.0, 25.0, 50.0, 75.0,
 pub const RESISTOR_MARGIN: f64 = 2.0;
 /// A capacitor's peak voltage above this fraction of its rating is flagged (common practice).
 pub const CAPACITOR_MARGIN: f64 = 0.8;
+/// Programme dissipation in a capacitor's ESR above which it is flagged (common practice).
+pub const CAPACITOR_WATTS: f64 = 1.0;
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct StressRow {
@@ -223,6 +225,12 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                         }
                         Some(r) => ("ok", format!("peaks at {} V near {} against {} {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), a_or_an(r), trim_number(r, 3))),
                     };
+                    // A crossover capacitor should run near cool: watts in its ESR age it fast
+                    // (common practice: under 1 W on programme).
+                    if row.verdict == "ok" && prog > CAPACITOR_WATTS {
+                        row.verdict = "check";
+                        row.reason = format!("its ESR dissipates {} W on programme, enough to heat it; {}", trim_number(prog, 3), row.reason);
+                    }
                 }
                 PartKind::Inductor => {
                     row.rms_a = Some(irms.0);
@@ -246,7 +254,10 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
     let pw = amp.programme_power_w();
     let share = match amp.programme_w {
         Some(_) => "as the job gives it".to_string(),
-        None => "one eighth of the rated power, the level IEC 62368-1 uses for an audio amplifier in normal operation with pink noise (recalled from memory)".to_string(),
+        None => {
+            "one eighth of the rated power, the level IEC 62368-1 uses for an audio amplifier's normal operation (recalled from memory, not checked against the standard's text)"
+                .to_string()
+        }
     };
     let basis = format!(
         "Sine figures: a full-level sine of {} V RMS ({} W into {} ohm) at the worst frequency from {} to {}, the bench-tone worst case. Programme figures: {} at {} W into {} ohm ({} V RMS), {share}; noise peaks 1.8 to 4 times its RMS, so an amplifier cannot deliver noise at its full sine power unclipped.",

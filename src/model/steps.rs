@@ -115,7 +115,7 @@ fn apply_step(net: &mut Network, c: &Change, designed: &Network) -> Result<(), S
                 return Err(err(format!("insert: {} is already in the network; choose a new reference", part.name)));
             }
             let new_node = format!("{}~{}", part.name, node);
-            net.labels.insert(new_node.clone(), format!("{}'s far side", part.name));
+            net.labels.insert(new_node.clone(), format!("the {}-{next_to} junction", part.name));
             let target = match net.parts.iter_mut().find(|p| &p.name == next_to) {
                 Some(p) => &mut p.between,
                 None => match net.drivers.iter_mut().find(|d| &d.name == next_to) {

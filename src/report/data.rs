@@ -210,7 +210,7 @@ pub fn part_text(p: &Part) -> String {
     };
     match p.kind {
         PartKind::Capacitor => match p.tan_delta {
-            Some(d) => format!("{v}, tan d {}", trim_number(d, 3)),
+            Some(d) => format!("{v}, tan δ {}", trim_number(d, 3)),
             None => format!("{v}, ESR {}", ohm(p.esr)),
         },
         PartKind::Inductor => format!("{v}, DCR {}", ohm(p.dcr)),
@@ -274,7 +274,7 @@ fn part_place(net: &Network, part: &str) -> String {
 fn kind_noun(kind: PartKind) -> &'static str {
     match kind {
         PartKind::Capacitor => "capacitor",
-        PartKind::Inductor => "inductor (coil)",
+        PartKind::Inductor => "inductor",
         PartKind::Resistor => "resistor",
     }
 }
@@ -303,7 +303,8 @@ fn fitted_words(c: &Ctx, p: &Part) -> String {
         (None, k) => kind_noun(k).to_string(),
     };
     let rating = rating_text(c, p).map(|r| format!(" rated {r}")).unwrap_or_default();
-    format!("a {value} {kind}{rating}")
+    let spoken: f64 = value.split(' ').next().and_then(|n| n.parse().ok()).unwrap_or(1.0);
+    format!("{} {value} {kind}{rating}", crate::units::a_or_an(spoken))
 }
 
 /// `plots` are the kinds drawn for this report, in order.
@@ -410,7 +411,7 @@ fn drive(c: &Ctx) -> String {
     let a = &c.job.amplifier;
     let (p, r) = (trim_number(a.power_w, 3), trim_number(a.into_ohm, 3));
     match c.audience {
-        Audience::Archive => format!("{} (sine); programme {} W", c.f.stress.amplifier, trim_number(c.f.stress.programme_w, 3)),
+        Audience::Archive => format!("sine {}; programme {} W", c.f.stress.amplifier, trim_number(c.f.stress.programme_w, 3)),
         Audience::Customer => format!("worked out for an amplifier of {p} W into {r} ohm"),
         Audience::Sale => format!("the shop's figures assume an amplifier of {p} W into {r} ohm"),
     }
@@ -427,58 +428,74 @@ fn level_words(v: f64) -> String {
     }
 }
 
+/// A small count in words, as prose writes it: "one", "two" ... "nine", then digits.
+fn count_words(n: usize) -> String {
+    ["no", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine"].get(n).map(|w| w.to_string()).unwrap_or_else(|| n.to_string())
+}
+
 fn summary(c: &Ctx) -> Vec<String> {
     let (job, f) = (c.job, c.f);
     let net = &job.network;
+    let plain = c.audience.plain();
     let mut out = Vec::new();
     let off: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| l.as_found_db.abs() >= 0.5).collect();
     if job.measured.is_empty() {
         out.push("No parts were measured before the work, so the figures before the work are those of the original design.".into());
     } else if off.is_empty() {
-        out.push("Before the work, every driver played within 0.5 dB of the original design.".into());
+        out.push("Before the work, as worked out from the parts' readings, every driver was within 0.5 dB of the original design.".into());
     } else {
         let each: Vec<String> = off
             .iter()
             .map(|l| {
                 if l.as_found_fault {
-                    format!("{} was silent (a fault)", driver_words(net, &l.driver))
+                    format!("{} was silent, a fault", driver_words(net, &l.driver))
                 } else {
-                    format!("{} played {}", driver_words(net, &l.driver), level_words(l.as_found_db))
+                    format!("{} was {}", driver_words(net, &l.driver), level_words(l.as_found_db))
                 }
             })
             .collect();
-        out.push(format!("Before the work, {}.", join_and(&each)));
+        out.push(format!("Before the work, as worked out from the parts' readings, {}.", join_and(&each)));
     }
-    let mut flagged: Vec<&str> = f.health.iter().map(|h| h.part.as_str()).collect();
-    flagged.dedup();
+    let [ld, lf, ll] = &f.loads;
+    if lf.verdict == "over" && ll.verdict != "over" {
+        out.push(format!(
+            "As it came in, the speaker presented only {} to the amplifier at {} (the original design: {}), close to a short circuit: the amplifier that drove it should be checked.",
+            ohm(lf.min_ohm),
+            hz(Some(lf.min_at_hz)),
+            ohm(ld.min_ohm)
+        ));
+    }
+    let flagged: Vec<&str> = f.health.iter().filter(|h| !h.ok).map(|h| h.part.as_str()).collect();
     if !flagged.is_empty() {
         let words: Vec<String> = flagged
             .iter()
             .map(|p| match net.part(p) {
-                Some(part) if c.audience.plain() => format!("{p} ({} {})", part_place(net, p), kind_noun(part.kind)),
+                Some(part) if plain => format!("{p}, a {} in {}", kind_noun(part.kind), part_place(net, p)),
                 _ => p.to_string(),
             })
             .collect();
-        out.push(format!("The bench readings found {} worn or faulty part{}: {}.", flagged.len(), if flagged.len() == 1 { "" } else { "s" }, join_and(&words)));
+        let n = flagged.len();
+        out.push(format!("The bench readings found {} worn or faulty part{}: {}.", count_words(n), if n == 1 { "" } else { "s" }, join_and(&words)));
     }
     if c.audience == Audience::Archive {
-        out.push(format!("{} change step{} recorded (listed below).", job.changes.len(), if job.changes.len() == 1 { " was" } else { "s were" }));
+        let n = job.changes.len();
+        out.push(capitalise(&format!("{} change step{} {} recorded (listed below).", count_words(n), if n == 1 { "" } else { "s" }, if n == 1 { "was" } else { "were" })));
     }
     let faults: Vec<String> = f.levels.iter().filter(|l| l.as_left_fault).map(|l| driver_words(net, &l.driver)).collect();
     let fine: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| !l.as_left_fault).collect();
-    let worst = fine.iter().map(|l| l.as_left_db.abs()).fold(0.0, f64::max);
+    // The worst point over each driver's whole passband, not a band mean, which can hide a
+    // peak at the band's edge.
+    let worst = fine.iter().map(|l| l.passband_worst_db.abs()).fold(0.0, f64::max);
     if !fine.is_empty() {
         let every = if faults.is_empty() { "every driver" } else { "every other driver" };
-        let what = match crate::analysis::level_flag(worst) {
-            "within 0.5 dB" if c.audience.plain() => "a difference too small to hear".to_string(),
-            "within 0.5 dB" => "within 0.5 dB".to_string(),
-            "measurable" => "measurable, though hard to hear".to_string(),
-            other => other.to_string(),
+        let what = match (crate::analysis::level_flag(worst), plain) {
+            ("within 0.5 dB", true) => "a difference too small to hear (level changes below about 0.4 dB generally go unnoticed)".to_string(),
+            ("within 0.5 dB", false) => "within 0.5 dB; level changes below about 0.4 dB generally go unnoticed (Ballou, Handbook for Sound Engineers, 3.8.6)".to_string(),
+            ("measurable", _) => "a measurable difference, though hard to hear".to_string(),
+            (_, true) => "a difference likely to be heard".to_string(),
+            (other, false) => format!("{other}; 3 dB is double the power, not double the loudness"),
         };
-        out.push(format!(
-            "After the work, {every} plays within {:.2} dB of the original design over its working range: {what}. Level changes below about 0.4 dB generally go unnoticed (Ballou, Handbook for Sound Engineers); 3 dB is double the power, not double the loudness.",
-            worst
-        ));
+        out.push(format!("After the work, {every} is calculated to play within {worst:.2} dB of the original design at every frequency of its working range: {what}."));
     }
     if !faults.is_empty() {
         out.push(format!(
@@ -488,6 +505,14 @@ fn summary(c: &Ctx) -> Vec<String> {
         ));
     }
     out
+}
+
+fn capitalise(s: &str) -> String {
+    let mut c = s.chars();
+    match c.next() {
+        Some(first) => first.to_uppercase().collect::<String>() + c.as_str(),
+        None => String::new(),
+    }
 }
 
 fn join_and(items: &[String]) -> String {
@@ -511,7 +536,7 @@ fn work(c: &Ctx) -> Vec<String> {
             (ChangeStep::Replace { target, with: Patch::Part(_) }, true) => {
                 let (Some(old), Some(new)) = (net_found.part(target), net_left.part(target)) else { return format!("Replaced {target}.") };
                 let was = old.type_text.as_ref().map(|t| format!(" (was {})", with_article(t))).unwrap_or_default();
-                format!("Replaced {target}, the {} in {}, with {}{was}.", kind_noun(old.kind), part_place(net_left, target), fitted_words(c, new))
+                format!("Replaced {target}, a {} in {}, with {}{was}.", kind_noun(old.kind), part_place(net_left, target), fitted_words(c, new))
             }
             (ChangeStep::Replace { target, with: Patch::Part(_) }, false) => {
                 let (a, b) = (net_found.part(target), net_left.part(target));
@@ -536,7 +561,7 @@ fn work(c: &Ctx) -> Vec<String> {
             (ChangeStep::Insert { part, node, next_to }, plain) => added_line(c, ch.number, part, plain, Some((node, next_to))),
             (ChangeStep::Add { parts }, plain) => parts.iter().map(|p| added_line(c, ch.number, p, plain, None)).collect::<Vec<_>>().join(" "),
             (ChangeStep::Remove { target }, true) => match net_found.part(target) {
-                Some(p) => format!("Removed {target}, the {} in {}.", kind_noun(p.kind), part_place(net_found, target)),
+                Some(p) => format!("Removed {target}, a {} in {}.", kind_noun(p.kind), part_place(net_found, target)),
                 None => format!("Removed {target}."),
             },
             (ChangeStep::Remove { target }, false) => format!("{}. Removed {}", ch.number, target),
@@ -564,7 +589,12 @@ fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, insert: Option<(
         return format!("Fitted {}, {}, in {}{why}.", part.name, fitted_words(c, fitted), part_place(net_left, &part.name));
     }
     match insert {
-        Some((node, next_to)) => format!("{number}. Inserted {} ({}) in series between node {node} and {next_to}", part.name, part_text(fitted)),
+        Some((node, next_to)) => format!(
+            "{number}. Inserted {} ({}{}) in series between node {node} and {next_to}",
+            part.name,
+            part_text(fitted),
+            rating_text(c, fitted).map(|r| format!(", {r}")).unwrap_or_default()
+        ),
         None => format!("{number}. Added {} ({}, {} - {})", part.name, part_text(fitted), net_left.node_label(&part.between[0]), net_left.node_label(&part.between[1])),
     }
 }
@@ -584,16 +614,23 @@ fn levels(c: &Ctx) -> LevelsData {
                 let meaning = if l.as_left_fault {
                     "a fault: driver shorted or disconnected".to_string()
                 } else {
-                    match crate::analysis::level_flag(l.as_left_db) {
+                    match crate::analysis::level_flag(l.passband_worst_db) {
                         "within 0.5 dB" => "too small to hear".into(),
                         "measurable" => "measurable, hard to hear".into(),
                         other => other.into(),
                     }
                 };
-                Row(vec![driver_words(net, &l.driver), format!("{} to {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))), db(l.as_found_db), db(l.as_left_db), meaning])
+                let before = if l.as_found_fault { "silent: a fault".to_string() } else { db(l.as_found_db) };
+                Row(vec![
+                    driver_words(net, &l.driver),
+                    before,
+                    db(l.as_left_db),
+                    format!("{} ({} to {})", db(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
+                    meaning,
+                ])
             })
             .collect();
-        Table::new(&["Driver", "Range judged", "Before the work", "After the work", "What that means"], rows)
+        Table::new(&["Driver", "Before the work (average)", "After the work (average)", "After the work, largest difference", "What that means"], rows)
     } else {
         let rows = f
             .levels
@@ -607,17 +644,18 @@ fn levels(c: &Ctx) -> LevelsData {
                     db(l.as_found_db),
                     db(l.as_left_db),
                     db(l.found_to_left_db),
+                    format!("{} ({} - {})", db(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
                     l.left_flag.clone(),
                 ])
             })
             .collect();
-        Table::new(&["Driver", "Role", "Band", "As designed", "As found", "As left", "Found → left", "As left vs design"], rows)
+        Table::new(&["Driver", "Role", "Band", "As designed", "As found", "As left", "Found → left", "As left, worst in passband", "As left vs design"], rows)
     };
     let crossovers = if c.audience.plain() {
         Table::default()
     } else {
         Table::new(
-            &["Crossover", "As designed", "As found", "As left"],
+            &["Electrical crossover (driver voltages cross)", "As designed", "As found", "As left"],
             f.crossovers.iter().map(|x| Row(vec![format!("{} / {}", x.lower, x.upper), hz(x.as_designed_hz), hz(x.as_found_hz), hz(x.as_left_hz)])).collect(),
         )
     };
@@ -638,6 +676,7 @@ fn compensation(c: &Ctx) -> CompensationData {
     );
     let mut notes = Vec::new();
     if c.audience.plain() {
+        let mut explained = false;
         for fit in &f.compensation.fits {
             let who = driver_words(net, &fit.driver);
             let place = part_place(net, &fit.part);
@@ -650,13 +689,16 @@ fn compensation(c: &Ctx) -> CompensationData {
             } else {
                 let rating = rating_of(&fit.part).map(|(w, _)| format!(", rated {} W,", trim_number(w, 3))).unwrap_or_default();
                 let how = if fit.shunt { format!("across {who}") } else { format!("in {place}") };
+                let why = if explained { "" } else { ": the new parts lose less energy than the old ones did" };
+                explained = true;
                 notes.push(format!(
-                    "Without {}, {who} would have played {:.2} dB louder than designed: the new parts lose less energy than the old ones did. {}, a {} resistor{rating} {how}, brings it back to within {:.2} dB of the original.",
+                    "Without {}, {who} would have played {:.2} dB louder than designed{why}. {}, {} {} resistor{rating} {how}, brings it back to within {:.2} dB of the original at every frequency of its band.",
                     fit.part,
                     fit.excess_db.max(0.0),
                     fit.part,
+                    crate::units::a_or_an(fit.fitted_ohm),
                     ohm(fit.fitted_ohm),
-                    fit.residual_db
+                    fit.worst_db.abs()
                 ));
             }
         }
@@ -756,10 +798,22 @@ fn parts(c: &Ctx) -> Table {
                 _ if c.job.measured.iter().any(|m| m.target == *n) => "measured, kept".into(),
                 _ => "kept".into(),
             };
-            Some(Row(vec![n.to_string(), where_, t(d), t(fo), t(l), change]))
+            // A part the bench did not read is nominal as found: said so, not shown as a reading.
+            let measured = c.job.measured.iter().any(|m| m.target == *n);
+            let found_text = match (d, fo) {
+                (Some(a), Some(b)) if a == b && !measured => "not measured (nominal)".to_string(),
+                _ => t(fo),
+            };
+            let spec = l
+                .or(fo)
+                .map(|p| {
+                    [p.type_text.clone(), rating_text(c, p), p.tolerance.map(|t| format!("{} %", trim_number(t * 100.0, 3)))].into_iter().flatten().collect::<Vec<_>>().join(", ")
+                })
+                .unwrap_or_default();
+            Some(Row(vec![n.to_string(), where_, t(d), found_text, t(l), if spec.is_empty() { "-".into() } else { spec }, change]))
         })
         .collect();
-    Table::new(&["Ref", "Kind and place", "As designed", "As found", "As left", "Change"], rows)
+    Table::new(&["Ref", "Kind and place", "As designed", "As found", "As left", "As left: type, rating, tolerance", "Change"], rows)
 }
 
 fn drivers(c: &Ctx) -> Table {
@@ -800,7 +854,7 @@ fn drivers(c: &Ctx) -> Table {
 fn stress_row(r: &StressRow) -> Row {
     let figure = match (r.peak_v, r.rms_a) {
         (Some(v), _) => format!("{} V peak", trim_number(v, 3)),
-        (_, Some(a)) => format!("{} A", trim_number(a, 3)),
+        (_, Some(a)) => format!("{} A RMS", trim_number(a, 3)),
         _ => "-".into(),
     };
     let rating = r
@@ -823,7 +877,7 @@ fn stress_row(r: &StressRow) -> Row {
 
 fn stress(c: &Ctx) -> StressData {
     let f = c.f;
-    let header = ["Scenario", "Part", "Sine", "Programme", "Peak V / A", "Rating", "Verdict", "Reason"];
+    let header = ["Scenario", "Part", "Sine", "Programme", "Peak V / RMS A", "Rating", "Verdict", "Reason"];
     let drivers = f
         .stress
         .drivers
@@ -858,16 +912,20 @@ fn load(c: &Ctx) -> LoadData {
     let [ld, lf, ll] = &f.loads;
     if c.audience.plain() {
         let r = job.rated_impedance_ohm();
-        let rated = format!("{} {}", crate::units::a_or_an(r), ohm(r));
         let same = (ll.min_ohm - ld.min_ohm).abs() < 0.05 * ld.min_ohm;
-        let compare = if same { format!("as in the original design ({})", ohm(ld.min_ohm)) } else { format!("against {} in the original design", ohm(ld.min_ohm)) };
-        let verdict = match ll.verdict.as_str() {
-            "ok" => format!("a normal load for an amplifier made for {} speakers.", ohm(r)),
-            "check" => format!(
-                "it dips below what {rated} speaker should (IEC 60268-5 allows 80 % of the rated value), so use an amplifier its maker rates for loads of {} or less, or keep the volume moderate.",
-                ohm(ll.min_ohm)
-            ),
-            _ => "too low for most amplifiers: check the amplifier maker's minimum load before use.".into(),
+        let compare = if same { "about the same as in the original design".to_string() } else { format!("against {} in the original design", ohm(ld.min_ohm)) };
+        let advice = match amplifier_rating(ll.min_ohm) {
+            Some(x) => format!("an amplifier its maker rates for {} speakers or lower", ohm(x)),
+            None => "very few amplifiers".to_string(),
+        };
+        let verdict = if ll.verdict == "over" {
+            "too low for most amplifiers: check the amplifier maker's minimum load before use.".to_string()
+        } else if !ll.rated_impedance_holds {
+            format!("below the 80 % of its rated {} that IEC 60268-5 allows, so use {advice}, or keep the volume moderate.", ohm(r))
+        } else if ll.demanding {
+            format!("a demanding load at high volume; use {advice}.")
+        } else {
+            format!("a normal load for {advice}.")
         };
         let sentence = format!("The lowest impedance the speaker presents to the amplifier is {} (at {}), {compare}: {verdict}", ohm(ll.min_ohm), hz(Some(ll.min_at_hz)));
         return LoadData { basis, table: Table::default(), sentences: vec![sentence] };
@@ -944,22 +1002,28 @@ fn over_as_left(f: &Findings) -> Vec<String> {
 
 /// Cautions for this report's reader: the customer and the buyer need the amplifier, the
 /// load and listening levels; the archive keeps every caution of the bench as well.
+/// The nominal load an amplifier should be rated for to drive a speaker whose impedance
+/// falls to `min_ohm`: the highest of 8, 6, 4 and 2 ohm whose 80 % floor (IEC 60268-5) the
+/// dip stays above; None when it falls below even 2 ohm's.
+fn amplifier_rating(min_ohm: f64) -> Option<f64> {
+    [8.0, 6.0, 4.0, 2.0].into_iter().find(|r| min_ohm >= crate::analysis::load::rated_floor(*r))
+}
+
 fn safety(c: &Ctx) -> Vec<String> {
     let (job, f) = (c.job, c.f);
     let a = &job.amplifier;
     let mut s = Vec::new();
-    s.push("All figures here are computed from the job's values and models; confirm them by measurement before relying on them.".to_string());
     let over = over_as_left(f);
     if c.audience.plain() {
+        s.push("These figures are calculated from the parts' values and readings; the shop confirms them by measurement.".to_string());
         s.push(format!(
-            "Amplifier: the figures assume one of up to {} W into {} ohm. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.",
+            "Amplifier: use one of up to {} W into {} ohm, the power these figures assume. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.",
             trim_number(a.power_w, 3),
             trim_number(a.into_ohm, 3)
         ));
-        let load = &f.loads[2];
-        s.push(match load.verdict.as_str() {
-            "ok" => "Load: follow the amplifier maker's minimum load rating; the speaker's lowest impedance is given above.".to_string(),
-            _ => "Load: the speaker dips low (see the load above); make sure the amplifier's maker rates it for that low a load.".to_string(),
+        s.push(match amplifier_rating(f.loads[2].min_ohm) {
+            Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
+            None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
         });
         if !over.is_empty() {
             s.push(format!(
@@ -969,35 +1033,54 @@ fn safety(c: &Ctx) -> Vec<String> {
             ));
         }
         s.push("Listening levels: long sessions at high volume damage hearing for good; keep levels moderate and take breaks.".into());
-    } else {
-        let resistors: Vec<&StressRow> = f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.kind == "resistor" && r.programme_w > 0.0).collect();
-        if !resistors.is_empty() {
-            let hottest = resistors.iter().cloned().max_by(|a, b| a.sine_w.total_cmp(&b.sine_w));
-            s.push(format!(
-                "Crossover resistors get hot. Mount them clear of capacitors, wiring and wadding, with space for air; rate them at least twice their programme dissipation (common practice).{}",
-                hottest.map(|h| format!(" With a full-level sine near {}, {} would dissipate {} W.", hz(Some(h.sine_at_hz)), h.part, trim_number(h.sine_w, 3))).unwrap_or_default()
-            ));
-        }
-        if !over.is_empty() {
-            s.push(format!(
-                "As left, {} {} over {} rating at the stated amplifier power: keep the level down until {} replaced with a suitably rated part.",
-                join_and(&over),
-                if over.len() == 1 { "is" } else { "are" },
-                if over.len() == 1 { "its" } else { "their" },
-                if over.len() == 1 { "it is" } else { "they are" }
-            ));
-        }
-        if f.scenes[2].network.parts.iter().any(|p| p.kind == PartKind::Capacitor) {
-            s.push("Use only bipolar (non-polar) capacitors in a crossover: a polarised electrolytic fitted there can fail, overheat or vent.".into());
-        }
-        s.push(format!("The amplifier's load: {}. Follow the amplifier maker's minimum load rating.", f.loads[2].reason));
-        s.push("Disconnect the amplifier before working on the crossover, and let large capacitors in the amplifier discharge as its maker describes.".into());
-        s.push(
-            "Bench tests: start at a low level, keep test tones short, and wear hearing protection near the drivers; a tweeter driven with a full-level sine can fail in seconds."
-                .into(),
-        );
-        s.push("Soldering: work in a ventilated place, extract the fumes, and wash your hands after handling old parts and solder.".into());
+        s.push("Follow local electrical codes, the amplifier's and the speaker's makers' ratings, and qualified service practice.".into());
+        return s;
     }
+    s.push("All figures here are computed from the job's values and models; confirm them by measurement before relying on them.".to_string());
+    let as_left = |r: &&StressRow| r.scenario == Scenario::AsLeft && r.kind == "resistor" && r.programme_w > 0.0;
+    let resistors: Vec<&StressRow> = f.stress.rows.iter().filter(as_left).collect();
+    if !resistors.is_empty() {
+        s.push("Crossover resistors get hot. Mount them clear of capacitors, wiring and wadding, with space for air; rate them at least twice their programme dissipation (common practice).".into());
+        let tone: Vec<String> = resistors
+            .iter()
+            .filter(|r| r.rating_w.is_some_and(|w| r.sine_w > w))
+            .map(|r| {
+                format!(
+                    "{} ({} W near {} in {} {} W part)",
+                    r.part,
+                    trim_number(r.sine_w, 3),
+                    hz(Some(r.sine_at_hz)),
+                    crate::units::a_or_an(r.rating_w.unwrap_or(0.0)),
+                    trim_number(r.rating_w.unwrap_or(0.0), 3)
+                )
+            })
+            .collect();
+        if !tone.is_empty() {
+            s.push(format!(
+                "A full-level test tone would overheat {}: ratings chosen here cover programme, not a sustained sine, so keep bench tones low and short.",
+                join_and(&tone)
+            ));
+        }
+    }
+    if !over.is_empty() {
+        s.push(format!(
+            "As left, {} {} over {} rating at the stated amplifier power: keep the level down until {} replaced with a suitably rated part.",
+            join_and(&over),
+            if over.len() == 1 { "is" } else { "are" },
+            if over.len() == 1 { "its" } else { "their" },
+            if over.len() == 1 { "it is" } else { "they are" }
+        ));
+    }
+    if f.scenes[2].network.parts.iter().any(|p| p.kind == PartKind::Capacitor) {
+        s.push("Use only non-polarised capacitors in a crossover (film, or bipolar electrolytic): a polarised electrolytic fitted there can fail, overheat or vent.".into());
+    }
+    s.push("The amplifier's load is given in the load section above; follow the amplifier maker's minimum load rating.".into());
+    s.push("Disconnect the amplifier before working on the crossover, and let large capacitors in the amplifier discharge as its maker describes.".into());
+    s.push(
+        "Bench tests: start at a low level, keep test tones short, and wear hearing protection near the drivers; a tweeter driven with a full-level sine can fail in seconds."
+            .into(),
+    );
+    s.push("Soldering: work in a ventilated place, extract the fumes, and wash your hands after handling old parts and solder.".into());
     s.push("These notes defer to local electrical codes, to the amplifier's and drivers' makers' ratings, and to qualified service practice.".into());
     s
 }

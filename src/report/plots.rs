@@ -26,17 +26,18 @@ const LEGEND_ROW: u32 = 22;
 const NAVY: RGBColor = RGBColor(0x1f, 0x3a, 0x68);
 const BRICK: RGBColor = RGBColor(0xc0, 0x3c, 0x30);
 const GREEN: RGBColor = RGBColor(0x4c, 0xa8, 0x6c);
-const GOLD: RGBColor = RGBColor(0xd9, 0xa4, 0x00);
+const GOLD: RGBColor = RGBColor(0xe8, 0xb4, 0x00);
+const ORANGE: RGBColor = RGBColor(0xe0, 0x60, 0x3a);
 const PURPLE: RGBColor = RGBColor(0x7b, 0x4f, 0x9d);
-const REFERENCE_GREY: RGBColor = RGBColor(0x6e, 0x6e, 0x6e);
+const REFERENCE_GREY: RGBColor = RGBColor(0x99, 0x99, 0x99);
 
 /// Colours for `n` drivers in rising frequency, darkest first, so they stay apart in grey
-/// (relative luminance about 0.04, 0.15, 0.31, 0.41).
+/// (relative luminance: navy 0.04, brick 0.15, orange 0.25, green 0.31, gold 0.50).
 fn palette(n: usize) -> Vec<RGBColor> {
     match n {
         0 | 1 => vec![NAVY],
         2 => vec![NAVY, GOLD],
-        3 => vec![NAVY, BRICK, GOLD],
+        3 => vec![NAVY, ORANGE, GOLD],
         4 => vec![NAVY, BRICK, GREEN, GOLD],
         _ => [NAVY, PURPLE, BRICK, GREEN, GOLD].iter().cycle().take(n).cloned().collect(),
     }
@@ -97,10 +98,21 @@ struct Chart<'a> {
     bands: Vec<Shaded>,
     /// Extra legend entries for the shaded bands: (label, colour).
     band_labels: Vec<(String, RGBColor)>,
+    /// The y values are log10 of the quantity, labelled as the quantity (a log axis).
+    y_log: bool,
 }
 
 fn style(colour: &RGBColor) -> ShapeStyle {
     ShapeStyle::from(colour).stroke_width(2)
+}
+
+/// The design's trace is drawn last and thinner, so it shows on top of an as-left trace it
+/// coincides with instead of hiding beneath it.
+fn curve_style(c: &Curve) -> ShapeStyle {
+    match c.pattern {
+        Pattern::Long => ShapeStyle::from(&c.colour).stroke_width(1),
+        _ => style(&c.colour),
+    }
 }
 
 /// The runs of consecutive points inside the y range: a trace leaving the chart is broken
@@ -128,9 +140,9 @@ fn draw_curve<DB: DrawingBackend, CT: plotters::coord::CoordTranslate<From = (f6
 ) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
     for run in runs(&c.points, y) {
         match c.pattern {
-            Pattern::Solid => chart.draw_series(LineSeries::new(run, style(&c.colour))).map(|_| ())?,
-            Pattern::Long => chart.draw_series(DashedLineSeries::new(run, 11, 6, style(&c.colour))).map(|_| ())?,
-            Pattern::Short => chart.draw_series(DashedLineSeries::new(run, 3, 4, style(&c.colour))).map(|_| ())?,
+            Pattern::Solid => chart.draw_series(LineSeries::new(run, curve_style(c))).map(|_| ())?,
+            Pattern::Long => chart.draw_series(DashedLineSeries::new(run, 14, 6, curve_style(c))).map(|_| ())?,
+            Pattern::Short => chart.draw_series(DashedLineSeries::new(run, 6, 4, curve_style(c))).map(|_| ())?,
         }
     }
     Ok(())
@@ -169,13 +181,14 @@ fn legend(area: &DrawingArea<SVGBackend, Shift>, items: &[(String, RGBColor, Sam
         let y = 14 + (i / per_row) as i32 * LEGEND_ROW as i32;
         match sample {
             Sample::Line(pat) => {
+                let width = if *pat == Pattern::Long { 1 } else { 2 };
                 let segs: Vec<(i32, i32)> = match pat {
                     Pattern::Solid => vec![(0, SAMPLE_W)],
-                    Pattern::Long => vec![(0, 11), (17, 28), (34, SAMPLE_W)],
-                    Pattern::Short => (0..6).map(|k| (k * 7, k * 7 + 3)).collect(),
+                    Pattern::Long => vec![(0, 14), (20, 34)],
+                    Pattern::Short => (0..4).map(|k| (k * 10, k * 10 + 6)).collect(),
                 };
                 for (a, b) in segs {
-                    area.draw(&PathElement::new(vec![(x + a, y), (x + b, y)], style(colour)))?;
+                    area.draw(&PathElement::new(vec![(x + a, y), (x + b, y)], ShapeStyle::from(colour).stroke_width(width)))?;
                 }
             }
             Sample::Swatch => area.draw(&Rectangle::new([(x, y - 6), (x + SAMPLE_W, y + 6)], colour.mix(0.22).filled()))?,
@@ -194,7 +207,9 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
     let mut items: Vec<(String, RGBColor, Sample)> = Vec::new();
     for curve in &c.curves {
         if !items.iter().any(|(l, _, _)| *l == curve.label) {
-            items.push((curve.label.clone(), curve.colour, Sample::Line(curve.pattern)));
+            // A trace wholly outside the axes is named as such, not left for the reader to hunt.
+            let label = if runs(&curve.points, c.y).is_empty() { format!("{} (off scale)", curve.label) } else { curve.label.clone() };
+            items.push((label, curve.colour, Sample::Line(curve.pattern)));
         }
     }
     for (label, colour) in &c.band_labels {
@@ -205,6 +220,7 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
             items.push((r.label.clone(), REFERENCE_GREY, Sample::Reference));
         }
     }
+    let y_log = c.y_log;
     let (per_row, col_w) = legend_layout(&items);
     let legend_h = 12 + legend_rows(items.len(), per_row) * LEGEND_ROW;
     let h = CHART_H + legend_h;
@@ -226,7 +242,7 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
             .label_style((FONT, 14))
             .axis_desc_style((FONT, 15))
             .x_label_formatter(&|v| if *v >= 1000.0 { format!("{}k", crate::units::trim_number(v / 1000.0, 3)) } else { crate::units::trim_number(*v, 3) })
-            .y_label_formatter(&|v| crate::units::trim_number(*v, 3))
+            .y_label_formatter(&|v| if y_log { crate::units::trim_number(10f64.powf(*v), 2) } else { crate::units::trim_number(if v.abs() < 1e-9 { 0.0 } else { *v }, 3) })
             .light_line_style(RGBColor(0xec, 0xec, 0xec))
             .bold_line_style(RGBColor(0xd4, 0xd4, 0xd4))
             .draw()?;
@@ -238,7 +254,7 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
         for r in &c.references {
             chart.draw_series(DashedLineSeries::new(vec![(c.x.0, r.at), (c.x.1, r.at)], 1, 4, ShapeStyle::from(&REFERENCE_GREY).stroke_width(1)))?;
         }
-        for curve in &c.curves {
+        for curve in c.curves.iter().filter(|k| k.pattern != Pattern::Long).chain(c.curves.iter().filter(|k| k.pattern == Pattern::Long)) {
             draw_curve(&mut chart, curve, c.y)?;
         }
         legend(&bottom, &items, per_row, col_w)?;
@@ -284,12 +300,12 @@ pub fn all(job: &Job, f: &Findings) -> Vec<(PlotKind, String)> {
 /// What each plot shows, for its caption: the same words as its legend.
 pub fn caption(kind: PlotKind) -> &'static str {
     match kind {
-        PlotKind::Response => "Each driver's level as designed (long dashes), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
+        PlotKind::Response => "Each driver's level as designed (thin long dashes, drawn on top), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
         PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid). 0 dB is the original design.",
-        PlotKind::Impedance => "Impedance magnitude the amplifier sees as designed (long dashes), as found (short dashes) and as left (solid); the dotted grey line is 80 % of the rated impedance (IEC 60268-5).",
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
         PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
-        PlotKind::Tolerance => "As-left levels with nominal parts (lines) and the 5-95 % band from part tolerances (shaded).",
-        PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (long dashes), as found (short dashes), as left (solid).",
+        PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
+        PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
     }
 }
 
@@ -326,6 +342,7 @@ fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error
         references: vec![],
         bands: vec![],
         band_labels: vec![],
+        y_log: false,
     })
 }
 
@@ -352,6 +369,7 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
         references: vec![Reference { at: 0.0, label: String::new() }],
         bands: vec![],
         band_labels: vec![],
+        y_log: false,
     })
 }
 
@@ -369,22 +387,25 @@ fn impedance_curves(f: &Findings, what: &str, colour: RGBColor, value: impl Fn(&
 }
 
 fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves = impedance_curves(f, "|Z|", NAVY, |z| z.norm());
+    // A log axis: the dips that matter to an amplifier (a few ohms) stay readable beside the
+    // resonance peaks (tens of ohms).
+    let curves = impedance_curves(f, "|Z|", NAVY, |z| z.norm().max(1e-3).log10());
     let rated = job.rated_impedance_ohm();
     let floor = crate::analysis::load::rated_floor(rated);
-    let (_, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 1.0);
+    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.3);
     log_chart(Chart {
         title: "Input impedance magnitude at the amplifier terminals",
         y_label: "|Z| (Ω)",
         x: xr(f),
-        y: (0.0, hi.max(floor * 1.5)),
+        y: (lo.min(floor.log10() - 0.1), hi),
         curves,
         references: vec![Reference {
-            at: floor,
+            at: floor.log10(),
             label: format!("80 % of the rated {} Ω: {} Ω (IEC 60268-5)", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)),
         }],
         bands: vec![],
         band_labels: vec![],
+        y_log: true,
     })
 }
 
@@ -399,6 +420,7 @@ fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
         references: vec![Reference { at: 0.0, label: String::new() }],
         bands: vec![],
         band_labels: vec![],
+        y_log: false,
     })
 }
 
@@ -406,25 +428,40 @@ fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let t = f.tolerance.as_ref().ok_or("no tolerance runs")?;
     let colours = driver_colours(f);
     let mut bands = Vec::new();
-    let mut curves = Vec::new();
     let mut band_labels = Vec::new();
+    let mut spread: Vec<f64> = Vec::new();
     for (name, lo, hi) in &t.curves {
-        let Some(di) = f.scenes[0].driver_index(name) else { continue };
-        let colour = colours[di];
-        bands.push((t.curve_hz.iter().zip(lo.iter().zip(hi)).map(|(f, (a, b))| (*f, *a, *b)).collect(), colour));
-        band_labels.push((format!("{name} 5-95 %"), colour));
-        if let Some(k) = f.scenes[2].driver_index(name) {
-            curves.push(Curve {
-                label: format!("{name} as left, nominal"),
-                colour,
-                pattern: Pattern::Solid,
-                points: f.freqs.iter().cloned().zip(f.scenes[2].db[k].iter().cloned()).collect(),
-            });
-        }
+        let (Some(di), Some(k)) = (f.scenes[0].driver_index(name), f.scenes[2].driver_index(name)) else { continue };
+        let band = &f.bands[di];
+        // Each grid point against the nominal as-left level there, over the driver's band.
+        let pts: Vec<(f64, f64, f64)> = t
+            .curve_hz
+            .iter()
+            .zip(lo.iter().zip(hi))
+            .filter(|(hz, _)| **hz >= band.lo_hz && **hz <= band.hi_hz)
+            .filter_map(|(hz, (a, b))| {
+                let i = f.freqs.iter().position(|x| x == hz)?;
+                let nominal = f.scenes[2].db[k][i];
+                Some((*hz, a - nominal, b - nominal))
+            })
+            .collect();
+        spread.extend(pts.iter().flat_map(|p| [p.1, p.2]));
+        bands.push((pts, colours[di]));
+        band_labels.push((format!("{name} 5-95 %"), colours[di]));
     }
-    let max = peak(&curves);
-    let title = format!("Spread of driver levels from part tolerances ({} runs)", t.runs);
-    log_chart(Chart { title: &title, y_label: "level (dB)", x: xr(f), y: (max - 30.0, max + 4.0), curves, references: vec![], bands, band_labels })
+    let (lo, hi) = range(spread.into_iter(), 0.5);
+    let title = format!("Spread of as-left driver levels from part tolerances ({} runs)", t.runs);
+    log_chart(Chart {
+        title: &title,
+        y_label: "against nominal parts (dB)",
+        x: xr(f),
+        y: (lo, hi),
+        curves: vec![],
+        references: vec![Reference { at: 0.0, label: String::new() }],
+        bands,
+        band_labels,
+        y_log: false,
+    })
 }
 
 fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
@@ -444,6 +481,7 @@ fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
         references: vec![],
         bands: vec![],
         band_labels: vec![],
+        y_log: false,
     })
 }
 
