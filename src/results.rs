@@ -230,7 +230,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
     let _ = writeln!(s, "LEVELS (band mean, dB re as designed)");
     let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
     for l in &f.levels {
-        let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == "compensate" { "fit" } else { "pass" });
+        let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == crate::analysis::BandSource::Compensate { "fit" } else { "pass" });
         let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);
     }
     if !f.crossovers.is_empty() {

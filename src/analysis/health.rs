@@ -5,7 +5,7 @@
 //! reading on the driver it moves most.
 
 use crate::analysis::{driver_levels, mean_over, Band, Scene};
-use crate::model::{Job, Part, PartKind, PartPatch, Patch, Rating};
+use crate::model::{Amplifier, Part, PartKind, PartPatch, Patch, Rating, Reading};
 use crate::units::{format_si, hz, ohm, trim_number, Quantity};
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -120,12 +120,12 @@ fn gross(p: &Part, v: f64) -> Option<String> {
 
 /// The change of each driver's band level when `apply` is made to the original design; the
 /// largest, with its driver.
-fn effect(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene, part: &str, apply: impl Fn(&mut Part)) -> (f64, String) {
+fn effect(amp: &Amplifier, freqs: &[f64], bands: &[Band], designed: &Scene, part: &str, apply: impl Fn(&mut Part)) -> (f64, String) {
     let mut net = designed.network.clone();
     if let Some(p) = net.part_mut(part) {
         apply(p);
     }
-    let Ok(db) = driver_levels(&net, job, freqs) else { return (0.0, String::new()) };
+    let Ok(db) = driver_levels(&net, amp, freqs) else { return (0.0, String::new()) };
     let mut best = (0.0f64, String::new());
     for (di, d) in designed.network.drivers.iter().enumerate() {
         let m = mean_over(&db[di], &bands[di].idx) - mean_over(&designed.db[di], &bands[di].idx);
@@ -197,14 +197,15 @@ fn findings(p: &Part, m: &PartPatch) -> Vec<String> {
     out
 }
 
-pub fn flags(job: &Job, freqs: &[f64], bands: &[Band], designed: &Scene) -> Vec<Flag> {
+/// One entry per part read on the bench, judged against the design (`designed`, solved).
+pub fn flags(measured: &[Reading], amp: &Amplifier, freqs: &[f64], bands: &[Band], designed: &Scene) -> Vec<Flag> {
     let mut out = Vec::new();
-    for r in &job.measured {
+    for r in measured {
         let Patch::Part(m) = &r.patch else { continue };
-        let Some(p) = job.network.part(&r.target) else { continue };
+        let Some(p) = designed.network.part(&r.target) else { continue };
         let found = findings(p, m);
         let ok = found.is_empty();
-        let (effect_db, effect_driver) = effect(job, freqs, bands, designed, &p.name, |q| m.apply_reading(q));
+        let (effect_db, effect_driver) = effect(amp, freqs, bands, designed, &p.name, |q| m.apply_reading(q));
         let mut message = if ok { "within its tolerance and its type's limits".to_string() } else { found.join("; ") };
         if let Some(first) = message.get(..1) {
             message = first.to_uppercase() + &message[1..];

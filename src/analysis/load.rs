@@ -3,6 +3,7 @@
 
 use num_complex::Complex64;
 
+use crate::analysis::Verdict;
 use crate::units::{hz, ohm};
 
 /// EPDR for a class-B output stage driven to full swing into |Z| at phase phi:
@@ -47,7 +48,7 @@ pub struct Load {
     /// The load dips below what many amplifiers take at high level (common practice: |Z|
     /// under 3 ohm or EPDR under 2 ohm).
     pub demanding: bool,
-    pub verdict: String,
+    pub verdict: Verdict,
     pub reason: String,
 }
 
@@ -87,12 +88,12 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
     let holds = rmin >= floor;
     // Common practice: below about 3 ohm |Z| or 2 ohm EPDR many amplifiers run hot or current-limit.
     let (verdict, reason) = if min.0 < 2.0 || emin.0 < 1.5 {
-        ("over", format!("the load falls to {} (EPDR {}): too low for most amplifiers; check the amplifier maker's minimum load", ohm(min.0), ohm(emin.0)))
+        (Verdict::Over, format!("the load falls to {} (EPDR {}): too low for most amplifiers; check the amplifier maker's minimum load", ohm(min.0), ohm(emin.0)))
     } else if min.0 < 3.0 || emin.0 < 2.0 || !holds {
         let why = if holds { String::new() } else { format!("|Z| falls to {}, below 80 % of the rated {} (IEC 60268-5); ", ohm(rmin), ohm(rated_ohm)) };
-        ("check", format!("{why}minimum {} at {}, EPDR {}: hard on many amplifiers at high level", ohm(min.0), hz(Some(min.1)), ohm(emin.0)))
+        (Verdict::Check, format!("{why}minimum {} at {}, EPDR {}: hard on many amplifiers at high level", ohm(min.0), hz(Some(min.1)), ohm(emin.0)))
     } else {
-        ("ok", format!("minimum {} at {}, EPDR {} at {}: a normal load", ohm(min.0), hz(Some(min.1)), ohm(emin.0), hz(Some(emin.1))))
+        (Verdict::Ok, format!("minimum {} at {}, EPDR {} at {}: a normal load", ohm(min.0), hz(Some(min.1)), ohm(emin.0), hz(Some(emin.1))))
     };
     Load {
         min_ohm: min.0,
@@ -104,7 +105,7 @@ pub fn load(freqs: &[f64], z: &[Complex64], rated_ohm: f64, range: (f64, f64)) -
         rated_floor_ohm: floor,
         rated_ohm,
         demanding: min.0 < 3.0 || emin.0 < 2.0,
-        verdict: verdict.into(),
+        verdict,
         reason,
     }
 }

@@ -1,12 +1,11 @@
 //! Stress figures at the customer's amplifier: for every part, the dissipation in its own
 //! resistance, a capacitor's peak voltage and an inductor's current, with a full-level sine at
-//! the worst frequency of the sweep and with the programme spectrum; power into each driver;
-//! ratings chosen for `rating: auto` resistors; a verdict with its reason.
+//! the worst frequency of the stress grid and with the programme spectrum; power into each
+//! driver; ratings chosen for `rating: auto` resistors; a verdict with its reason.
 
-use crate::analysis::programme;
-use crate::analysis::Scene;
+use crate::analysis::{programme, Peaks, Scene, StressGrid, Verdict};
 use crate::engine::ElementModel;
-use crate::model::{Job, PartKind, Programme, Rating, Scenario};
+use crate::model::{Amplifier, Driver, Part, PartKind, Programme, Rating, Scenario};
 use crate::units::{a_or_an, hz, trim_number};
 
 /// Stock resistor wattages a rating is chosen from (common practice for crossover resistors).
@@ -22,7 +21,7 @@ pub const CAPACITOR_WATTS: f64 = 1.0;
 pub struct StressRow {
     pub scenario: Scenario,
     pub part: String,
-    pub kind: &'static str,
+    pub kind: PartKind,
     pub sine_w: f64,
     pub sine_at_hz: f64,
     pub programme_w: f64,
@@ -42,7 +41,7 @@ pub struct StressRow {
     pub rating_a: Option<f64>,
     /// True when voicekeep chose the rating (`rating: auto`).
     pub rating_chosen: bool,
-    pub verdict: &'static str,
+    pub verdict: Verdict,
     pub reason: String,
 }
 
@@ -55,7 +54,7 @@ pub struct DriverPower {
     pub programme_w: f64,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub rated_w: Option<f64>,
-    pub verdict: &'static str,
+    pub verdict: Verdict,
     pub reason: String,
 }
 
@@ -81,60 +80,137 @@ pub fn choose_rating(programme_w: f64) -> f64 {
     STOCK_WATTS.iter().cloned().find(|w| *w >= need).unwrap_or(STOCK_WATTS[STOCK_WATTS.len() - 1])
 }
 
-pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
-    let e = job.amplifier.e_rms();
-    let e2 = e * e;
-    let ep = job.amplifier.programme_e_rms();
-    let ep2 = ep * ep;
+/// One element's figures at the amplifier: its peaks (per volt of EMF) scaled by the sine
+/// and programme drives, each with the frequency where it occurs.
+struct Figures {
+    sine: (f64, f64),
+    programme: f64,
+    peak_v: (f64, f64),
+    rms_a: (f64, f64),
+}
+
+impl Figures {
+    fn of(pk: &Peaks, freqs: &[f64], e: f64, ep: f64) -> Figures {
+        let at = |i: usize| freqs.get(i).copied().unwrap_or(f64::NAN);
+        Figures {
+            sine: (e * e * pk.power.0, at(pk.power.1)),
+            programme: ep * ep * pk.programme,
+            peak_v: (std::f64::consts::SQRT_2 * e * pk.v2.0.sqrt(), at(pk.v2.1)),
+            rms_a: (e * pk.i2.0.sqrt(), at(pk.i2.1)),
+        }
+    }
+}
+
+fn w(v: f64) -> String {
+    trim_number(v, 3)
+}
+
+fn driver_power(s: &Scene, d: &Driver, x: &Figures) -> DriverPower {
+    let (prog, sine) = (x.programme, x.sine);
+    let (verdict, reason) = match d.rated_power {
+        Some(r) if prog > r => (Verdict::Over, format!("takes {} W of programme, above its {} W rating: limit the amplifier's level", w(prog), w(r))),
+        Some(r) if sine.0 > r => {
+            (Verdict::Check, format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", hz(Some(sine.1)), w(sine.0), w(r)))
+        }
+        Some(r) => (Verdict::Ok, format!("{} W of programme against {} {} W rating", w(prog), a_or_an(r), w(r))),
+        None => (Verdict::Ok, "no power rating on record for this driver".to_string()),
+    };
+    DriverPower { scenario: s.scenario, driver: d.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason }
+}
+
+/// A resistor's rating (the job's, or one chosen from its programme dissipation) and verdict.
+fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures) {
+    let (prog, sine) = (x.programme, x.sine);
+    let rating = match part.rating {
+        Rating::Given(v) => Some(v),
+        Rating::Auto => {
+            row.rating_chosen = true;
+            Some(choose_rating(prog))
+        }
+        Rating::None => None,
+    };
+    row.rating_w = rating;
+    (row.verdict, row.reason) = if r_ohm == 0.0 {
+        (Verdict::Ok, "not fitted: a wire link (0 ohm) in its place".to_string())
+    } else if r_ohm.is_infinite() {
+        (Verdict::Ok, "not fitted: left open".to_string())
+    } else {
+        let need = choose_rating(prog);
+        match rating {
+            None => (Verdict::Check, format!("no power rating on record: fit at least {} W (twice the programme figure, common practice)", w(need))),
+            Some(r) if prog > r => (Verdict::Over, format!("dissipates {} W on programme, above its {} W rating: fit {} {} W part", w(prog), w(r), a_or_an(need), w(need))),
+            Some(r) if RESISTOR_MARGIN * prog > r => {
+                (Verdict::Check, format!("{} W on programme leaves less than the 2x margin under its {} W rating (common practice)", w(prog), w(r)))
+            }
+            Some(r) if sine.0 > r => (
+                Verdict::Check,
+                format!("a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low", hz(Some(sine.1)), part.name, w(sine.0), a_or_an(r), w(r)),
+            ),
+            Some(r) => (Verdict::Ok, format!("{} W on programme, {} W with a full-level sine, in {} {} W part", trim_number(prog, 2), trim_number(sine.0, 2), a_or_an(r), w(r))),
+        }
+    };
+}
+
+/// A capacitor's peak voltage against its rating, and the heat in its ESR.
+fn capacitor(row: &mut StressRow, part: &Part, x: &Figures) {
+    let peak = x.peak_v;
+    row.peak_v = Some(peak.0);
+    row.peak_at_hz = Some(peak.1);
+    let rating = if let Rating::Given(v) = part.rating { Some(v) } else { None };
+    row.rating_v = rating;
+    (row.verdict, row.reason) = match rating {
+        None => (Verdict::Check, format!("peaks at {} V near {}; no voltage rating on record", w(peak.0), hz(Some(peak.1)))),
+        Some(r) if peak.0 > r => (Verdict::Over, format!("peaks at {} V near {}, above its {} V rating", w(peak.0), hz(Some(peak.1)), w(r))),
+        Some(r) if peak.0 > CAPACITOR_MARGIN * r => (Verdict::Check, format!("peaks at {} V, above 80 % of its {} V rating (common practice)", w(peak.0), w(r))),
+        Some(r) => (Verdict::Ok, format!("peaks at {} V near {} against {} {} V rating", w(peak.0), hz(Some(peak.1)), a_or_an(r), w(r))),
+    };
+    // A crossover capacitor should run near cool: watts in its ESR age it fast (common
+    // practice: under 1 W on programme).
+    if row.verdict == Verdict::Ok && x.programme > CAPACITOR_WATTS {
+        row.verdict = Verdict::Check;
+        row.reason = format!("its ESR dissipates {} W on programme, enough to heat it; {}", w(x.programme), row.reason);
+    }
+}
+
+/// An inductor's current against its rating.
+fn inductor(row: &mut StressRow, part: &Part, x: &Figures) {
+    let irms = x.rms_a;
+    row.rms_a = Some(irms.0);
+    row.rms_at_hz = Some(irms.1);
+    let rating = if let Rating::Given(a) = part.rating { Some(a) } else { None };
+    row.rating_a = rating;
+    (row.verdict, row.reason) = match rating {
+        Some(r) if irms.0 > r => (Verdict::Over, format!("carries {} A near {}, above its {} A rating", w(irms.0), hz(Some(irms.1)), w(r))),
+        Some(r) if irms.0 > CAPACITOR_MARGIN * r => (Verdict::Check, format!("carries {} A, above 80 % of its {} A rating", w(irms.0), w(r))),
+        _ => (Verdict::Ok, format!("carries up to {} A near {}; {} W in its DCR on programme", w(irms.0), hz(Some(irms.1)), trim_number(x.programme, 2))),
+    };
+}
+
+/// Every part's and driver's figures in every scene, at the sine and programme drives of
+/// `amp`, on the stress grid.
+pub fn stress(amp: &Amplifier, programme_kind: Programme, grid: &StressGrid, scenes: &[&Scene]) -> Stress {
+    let freqs = &grid.freqs;
+    let (e, ep) = (amp.e_rms(), amp.programme_e_rms());
     let mut rows = Vec::new();
     let mut drivers = Vec::new();
     for s in scenes {
         for (k, el) in s.circuit.elements.iter().enumerate() {
-            // The scene's peaks are per volt of EMF, with the programme weights of the job.
-            let pk = &s.peaks[k];
-            let sine = (e2 * pk.power.0, freqs[pk.power.1]);
-            let prog = ep2 * pk.programme;
-            let (v2max, i2max) = ((pk.v2.0, freqs[pk.v2.1]), (pk.i2.0, freqs[pk.i2.1]));
-            let peak = (std::f64::consts::SQRT_2 * e * v2max.0.sqrt(), v2max.1);
-            let irms = (e * i2max.0.sqrt(), i2max.1);
+            let Some(pk) = s.peaks.get(k) else { continue };
+            let x = Figures::of(pk, freqs, e, ep);
             if el.is_driver {
-                let d = s.network.driver(&el.name).expect("driver");
-                let (verdict, reason) = match d.rated_power {
-                    Some(r) if prog > r => {
-                        ("over", format!("takes {} W of programme, above its {} W rating: limit the amplifier's level", trim_number(prog, 3), trim_number(r, 3)))
-                    }
-                    Some(r) if sine.0 > r => (
-                        "check",
-                        format!(
-                            "a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low",
-                            hz(Some(sine.1)),
-                            trim_number(sine.0, 3),
-                            trim_number(r, 3)
-                        ),
-                    ),
-                    Some(r) => ("ok", format!("{} W of programme against {} {} W rating", trim_number(prog, 3), a_or_an(r), trim_number(r, 3))),
-                    None => ("ok", "no power rating on record for this driver".to_string()),
-                };
-                drivers.push(DriverPower {
-                    scenario: s.scenario,
-                    driver: el.name.clone(),
-                    sine_w: sine.0,
-                    sine_at_hz: sine.1,
-                    programme_w: prog,
-                    rated_w: d.rated_power,
-                    verdict,
-                    reason,
-                });
+                if let Some(d) = s.network.driver(&el.name) {
+                    drivers.push(driver_power(s, d, &x));
+                }
                 continue;
             }
-            let part = s.network.part(&el.name).expect("part");
+            let Some(part) = s.network.part(&el.name) else { continue };
             let mut row = StressRow {
                 scenario: s.scenario,
                 part: el.name.clone(),
-                kind: part.kind.name(),
-                sine_w: sine.0,
-                sine_at_hz: sine.1,
-                programme_w: prog,
+                kind: part.kind,
+                sine_w: x.sine.0,
+                sine_at_hz: x.sine.1,
+                programme_w: x.programme,
                 peak_v: None,
                 peak_at_hz: None,
                 rms_a: None,
@@ -143,114 +219,18 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
                 rating_v: None,
                 rating_a: None,
                 rating_chosen: false,
-                verdict: "ok",
+                verdict: Verdict::Ok,
                 reason: String::new(),
             };
-            match part.kind {
-                PartKind::Resistor => {
-                    let rating = match part.rating {
-                        Rating::Given(w) => Some(w),
-                        Rating::Auto => {
-                            row.rating_chosen = true;
-                            Some(choose_rating(prog))
-                        }
-                        Rating::None => None,
-                    };
-                    row.rating_w = rating;
-                    let r_ohm = match el.model {
-                        ElementModel::Resistor { r } => r,
-                        _ => f64::NAN,
-                    };
-                    (row.verdict, row.reason) = if r_ohm == 0.0 {
-                        ("ok", "not fitted: a wire link (0 ohm) in its place".to_string())
-                    } else if r_ohm.is_infinite() {
-                        ("ok", "not fitted: left open".to_string())
-                    } else {
-                        match rating {
-                            None => (
-                                "check",
-                                format!("no power rating on record: fit at least {} W (twice the programme figure, common practice)", trim_number(choose_rating(prog), 3)),
-                            ),
-                            Some(r) if prog > r => (
-                                "over",
-                                format!(
-                                    "dissipates {} W on programme, above its {} W rating: fit {} {} W part",
-                                    trim_number(prog, 3),
-                                    trim_number(r, 3),
-                                    a_or_an(choose_rating(prog)),
-                                    trim_number(choose_rating(prog), 3)
-                                ),
-                            ),
-                            Some(r) if RESISTOR_MARGIN * prog > r => (
-                                "check",
-                                format!("{} W on programme leaves less than the 2x margin under its {} W rating (common practice)", trim_number(prog, 3), trim_number(r, 3)),
-                            ),
-                            Some(r) if sine.0 > r => (
-                                "check",
-                                format!(
-                                    "a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low",
-                                    hz(Some(sine.1)),
-                                    el.name,
-                                    trim_number(sine.0, 3),
-                                    a_or_an(r),
-                                    trim_number(r, 3)
-                                ),
-                            ),
-                            Some(r) => (
-                                "ok",
-                                format!(
-                                    "{} W on programme, {} W with a full-level sine, in {} {} W part",
-                                    trim_number(prog, 2),
-                                    trim_number(sine.0, 2),
-                                    a_or_an(r),
-                                    trim_number(r, 3)
-                                ),
-                            ),
-                        }
-                    };
-                }
-                PartKind::Capacitor => {
-                    row.peak_v = Some(peak.0);
-                    row.peak_at_hz = Some(peak.1);
-                    let rating = match part.rating {
-                        Rating::Given(v) => Some(v),
-                        _ => None,
-                    };
-                    row.rating_v = rating;
-                    (row.verdict, row.reason) = match rating {
-                        None => ("check", format!("peaks at {} V near {}; no voltage rating on record", trim_number(peak.0, 3), hz(Some(peak.1)))),
-                        Some(r) if peak.0 > r => ("over", format!("peaks at {} V near {}, above its {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), trim_number(r, 3))),
-                        Some(r) if peak.0 > CAPACITOR_MARGIN * r => {
-                            ("check", format!("peaks at {} V, above 80 % of its {} V rating (common practice)", trim_number(peak.0, 3), trim_number(r, 3)))
-                        }
-                        Some(r) => ("ok", format!("peaks at {} V near {} against {} {} V rating", trim_number(peak.0, 3), hz(Some(peak.1)), a_or_an(r), trim_number(r, 3))),
-                    };
-                    // A crossover capacitor should run near cool: watts in its ESR age it fast
-                    // (common practice: under 1 W on programme).
-                    if row.verdict == "ok" && prog > CAPACITOR_WATTS {
-                        row.verdict = "check";
-                        row.reason = format!("its ESR dissipates {} W on programme, enough to heat it; {}", trim_number(prog, 3), row.reason);
-                    }
-                }
-                PartKind::Inductor => {
-                    row.rms_a = Some(irms.0);
-                    row.rms_at_hz = Some(irms.1);
-                    let rating = match part.rating {
-                        Rating::Given(a) => Some(a),
-                        _ => None,
-                    };
-                    row.rating_a = rating;
-                    (row.verdict, row.reason) = match rating {
-                        Some(r) if irms.0 > r => ("over", format!("carries {} A near {}, above its {} A rating", trim_number(irms.0, 3), hz(Some(irms.1)), trim_number(r, 3))),
-                        Some(r) if irms.0 > CAPACITOR_MARGIN * r => ("check", format!("carries {} A, above 80 % of its {} A rating", trim_number(irms.0, 3), trim_number(r, 3))),
-                        _ => ("ok", format!("carries up to {} A near {}; {} W in its DCR on programme", trim_number(irms.0, 3), hz(Some(irms.1)), trim_number(prog, 2))),
-                    };
-                }
+            match (part.kind, &el.model) {
+                (PartKind::Resistor, ElementModel::Resistor { r }) => resistor(&mut row, part, *r, &x),
+                (PartKind::Resistor, _) => resistor(&mut row, part, part.value, &x),
+                (PartKind::Capacitor, _) => capacitor(&mut row, part, &x),
+                (PartKind::Inductor, _) => inductor(&mut row, part, &x),
             }
             rows.push(row);
         }
     }
-    let amp = &job.amplifier;
     let pw = amp.programme_power_w();
     let share = match amp.programme_w {
         Some(_) => "as the job gives it".to_string(),
@@ -261,23 +241,23 @@ pub fn stress(job: &Job, freqs: &[f64], scenes: &[Scene; 3]) -> Stress {
     };
     let basis = format!(
         "Sine figures: a full-level sine of {} V RMS ({} W into {} ohm) at the worst frequency from {} to {}, the bench-tone worst case. Programme figures: {} at {} W into {} ohm ({} V RMS), {share}; noise peaks 1.8 to 4 times its RMS, so an amplifier cannot deliver noise at its full sine power unclipped.",
-        trim_number(e, 3),
-        trim_number(amp.power_w, 3),
-        trim_number(amp.into_ohm, 3),
+        w(e),
+        w(amp.power_w),
+        w(amp.into_ohm),
         hz(freqs.first().copied()),
         hz(freqs.last().copied()),
-        programme::describe(job.analysis.programme),
-        trim_number(pw, 3),
-        trim_number(amp.into_ohm, 3),
-        trim_number(ep, 3),
+        programme::describe(programme_kind),
+        w(pw),
+        w(amp.into_ohm),
+        w(ep),
     );
     Stress {
         e_rms: e,
         programme_e_rms: ep,
         programme_w: pw,
-        amplifier: format!("{} W into {} ohm ({} V RMS)", trim_number(amp.power_w, 3), trim_number(amp.into_ohm, 3), trim_number(e, 3)),
-        programme: job.analysis.programme,
-        programme_text: programme::describe(job.analysis.programme),
+        amplifier: format!("{} W into {} ohm ({} V RMS)", w(amp.power_w), w(amp.into_ohm), w(e)),
+        programme: programme_kind,
+        programme_text: programme::describe(programme_kind),
         basis,
         rows,
         drivers,
@@ -290,6 +270,8 @@ mod tests {
 
     #[test]
     fn rating_is_at_least_twice_the_programme_figure() {
+        // Stock wattages (common practice) with a 2x margin: 0.4 W needs 0.8 W -> 3 W; 5 W
+        // needs exactly 10 W -> 10 W; 5.01 W needs 10.02 W -> 15 W.
         assert_eq!(choose_rating(0.4), 3.0);
         assert_eq!(choose_rating(1.6), 5.0);
         assert_eq!(choose_rating(2.6), 10.0);

@@ -7,9 +7,13 @@
 use num_complex::Complex64;
 use rayon::prelude::*;
 
-use crate::analysis::{Band, Scene};
+use rand::Rng;
+use rand_distr::{Distribution as _, StandardNormal};
+use rand_pcg::Pcg64;
+
+use crate::analysis::{Band, Progress, Scene, Scenes};
 use crate::engine::{self, Circuit, ElementModel, Sweeper};
-use crate::model::{Distribution, Job, Scenario, ToleranceRuns};
+use crate::model::{Distribution, Scenario, ToleranceRuns};
 
 /// At most this many sweep points take part in the Monte Carlo.
 pub const MAX_POINTS: usize = 200;
@@ -43,40 +47,23 @@ pub struct Spread {
     pub curves: Vec<(String, Vec<f64>, Vec<f64>)>,
 }
 
-/// SplitMix64: small, fast and good enough for tolerance draws.
-pub struct Rng(u64);
-
-impl Rng {
-    pub fn new(seed: u64, stream: u64) -> Self {
-        let mut r = Rng(seed ^ stream.wrapping_mul(0x9E37_79B9_7F4A_7C15));
-        r.next_u64();
-        r
-    }
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    /// Uniform in [0, 1).
-    pub fn uniform(&mut self) -> f64 {
-        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    /// Standard normal (Box-Muller).
-    pub fn normal(&mut self) -> f64 {
-        let u1 = self.uniform().max(1e-300);
-        let u2 = self.uniform();
-        (-2.0 * u1.ln()).sqrt() * (std::f64::consts::TAU * u2).cos()
-    }
+/// The generator of one part's draws in one run: PCG (rand_pcg's Pcg64, whose output its
+/// makers document as reproducible across platforms and releases), its state from the job's
+/// seed and the part's name, its stream the run's number. So a part keeps its draw across
+/// scenarios, and no result depends on how many threads share the runs.
+fn generator(seed: u64, part: u64, run: usize) -> Pcg64 {
+    Pcg64::new(((seed as u128) << 64) | part as u128, run as u128)
 }
 
 /// The relative deviation of one part: uniform over +-t, or normal with the tolerance taken as
 /// two standard deviations (our choice: about 95 % of parts inside their marked tolerance).
-fn draw(rng: &mut Rng, t: f64, dist: Distribution) -> f64 {
+fn draw(rng: &mut Pcg64, t: f64, dist: Distribution) -> f64 {
     match dist {
-        Distribution::Uniform => (2.0 * rng.uniform() - 1.0) * t,
-        Distribution::Normal => rng.normal() * t / 2.0,
+        Distribution::Uniform => (2.0 * rng.random::<f64>() - 1.0) * t,
+        Distribution::Normal => {
+            let z: f64 = StandardNormal.sample(rng);
+            z * t / 2.0
+        }
     }
 }
 
@@ -176,7 +163,7 @@ fn quantile(values: &[f64], p: f64, map: impl Fn(f64) -> f64) -> f64 {
     }
 }
 
-pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &[Scene; 3]) -> Spread {
+pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Scene>, progress: &dyn Progress) -> Spread {
     // A subset of the sweep, evenly spread in index (so in log frequency for a log sweep).
     let step = freqs.len().div_ceil(MAX_POINTS).max(1);
     let pick: Vec<usize> = (0..freqs.len()).step_by(step).collect();
@@ -193,16 +180,16 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
             }
         })
         .collect();
-    let driver_names: Vec<&str> = job.network.drivers.iter().map(|d| d.name.as_str()).collect();
+    let driver_names: Vec<&str> = scenes.as_designed.network.drivers.iter().map(|d| d.name.as_str()).collect();
     let tol_of = |s: &Scene, k: usize| s.network.part(&s.circuit.elements[k].name).and_then(|p| p.tolerance);
     // Every spread is relative to the original design with nominal parts.
     let reference: Vec<f64> = {
-        let c = &scenes[0].circuit;
+        let c = &scenes.as_designed.circuit;
         let mut ws = Sweeper::new(c);
         let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
         band_levels(c, &mut ws, &Basis::new(c, &grid), &ds, &grid_bands, &vec![1.0; c.elements.len()], None)
     };
-    let progress = progress_bar(t.runs as u64 * 3);
+    progress.start("tolerance runs", t.runs as u64 * 3);
     let mut levels = Vec::new();
     let mut curves = Vec::new();
     let per_run = driver_names.len() * grid.len();
@@ -211,7 +198,7 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
         let basis = Basis::new(c, &grid);
         let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
         // Parts share their draw across scenarios through their name.
-        let streams: Vec<Option<(u64, f64)>> = (0..c.elements.len()).map(|k| tol_of(s, k).map(|tol| (t.seed ^ hash(&c.elements[k].name), tol))).collect();
+        let streams: Vec<Option<(u64, f64)>> = (0..c.elements.len()).map(|k| tol_of(s, k).map(|tol| (hash(&c.elements[k].name), tol))).collect();
         let keep = s.scenario == Scenario::AsLeft;
         let mut kept = if keep { vec![0.0; t.runs * per_run] } else { Vec::new() };
         let mut means = vec![0.0; t.runs * ds.len()];
@@ -219,14 +206,12 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
             let factors: Vec<f64> = streams
                 .iter()
                 .map(|st| match st {
-                    Some((stream, tol)) => 1.0 + draw(&mut Rng::new(*stream, run as u64), *tol, t.distribution),
+                    Some((part, tol)) => 1.0 + draw(&mut generator(t.seed, *part, run), *tol, t.distribution),
                     None => 1.0,
                 })
                 .collect();
             mean.copy_from_slice(&band_levels(c, ws, &basis, &ds, &grid_bands, &factors, curve));
-            if let Some(p) = &progress {
-                p.inc(1);
-            }
+            progress.advance(1);
         };
         if keep {
             means.par_chunks_mut(ds.len()).zip(kept.par_chunks_mut(per_run)).enumerate().for_each_init(|| Sweeper::new(c), |ws, (run, (m, k))| work(ws, run, m, Some(k)));
@@ -252,11 +237,9 @@ pub fn run(job: &Job, t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: 
             }
         }
     }
-    if let Some(p) = progress {
-        p.finish_and_clear();
-    }
+    progress.finish();
     // Sensitivity in the as-left network: central difference of +-1 % in each part's value.
-    let s = &scenes[2];
+    let s = &scenes.as_left;
     let c = &s.circuit;
     let basis = Basis::new(c, &grid);
     let mut ws = Sweeper::new(c);
@@ -284,30 +267,23 @@ fn hash(s: &str) -> u64 {
     s.bytes().fold(0xcbf2_9ce4_8422_2325u64, |h, b| (h ^ b as u64).wrapping_mul(0x0100_0000_01b3))
 }
 
-/// A progress bar on a terminal for long runs (hidden when stderr is not a terminal).
-fn progress_bar(total: u64) -> Option<indicatif::ProgressBar> {
-    use std::io::IsTerminal;
-    if !std::io::stderr().is_terminal() || total < 3000 {
-        return None;
-    }
-    let p = indicatif::ProgressBar::new(total);
-    p.set_style(indicatif::ProgressStyle::with_template("tolerance runs {bar:40} {pos}/{len} {eta}").unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()));
-    Some(p)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
     fn draws_have_the_moments_of_their_distributions() {
-        // Uniform on [0, 1): mean 1/2; standard normal: variance 1.
-        let mut r = Rng::new(3, 0);
+        // Uniform over +-t: mean 0, variance t^2 / 3; normal with t as two sigma: variance
+        // t^2 / 4 (the definitions of the two distributions).
         let n = 100_000;
-        let mean = (0..n).map(|_| r.uniform()).sum::<f64>() / n as f64;
-        assert!((mean - 0.5).abs() < 0.005);
-        let mut r = Rng::new(3, 1);
-        let var = (0..n).map(|_| r.normal().powi(2)).sum::<f64>() / n as f64;
-        assert!((var - 1.0).abs() < 0.02);
+        let (t, name) = (0.1, hash("C1"));
+        let uni: Vec<f64> = (0..n).map(|run| draw(&mut generator(3, name, run), t, Distribution::Uniform)).collect();
+        let mean = uni.iter().sum::<f64>() / n as f64;
+        let var = uni.iter().map(|x| x * x).sum::<f64>() / n as f64;
+        assert!(mean.abs() < 0.001 && (var / (t * t / 3.0) - 1.0).abs() < 0.02, "{mean} {var}");
+        assert!(uni.iter().all(|x| x.abs() <= t));
+        let nor: Vec<f64> = (0..n).map(|run| draw(&mut generator(3, name, run), t, Distribution::Normal)).collect();
+        let var = nor.iter().map(|x| x * x).sum::<f64>() / n as f64;
+        assert!((var / (t * t / 4.0) - 1.0).abs() < 0.02, "{var}");
     }
 }

@@ -149,8 +149,42 @@ fn load(path: &Path) -> Result<Job, u8> {
     })
 }
 
+/// A progress bar on the terminal for long runs (the Monte Carlo), drawn at the edge: the
+/// library only reports progress.
+struct Bar(std::sync::Mutex<Option<indicatif::ProgressBar>>);
+
+impl analysis::Progress for Bar {
+    fn start(&self, what: &str, total: u64) {
+        use std::io::IsTerminal;
+        if !std::io::stderr().is_terminal() || total < 3000 {
+            return;
+        }
+        let p = indicatif::ProgressBar::new(total);
+        p.set_style(indicatif::ProgressStyle::with_template(&format!("{what} {{bar:40}} {{pos}}/{{len}} {{eta}}")).unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()));
+        if let Ok(mut slot) = self.0.lock() {
+            *slot = Some(p);
+        }
+    }
+
+    fn advance(&self, steps: u64) {
+        if let Ok(slot) = self.0.lock() {
+            if let Some(p) = slot.as_ref() {
+                p.inc(steps);
+            }
+        }
+    }
+
+    fn finish(&self) {
+        if let Ok(mut slot) = self.0.lock() {
+            if let Some(p) = slot.take() {
+                p.finish_and_clear();
+            }
+        }
+    }
+}
+
 fn analyse(path: &Path, job: &Job) -> Result<analysis::Findings, u8> {
-    analysis::analyse(job).map_err(|e| {
+    analysis::analyse_with(job, &Bar(std::sync::Mutex::new(None))).map_err(|e| {
         eprintln!("{}: the network cannot be solved: {e}", path.display());
         eprintln!("  hint: check the `between` nodes of the parts named; a part of 0 ohm across the input shorts the amplifier");
         PROBLEMS

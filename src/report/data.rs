@@ -456,8 +456,8 @@ fn summary(c: &Ctx) -> Vec<String> {
             .collect();
         out.push(format!("Before the work, as worked out from the parts' readings, {}.", join_and(&each)));
     }
-    let [ld, lf, ll] = &f.loads;
-    if lf.verdict == "over" && ll.verdict != "over" {
+    let (ld, lf, ll) = (&f.loads.as_designed, &f.loads.as_found, &f.loads.as_left);
+    if lf.verdict == crate::analysis::Verdict::Over && ll.verdict != crate::analysis::Verdict::Over {
         out.push(format!(
             "As it came in, the speaker presented only {} to the amplifier at {} (the original design: {}), close to a short circuit: the amplifier that drove it should be checked.",
             ohm(lf.min_ohm),
@@ -527,7 +527,7 @@ fn join_and(items: &[String]) -> String {
 /// The work done, one line per change step: for the customer what was fitted, its type and
 /// rating; for the archive the values before and after.
 fn work(c: &Ctx) -> Vec<String> {
-    let [_, found, left] = &c.f.scenes;
+    let (found, left) = (&c.f.scenes.as_found, &c.f.scenes.as_left);
     let (net_found, net_left) = (&found.network, &left.network);
     c.job
         .changes
@@ -578,7 +578,7 @@ fn with_article(t: &str) -> String {
 }
 
 fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, insert: Option<(&String, &String)>) -> String {
-    let net_left = &c.f.scenes[2].network;
+    let net_left = &c.f.scenes.as_left.network;
     let fitted = net_left.part(&part.name).unwrap_or(part);
     let fit = c.f.compensation.fits.iter().find(|f| f.part == part.name);
     if plain {
@@ -668,7 +668,7 @@ fn sweep_text(f: &Findings) -> String {
 
 fn compensation(c: &Ctx) -> CompensationData {
     let f = c.f;
-    let net = &f.scenes[2].network;
+    let net = &f.scenes.as_left.network;
     let rating_of = |part: &str| f.stress.rows.iter().find(|r| r.scenario == Scenario::AsLeft && r.part == part).and_then(|r| r.rating_w.map(|w| (w, r.rating_chosen)));
     let basis = format!(
         "least-squares level match in dB over each band against the reference scenario, rounded to the named IEC 60063 series (nearest in the geometric sense); ratings at least twice the programme dissipation at {} W (common practice)",
@@ -767,7 +767,7 @@ fn compensation(c: &Ctx) -> CompensationData {
 
 fn parts(c: &Ctx) -> Table {
     let f = c.f;
-    let [designed, found, left] = &f.scenes;
+    let (designed, found, left) = (&f.scenes.as_designed, &f.scenes.as_found, &f.scenes.as_left);
     // Every part in any scenario, in the order first seen.
     let mut names: Vec<&str> = Vec::new();
     for s in &f.scenes {
@@ -818,36 +818,38 @@ fn parts(c: &Ctx) -> Table {
 
 fn drivers(c: &Ctx) -> Table {
     use crate::model::{DriverModel, VoiceCoilInductance};
-    let rows = c.f.scenes[2]
-        .network
-        .drivers
-        .iter()
-        .map(|d| {
-            let model = match &d.model {
-                DriverModel::Resistance(r) => format!("resistance {}", ohm(*r)),
-                DriverModel::VoiceCoil { re, inductance, resonance } => {
-                    let mut s = format!("Re {}", ohm(*re));
-                    match inductance {
-                        VoiceCoilInductance::Simple(le) => s.push_str(&format!(", Le {}", format_si(*le, Quantity::Inductance, 3))),
-                        VoiceCoilInductance::Leach { k, n } => s.push_str(&format!(", Leach K {} n {}", trim_number(*k, 3), trim_number(*n, 3))),
-                        VoiceCoilInductance::None => {}
+    let rows =
+        c.f.scenes
+            .as_left
+            .network
+            .drivers
+            .iter()
+            .map(|d| {
+                let model = match &d.model {
+                    DriverModel::Resistance(r) => format!("resistance {}", ohm(*r)),
+                    DriverModel::VoiceCoil { re, inductance, resonance } => {
+                        let mut s = format!("Re {}", ohm(*re));
+                        match inductance {
+                            VoiceCoilInductance::Simple(le) => s.push_str(&format!(", Le {}", format_si(*le, Quantity::Inductance, 3))),
+                            VoiceCoilInductance::Leach { k, n } => s.push_str(&format!(", Leach K {} n {}", trim_number(*k, 3), trim_number(*n, 3))),
+                            VoiceCoilInductance::None => {}
+                        }
+                        if let Some(r) = resonance {
+                            s.push_str(&format!(", fs {}, Qms {}, Qes {}", format_si(r.fs, Quantity::Frequency, 3), trim_number(r.qms, 3), trim_number(r.qes, 3)));
+                        }
+                        s
                     }
-                    if let Some(r) = resonance {
-                        s.push_str(&format!(", fs {}, Qms {}, Qes {}", format_si(r.fs, Quantity::Frequency, 3), trim_number(r.qms, 3), trim_number(r.qes, 3)));
-                    }
-                    s
-                }
-                DriverModel::Table(t) => format!("measured table {}", t.file),
-            };
-            Row(vec![
-                d.name.clone(),
-                d.role.name().into(),
-                model,
-                d.rated_power.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
-                if d.inverted { "inverted".into() } else { "normal".into() },
-            ])
-        })
-        .collect();
+                    DriverModel::Table(t) => format!("measured table {}", t.file),
+                };
+                Row(vec![
+                    d.name.clone(),
+                    d.role.name().into(),
+                    model,
+                    d.rated_power.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
+                    if d.inverted { "inverted".into() } else { "normal".into() },
+                ])
+            })
+            .collect();
     Table::new(&["Driver", "Role", "Model as left", "Rated power", "Polarity"], rows)
 }
 
@@ -870,7 +872,7 @@ fn stress_row(r: &StressRow) -> Row {
         format!("{} W", trim_number(r.programme_w, 3)),
         figure,
         rating,
-        r.verdict.into(),
+        r.verdict.name().into(),
         r.reason.clone(),
     ])
 }
@@ -889,7 +891,7 @@ fn stress(c: &Ctx) -> StressData {
                 format!("{} W", trim_number(d.programme_w, 3)),
                 format!("{} W near {}", trim_number(d.sine_w, 3), hz(Some(d.sine_at_hz))),
                 d.rated_w.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
-                d.verdict.into(),
+                d.verdict.name().into(),
                 d.reason.clone(),
             ])
         })
@@ -909,7 +911,7 @@ fn load(c: &Ctx) -> LoadData {
         sweep_text(f),
         job.rated_impedance_basis()
     );
-    let [ld, lf, ll] = &f.loads;
+    let (ld, lf, ll) = (&f.loads.as_designed, &f.loads.as_found, &f.loads.as_left);
     if c.audience.plain() {
         let r = job.rated_impedance_ohm();
         let same = (ll.min_ohm - ld.min_ohm).abs() < 0.05 * ld.min_ohm;
@@ -918,7 +920,7 @@ fn load(c: &Ctx) -> LoadData {
             Some(x) => format!("an amplifier its maker rates for {} speakers or lower", ohm(x)),
             None => "very few amplifiers".to_string(),
         };
-        let verdict = if ll.verdict == "over" {
+        let verdict = if ll.verdict == crate::analysis::Verdict::Over {
             "too low for most amplifiers: check the amplifier maker's minimum load before use.".to_string()
         } else if !ll.rated_impedance_holds {
             format!("below the 80 % of its rated {} that IEC 60268-5 allows, so use {advice}, or keep the volume moderate.", ohm(r))
@@ -939,7 +941,7 @@ fn load(c: &Ctx) -> LoadData {
                 format!("{} at {}", ohm(l.min_ohm), hz(Some(l.min_at_hz))),
                 format!("{} at {}", ohm(l.epdr_min_ohm), hz(Some(l.epdr_at_hz))),
                 if l.rated_impedance_holds { "holds".into() } else { "fails".into() },
-                l.verdict.clone(),
+                l.verdict.name().into(),
             ])
         })
         .collect();
@@ -995,8 +997,8 @@ fn tolerance(c: &Ctx) -> Option<ToleranceData> {
 
 /// The parts and drivers over their rating as left, by name.
 fn over_as_left(f: &Findings) -> Vec<String> {
-    let parts = f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.verdict == "over").map(|r| r.part.clone());
-    let drivers = f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft && d.verdict == "over").map(|d| d.driver.clone());
+    let parts = f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.verdict == crate::analysis::Verdict::Over).map(|r| r.part.clone());
+    let drivers = f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft && d.verdict == crate::analysis::Verdict::Over).map(|d| d.driver.clone());
     parts.chain(drivers).collect()
 }
 
@@ -1021,7 +1023,7 @@ fn safety(c: &Ctx) -> Vec<String> {
             trim_number(a.power_w, 3),
             trim_number(a.into_ohm, 3)
         ));
-        s.push(match amplifier_rating(f.loads[2].min_ohm) {
+        s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
             Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
             None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
         });
@@ -1037,7 +1039,7 @@ fn safety(c: &Ctx) -> Vec<String> {
         return s;
     }
     s.push("All figures here are computed from the job's values and models; confirm them by measurement before relying on them.".to_string());
-    let as_left = |r: &&StressRow| r.scenario == Scenario::AsLeft && r.kind == "resistor" && r.programme_w > 0.0;
+    let as_left = |r: &&StressRow| r.scenario == Scenario::AsLeft && r.kind == PartKind::Resistor && r.programme_w > 0.0;
     let resistors: Vec<&StressRow> = f.stress.rows.iter().filter(as_left).collect();
     if !resistors.is_empty() {
         s.push("Crossover resistors get hot. Mount them clear of capacitors, wiring and wadding, with space for air; rate them at least twice their programme dissipation (common practice).".into());
@@ -1071,7 +1073,7 @@ fn safety(c: &Ctx) -> Vec<String> {
             if over.len() == 1 { "it is" } else { "they are" }
         ));
     }
-    if f.scenes[2].network.parts.iter().any(|p| p.kind == PartKind::Capacitor) {
+    if f.scenes.as_left.network.parts.iter().any(|p| p.kind == PartKind::Capacitor) {
         s.push("Use only non-polarised capacitors in a crossover (film, or bipolar electrolytic): a polarised electrolytic fitted there can fail, overheat or vent.".into());
     }
     s.push("The amplifier's load is given in the load section above; follow the amplifier maker's minimum load rating.".into());

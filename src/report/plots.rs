@@ -351,9 +351,9 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
     let mut curves = Vec::new();
     for (di, d) in job.network.drivers.iter().enumerate() {
         let band = &f.bands[di];
-        for s in &f.scenes[1..] {
+        for s in [&f.scenes.as_found, &f.scenes.as_left] {
             let Some(k) = s.driver_index(&d.name) else { continue };
-            let pts = band.idx.iter().map(|&i| (f.freqs[i], s.db[k][i] - f.scenes[0].db[di][i])).collect();
+            let pts = band.idx.iter().map(|&i| (f.freqs[i], s.db[k][i] - f.scenes.as_designed.db[di][i])).collect();
             curves.push(Curve { label: format!("{} {}", d.name, s.scenario.label()), colour: colours[di], pattern: pattern(s.scenario), points: pts });
         }
     }
@@ -431,7 +431,7 @@ fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let mut band_labels = Vec::new();
     let mut spread: Vec<f64> = Vec::new();
     for (name, lo, hi) in &t.curves {
-        let (Some(di), Some(k)) = (f.scenes[0].driver_index(name), f.scenes[2].driver_index(name)) else { continue };
+        let (Some(di), Some(k)) = (f.scenes.as_designed.driver_index(name), f.scenes.as_left.driver_index(name)) else { continue };
         let band = &f.bands[di];
         // Each grid point against the nominal as-left level there, over the driver's band.
         let pts: Vec<(f64, f64, f64)> = t
@@ -441,7 +441,7 @@ fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
             .filter(|(hz, _)| **hz >= band.lo_hz && **hz <= band.hi_hz)
             .filter_map(|(hz, (a, b))| {
                 let i = f.freqs.iter().position(|x| x == hz)?;
-                let nominal = f.scenes[2].db[k][i];
+                let nominal = f.scenes.as_left.db[k][i];
                 Some((*hz, a - nominal, b - nominal))
             })
             .collect();

@@ -171,7 +171,7 @@ fn stress_of_a_resistive_divider_by_hand() {
     let d = f.stress.drivers.iter().find(|d| d.driver == "HF").unwrap();
     assert!((d.programme_w - 60.0 / 64.0 * 6.0).abs() < 1e-9); // (E_prog / 8)^2 * 6
     assert!((d.sine_w - 45.0).abs() < 1e-9); // (E / 8)^2 * 6, above its 40 W rating
-    assert_eq!(d.verdict, "check");
+    assert_eq!(d.verdict, voicekeep::analysis::Verdict::Check);
     // A programme power in the job replaces the default eighth.
     let job = job_from("voicekeep: 1\njob: { number: A, date: 2026-01-01 }\namplifier: { power: 60 W, into: 8 ohm, programme_power: 30 W }\nnetwork:\n  input: [IN, COM]\n  parts:\n    R1: { kind: resistor, between: [IN, H1], value: 2 ohm, rating: auto }\n  drivers:\n    HF: { role: tweeter, between: [H1, COM], model: { resistance: 6 ohm }, rated_power: 40 W }\nanalysis: { sweep: { from: 20 Hz, to: 20 kHz, per_octave: 3 } }\n");
     let f = analysis::analyse(&job).unwrap();

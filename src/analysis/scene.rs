@@ -1,0 +1,191 @@
+//! A scenario solved: one pass over the display sweep for the drivers' levels and the input
+//! impedance, one over the stress grid for each element's peaks; the circuit is built once
+//! and kept, so every later question of the scene reuses it.
+
+use num_complex::Complex64;
+
+use crate::analysis::programme;
+use crate::engine::{self, Circuit, SolveError, Sweeper};
+use crate::model::{Amplifier, Network, Scenario};
+
+/// One scenario, solved over the sweep in a single pass: what the findings need is kept,
+/// the node voltages are not (a 100,000-point sweep would hold megabytes of them).
+#[derive(Debug, Clone)]
+pub struct Scene {
+    pub scenario: Scenario,
+    pub network: Network,
+    pub circuit: Circuit,
+    /// Per driver (network order): level in dB re the EMF. The complex voltages behind it
+    /// are solved again when asked for ([`Scene::voltages`]): storing them would cost more
+    /// in fresh memory than the second solve does where they are needed.
+    pub db: Vec<Vec<f64>>,
+    /// Input impedance at every sweep point.
+    pub z: Vec<Complex64>,
+    /// Per circuit element: its largest voltage, current and power over the stress grid.
+    pub peaks: Vec<Peaks>,
+}
+
+/// An element's extremes over the sweep for a 1 V EMF, each with the sweep index where it
+/// first occurs, and its power weighted by the programme spectrum.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Peaks {
+    /// Largest |V|^2 across it.
+    pub v2: (f64, usize),
+    /// Largest |I|^2 through it.
+    pub i2: (f64, usize),
+    /// Largest real power into it, |I|^2 Re Z.
+    pub power: (f64, usize),
+    /// Sum over the sweep of the programme weight times the real power.
+    pub programme: f64,
+}
+
+impl Peaks {
+    #[inline]
+    fn add(&mut self, i: usize, v2: f64, i2: f64, power: f64, weight: f64) {
+        if v2 > self.v2.0 {
+            self.v2 = (v2, i);
+        }
+        if i2 > self.i2.0 {
+            self.i2 = (i2, i);
+        }
+        if power > self.power.0 {
+            self.power = (power, i);
+        }
+        self.programme += weight * power;
+    }
+}
+
+/// What one pass over the sweep keeps: each driver's level, and as asked its voltage and the
+/// input impedance.
+struct Pass {
+    db: Vec<Vec<f64>>,
+    h: Vec<Vec<Complex64>>,
+    z: Vec<Complex64>,
+}
+
+fn driver_elements(c: &Circuit, network: &Network) -> Result<Vec<usize>, SolveError> {
+    network.drivers.iter().map(|d| c.element(&d.name).ok_or_else(|| SolveError::Internal(format!("driver {} is not in its circuit", d.name)))).collect()
+}
+
+/// Solves `c` at every frequency of `freqs` once, keeping each driver's level, and with
+/// `impedance` the input impedance, with `voltages` each driver's complex voltage.
+fn pass(c: &Circuit, network: &Network, freqs: &[f64], impedance: bool, voltages: bool) -> Result<Pass, SolveError> {
+    let drivers = driver_elements(c, network)?;
+    let per_point = |on: bool| if on { freqs.len() } else { 0 };
+    let mut out = Pass {
+        db: drivers.iter().map(|_| Vec::with_capacity(freqs.len())).collect(),
+        h: drivers.iter().map(|_| Vec::with_capacity(per_point(voltages))).collect(),
+        z: Vec::with_capacity(per_point(impedance)),
+    };
+    let mut first_error = None;
+    let kernels = c.kernels();
+    engine::sweep(
+        c,
+        &mut Sweeper::new(c),
+        freqs,
+        |i, k| kernels[k].at(freqs[i]),
+        |_, point| match point {
+            Ok(p) => {
+                for (j, &k) in drivers.iter().enumerate() {
+                    let v = p.across(c, k);
+                    out.db[j].push(engine::db(v));
+                    if voltages {
+                        out.h[j].push(v);
+                    }
+                }
+                if impedance {
+                    out.z.push(p.input_impedance(c));
+                }
+            }
+            Err(e) => {
+                first_error.get_or_insert(e);
+            }
+        },
+    );
+    match first_error {
+        Some(e) => Err(e),
+        None => Ok(out),
+    }
+}
+
+/// Each element's peaks over the stress grid `grid`, whose programme weights are `weights`.
+fn peaks_pass(c: &Circuit, grid: &[f64], weights: &[f64]) -> Result<Vec<Peaks>, SolveError> {
+    let mut peaks = vec![Peaks::default(); c.elements.len()];
+    let mut first_error = None;
+    let kernels = c.kernels();
+    engine::sweep(
+        c,
+        &mut Sweeper::new(c),
+        grid,
+        |i, k| kernels[k].at(grid[i]),
+        |i, point| match point {
+            Ok(p) => {
+                let w = weights[i];
+                p.each_element(c, |k, v2, i2, power| peaks[k].add(i, v2, i2, power, w));
+            }
+            Err(e) => {
+                first_error.get_or_insert(e);
+            }
+        },
+    );
+    match first_error {
+        Some(e) => Err(e),
+        None => Ok(peaks),
+    }
+}
+
+/// Each driver's level (dB re the EMF, network order) at every point of `freqs`: for a
+/// candidate network that is only compared, not reported.
+pub fn driver_levels(network: &Network, amp: &Amplifier, freqs: &[f64]) -> Result<Vec<Vec<f64>>, SolveError> {
+    let c = Circuit::from_network(network, amp)?;
+    Ok(pass(&c, network, freqs, false, false)?.db)
+}
+
+/// The frequencies the stress figures are worked out on, whatever sweep the job chose for
+/// display: the programme's whole band and at least 20 Hz to 20 kHz for the sine search.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StressGrid {
+    pub freqs: Vec<f64>,
+    /// The fraction of the programme's power each point stands for.
+    pub weights: Vec<f64>,
+}
+
+impl StressGrid {
+    pub fn new(p: crate::model::Programme, sweep: &[f64]) -> StressGrid {
+        let freqs = programme::stress_grid(p, sweep);
+        let weights = programme::weights(p, &freqs);
+        StressGrid { freqs, weights }
+    }
+}
+
+impl Scene {
+    /// Solves `network` at every frequency of the sweep `freqs`, and for the stress figures
+    /// at every point of `grid`.
+    pub fn build(scenario: Scenario, network: Network, amp: &Amplifier, freqs: &[f64], grid: &StressGrid) -> Result<Scene, SolveError> {
+        let circuit = Circuit::from_network(&network, amp)?;
+        let Pass { db, z, .. } = pass(&circuit, &network, freqs, true, false)?;
+        let peaks = peaks_pass(&circuit, &grid.freqs, &grid.weights)?;
+        Ok(Scene { scenario, network, circuit, db, z, peaks })
+    }
+
+    /// Per driver (network order), the voltage across it per volt of EMF at every point of
+    /// `freqs`, the sweep the scene was built on (solved again, to the same values).
+    pub fn voltages(&self, freqs: &[f64]) -> Vec<Vec<Complex64>> {
+        match pass(&self.circuit, &self.network, freqs, false, true) {
+            Ok(p) => p.h,
+            // The scene was solved on this sweep, so it solves again; an empty answer is
+            // safer than a panic if it ever does not.
+            Err(_) => vec![Vec::new(); self.network.drivers.len()],
+        }
+    }
+
+    pub fn driver_index(&self, name: &str) -> Option<usize> {
+        self.network.drivers.iter().position(|d| d.name == name)
+    }
+
+    /// Per driver, the phase in degrees, wrapped to (-180, 180], at every point of `freqs`
+    /// (the scene's sweep).
+    pub fn phases_deg(&self, freqs: &[f64]) -> Vec<Vec<f64>> {
+        self.voltages(freqs).iter().map(|h| h.iter().map(|v| engine::wrap_deg(v.arg().to_degrees())).collect()).collect()
+    }
+}
