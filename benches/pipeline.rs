@@ -34,7 +34,7 @@ fn monte_carlo(cr: &mut Criterion) {
     let mut g = cr.benchmark_group("monte carlo");
     g.sample_size(10);
     g.bench_function(format!("three-way sample, 10000 runs x 200 points x 3 scenarios, {} threads", rayon::current_num_threads()), |b| {
-        b.iter(|| tolerance::run(&sample, &runs, &freqs, &f.bands, &f.scenes))
+        b.iter(|| tolerance::run(&runs, &freqs, &f.bands, &f.scenes, &voicekeep::analysis::Quiet))
     });
     g.finish();
 }
