@@ -131,6 +131,31 @@ pub enum AnalysisError {
     Step(crate::model::StepError),
 }
 
+impl AnalysisError {
+    /// The error as a diagnostic at the place in the job file of the first part it names, like
+    /// every other problem in a job.
+    pub fn diagnostic(&self, job: &Job) -> crate::diag::Diagnostic {
+        use crate::diag::{Diagnostic, Pos};
+        let hint = "check the `between` nodes of the parts named; a part of 0 ohm across the input shorts the amplifier";
+        match self {
+            AnalysisError::Solve(s, e) => {
+                let parts: &[String] = match e {
+                    SolveError::Floating { parts, .. } | SolveError::Singular { parts, .. } => parts,
+                    SolveError::Internal(_) => &[],
+                };
+                let left = job.as_left_unsolved().ok();
+                let place = parts.iter().find_map(|p| {
+                    let pos = [Some(&job.network), left.as_ref()].into_iter().flatten().find_map(|n| n.part(p).map(|x| x.pos).or_else(|| n.driver(p).map(|d| d.pos)));
+                    pos.map(|pos| (pos, p.clone()))
+                });
+                let (pos, field) = place.map(|(pos, p)| (pos, format!("network.{p}"))).unwrap_or((job.network.input_pos, "network".into()));
+                Diagnostic::new(pos, field, format!("{}: {e}", s.label())).hint(hint)
+            }
+            AnalysisError::Step(e) => Diagnostic::new(if e.pos == Pos::default() { Pos::START } else { e.pos }, format!("changes[{}]", e.number), e.message.clone()),
+        }
+    }
+}
+
 impl std::fmt::Display for AnalysisError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {

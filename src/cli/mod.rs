@@ -185,8 +185,9 @@ impl analysis::Progress for Bar {
 
 fn analyse(path: &Path, job: &Job) -> Result<analysis::Findings, u8> {
     analysis::analyse_with(job, &Bar(std::sync::Mutex::new(None))).map_err(|e| {
-        eprintln!("{}: the network cannot be solved: {e}", path.display());
-        eprintln!("  hint: check the `between` nodes of the parts named; a part of 0 ohm across the input shorts the amplifier");
+        // Reported like every other problem in the job: file, line, column, snippet, hint.
+        let source = job.inputs.first().map(|i| String::from_utf8_lossy(&i.bytes).into_owned()).unwrap_or_default();
+        eprintln!("{}", crate::diag::Problems { file: path.display().to_string(), source, list: vec![e.diagnostic(job)] });
         PROBLEMS
     })
 }

@@ -112,23 +112,17 @@ fn template_error(world: &dyn World, diags: &[typst::diag::SourceDiagnostic]) ->
     ReportError::Template { messages }
 }
 
-/// Writes `bytes` to `path` through a temporary file in the same folder and a rename, so a
-/// reader never sees half a file and an existing file is replaced only whole.
+/// Writes `bytes` to `path` through a temporary file in the same folder (tempfile's), synced
+/// and then renamed over `path`: a reader never sees half a file, an existing file is replaced
+/// only whole, and a failure removes the temporary file.
 pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     use std::io::Write;
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "out".into());
-    let tmp = dir.join(format!(".{}.{}.tmp", name, std::process::id()));
-    let result = (|| {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(bytes)?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
-    result
+    let mut tmp = tempfile::Builder::new().prefix(".voicekeep-").suffix(".tmp").tempfile_in(dir)?;
+    tmp.write_all(bytes)?;
+    tmp.as_file().sync_all()?;
+    tmp.persist(path).map_err(|e| e.error)?;
+    Ok(())
 }
 
 #[cfg(test)]

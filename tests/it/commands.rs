@@ -333,7 +333,8 @@ fn a_network_that_cannot_be_solved_is_a_job_problem_naming_its_parts() {
     let short = "voicekeep: 1\njob: { number: A, date: 2026-01-01 }\namplifier: { power: 50 W, into: 8 ohm }\nnetwork:\n  input: [IN, COM]\n  parts:\n    R0: { kind: resistor, between: [IN, COM], value: 0 ohm }\n    L1: { kind: inductor, between: [IN, W1], value: 1 mH, dcr: 0.3 ohm }\n  drivers:\n    LF: { role: woofer, between: [W1, COM], model: { resistance: 6 ohm } }\nanalysis: { sweep: { from: 20 Hz, to: 2 kHz, per_octave: 3 } }\n";
     for cmd in ["check", "solve"] {
         let o = Cli::new().job(short).args([cmd, "{job}"]).run();
-        o.code(1).stderr_has("the network cannot be solved").stderr_has("singular").stderr_has("R0").stderr_has("hint:");
+        // Placed like every other job problem: R0's line and column, its field, a hint.
+        o.code(1).stderr_has(":7:5: network.R0: as designed: the network cannot be solved at 20 Hz").stderr_has("singular").stderr_has("hint:");
         assert!(o.stdout.is_empty(), "nothing printed as a result: {}", o.stdout);
     }
     let o = Cli::new().job(short).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run();
