@@ -1,0 +1,451 @@
+//! One builder per block of the report's data: the title block's header and drive line, the
+//! levels, compensation, parts and drivers, stress, load, health and tolerance tables, and the
+//! record of inputs and attachments.
+
+use super::words::*;
+use super::*;
+use crate::analysis::stress::StressRow;
+use crate::model::{ChangeStep, Scenario};
+use crate::results::{db, hz};
+
+pub(super) fn header(c: &Ctx) -> JobHeader {
+    let info = &c.job.info;
+    let sale = c.audience == Audience::Sale;
+    JobHeader {
+        number: info.number.clone(),
+        work: info.work.clone(),
+        technician: info.technician.clone(),
+        shop: Shop { name: info.shop_name.clone(), address: info.shop_address.clone(), contact: info.shop_contact.clone() },
+        customer: if sale || (info.customer_name.is_empty() && info.customer_reference.is_empty()) {
+            None
+        } else {
+            Some(Customer { name: info.customer_name.clone(), reference: info.customer_reference.clone() })
+        },
+        speaker: Speaker {
+            description: info.speaker_description.clone(),
+            serials: info.serials.clone(),
+            rated_impedance: info.rated_impedance.map(ohm).unwrap_or_else(|| "not given".into()),
+        },
+        notes: if sale || info.notes.is_empty() { None } else { Some(info.notes.clone()) },
+    }
+}
+
+/// The amplifier the figures assume: never worded as a specification of the speaker.
+pub(super) fn drive(c: &Ctx) -> String {
+    let a = &c.job.amplifier;
+    let (p, r) = (trim_number(a.power_w, 3), trim_number(a.into_ohm, 3));
+    match c.audience {
+        Audience::Archive => format!("sine {}; programme {} W", c.f.stress.amplifier, trim_number(c.f.stress.programme_w, 3)),
+        Audience::Customer => format!("worked out for an amplifier of {p} W into {r} ohm"),
+        Audience::Sale => format!("the shop's figures assume an amplifier of {p} W into {r} ohm"),
+    }
+}
+
+pub(super) fn levels(c: &Ctx) -> LevelsData {
+    let f = c.f;
+    let net = &c.job.network;
+    let basis = format!(
+        "the network solved as designed, as found and as left over {}. Levels are the mean over each driver's band, in dB relative to the original design; the band is the fitting band where a compensating resistor names the driver, otherwise where the original design plays within 6 dB of its maximum.",
+        sweep_text(f)
+    );
+    let table = if c.audience.plain() {
+        let rows = f
+            .levels
+            .iter()
+            .map(|l| {
+                let meaning = if l.as_left_fault {
+                    "a fault: driver shorted or disconnected".to_string()
+                } else {
+                    match crate::analysis::level_flag(l.passband_worst_db) {
+                        "within 0.5 dB" => "too small to hear".into(),
+                        "measurable" => "measurable, hard to hear".into(),
+                        other => other.into(),
+                    }
+                };
+                let before = if l.as_found_fault { "silent: a fault".to_string() } else { db(l.as_found_db) };
+                Row(vec![
+                    driver_words(net, &l.driver),
+                    before,
+                    db(l.as_left_db),
+                    format!("{} ({} to {})", db(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
+                    meaning,
+                ])
+            })
+            .collect();
+        Table::new(&["Driver", "Before the work (average)", "After the work (average)", "After the work, largest difference", "What that means"], rows)
+    } else {
+        let rows = f
+            .levels
+            .iter()
+            .map(|l| {
+                Row(vec![
+                    l.driver.clone(),
+                    l.role.clone(),
+                    format!("{} - {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))),
+                    db(l.as_designed_db),
+                    db(l.as_found_db),
+                    db(l.as_left_db),
+                    db(l.found_to_left_db),
+                    format!("{} ({} - {})", db(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
+                    l.left_flag.clone(),
+                ])
+            })
+            .collect();
+        Table::new(&["Driver", "Role", "Band", "As designed", "As found", "As left", "Found → left", "As left, worst in passband", "As left vs design"], rows)
+    };
+    let crossovers = if c.audience.plain() {
+        Table::default()
+    } else {
+        Table::new(
+            &["Electrical crossover (driver voltages cross)", "As designed", "As found", "As left"],
+            f.crossovers.iter().map(|x| Row(vec![format!("{} / {}", x.lower, x.upper), hz(x.as_designed_hz), hz(x.as_found_hz), hz(x.as_left_hz)])).collect(),
+        )
+    };
+    LevelsData { basis, table, crossovers }
+}
+
+pub(super) fn sweep_text(f: &Findings) -> String {
+    format!("{} to {}, {} points", hz(f.freqs.first().copied()), hz(f.freqs.last().copied()), f.freqs.len())
+}
+
+pub(super) fn compensation(c: &Ctx) -> CompensationData {
+    let f = c.f;
+    let net = &f.scenes.as_left.network;
+    let rating_of = |part: &str| f.stress.rows.iter().find(|r| r.scenario == Scenario::AsLeft && r.part == part).and_then(|r| r.rating_w.map(|w| (w, r.rating_chosen)));
+    let basis = format!(
+        "least-squares level match in dB over each band against the reference scenario, rounded to the named IEC 60063 series (nearest in the geometric sense); ratings at least twice the programme dissipation at {} W (common practice)",
+        trim_number(f.stress.programme_w, 3)
+    );
+    let mut notes = Vec::new();
+    if c.audience.plain() {
+        let mut explained = false;
+        for fit in &f.compensation.fits {
+            let who = driver_words(net, &fit.driver);
+            let place = part_place(net, &fit.part);
+            if fit.fault {
+                notes.push(format!("{} could not be fitted: {who} plays far below its design whatever its value, which is a fault in the wiring or the driver.", fit.part));
+            } else if fit.cannot_raise {
+                notes.push(format!("{} was not fitted: {who} already plays {:.2} dB below its original level, and a resistor can only make it quieter.", fit.part, -fit.excess_db));
+            } else if fit.is_none() {
+                notes.push(format!("{} was not needed: {who} matches its original level without it.", fit.part));
+            } else {
+                let rating = rating_of(&fit.part).map(|(w, _)| format!(", rated {} W,", trim_number(w, 3))).unwrap_or_default();
+                let how = if fit.shunt { format!("across {who}") } else { format!("in {place}") };
+                let why = if explained { "" } else { ": the new parts lose less energy than the old ones did" };
+                explained = true;
+                notes.push(format!(
+                    "Without {}, {who} would have played {:.2} dB louder than designed{why}. {}, {} {} resistor{rating} {how}, brings it back to within {:.2} dB of the original at every frequency of its band.",
+                    fit.part,
+                    fit.excess_db.max(0.0),
+                    fit.part,
+                    crate::units::a_or_an(fit.fitted_ohm),
+                    ohm(fit.fitted_ohm),
+                    fit.worst_db.abs()
+                ));
+            }
+        }
+        return CompensationData { basis, table: Table::default(), notes, alternatives: Table::default(), warnings: Vec::new() };
+    }
+    let rows = f
+        .compensation
+        .fits
+        .iter()
+        .map(|fit| {
+            let rating = rating_of(&fit.part).map(|(w, chosen)| format!("{} W{}", trim_number(w, 3), if chosen { " (chosen)" } else { "" })).unwrap_or_else(|| "-".into());
+            let fitted = if fit.fault {
+                "fault".to_string()
+            } else if fit.fitted_ohm.is_infinite() {
+                "none (open)".to_string()
+            } else if fit.is_none() {
+                "none".to_string()
+            } else {
+                ohm(fit.fitted_ohm)
+            };
+            Row(vec![
+                fit.part.clone(),
+                fit.driver.clone(),
+                if fit.exact_ohm.is_finite() { ohm(fit.exact_ohm) } else { "open".into() },
+                fitted,
+                fit.series.name().to_string(),
+                format!("{:.3} dB", fit.residual_db),
+                crate::results::signed_db3(fit.worst_db),
+                rating,
+            ])
+        })
+        .collect();
+    for fit in &f.compensation.fits {
+        notes.push(format!(
+            "{} goes {}. It is fitted so {} plays at its {} level over {} - {}{}.",
+            fit.part,
+            fit.placement,
+            fit.driver,
+            fit.reference.adjective(),
+            hz(Some(fit.band_hz[0])),
+            hz(Some(fit.band_hz[1])),
+            if fit.keeps_impedance { ", holding the impedance its filter sees to the reference's" } else { "" }
+        ));
+        if let Some(p) = &fit.pair {
+            notes.push(format!(
+                "Closer with stock E12 parts: {} {} {} = {} ({:.3} dB RMS).",
+                ohm(p.a_ohm),
+                if p.parallel { "in parallel with" } else { "in series with" },
+                ohm(p.b_ohm),
+                ohm(p.value_ohm),
+                p.residual_db
+            ));
+        }
+    }
+    let alternatives = Table::new(
+        &["Driver", "Alternative", "Residual RMS", "Crossover", "Against the plan"],
+        f.compensation
+            .alternatives
+            .iter()
+            .map(|a| Row(vec![a.driver.clone(), a.description.clone(), format!("{:.3} dB", a.residual_db), hz(a.crossover_hz), format!("{} {}", a.verdict, a.why_plan)]))
+            .collect(),
+    );
+    let warnings = f.compensation.warnings.iter().map(|w| w.message.clone()).collect();
+    CompensationData { basis, table: Table::new(&["Part", "Driver", "Exact", "Fitted", "Series", "Residual RMS", "Worst", "Rating"], rows), notes, alternatives, warnings }
+}
+
+pub(super) fn parts(c: &Ctx) -> Table {
+    let f = c.f;
+    let (designed, found, left) = (&f.scenes.as_designed, &f.scenes.as_found, &f.scenes.as_left);
+    // Every part in any scenario, in the order first seen.
+    let mut names: Vec<&str> = Vec::new();
+    for s in &f.scenes {
+        for p in &s.network.parts {
+            if !names.contains(&p.name.as_str()) {
+                names.push(&p.name);
+            }
+        }
+    }
+    let rows = names
+        .iter()
+        .filter_map(|n| {
+            let (d, fo, l) = (designed.network.part(n), found.network.part(n), left.network.part(n));
+            let any = d.or(fo).or(l)?;
+            // Nodes voicekeep made up exist only as left, where their labels are.
+            let where_ = format!("{}, {} - {}", any.kind.name(), left.network.node_label(&any.between[0]), left.network.node_label(&any.between[1]));
+            let t = |p: Option<&Part>| p.map(part_text).unwrap_or_else(|| "-".into());
+            let change = match (fo, l) {
+                (None, Some(_)) => "added".to_string(),
+                (Some(_), None) => "removed".to_string(),
+                (Some(a), Some(b)) if a != b => {
+                    if c.job.changes.iter().any(|ch| matches!(&ch.step, ChangeStep::Replace { target, .. } if target == n)) {
+                        format!("replaced{}", b.type_text.as_ref().map(|t| format!(" ({t})")).unwrap_or_default())
+                    } else {
+                        "changed".into()
+                    }
+                }
+                _ if c.job.measured.iter().any(|m| m.target == *n) => "measured, kept".into(),
+                _ => "kept".into(),
+            };
+            // A part the bench did not read is nominal as found: said so, not shown as a reading.
+            let measured = c.job.measured.iter().any(|m| m.target == *n);
+            let found_text = match (d, fo) {
+                (Some(a), Some(b)) if a == b && !measured => "not measured (nominal)".to_string(),
+                _ => t(fo),
+            };
+            let spec = l
+                .or(fo)
+                .map(|p| {
+                    [p.type_text.clone(), rating_text(c, p), p.tolerance.map(|t| format!("{} %", trim_number(t * 100.0, 3)))].into_iter().flatten().collect::<Vec<_>>().join(", ")
+                })
+                .unwrap_or_default();
+            Some(Row(vec![n.to_string(), where_, t(d), found_text, t(l), if spec.is_empty() { "-".into() } else { spec }, change]))
+        })
+        .collect();
+    Table::new(&["Ref", "Kind and place", "As designed", "As found", "As left", "As left: type, rating, tolerance", "Change"], rows)
+}
+
+pub(super) fn drivers(c: &Ctx) -> Table {
+    use crate::model::{DriverModel, VoiceCoilInductance};
+    let rows =
+        c.f.scenes
+            .as_left
+            .network
+            .drivers
+            .iter()
+            .map(|d| {
+                let model = match &d.model {
+                    DriverModel::Resistance(r) => format!("resistance {}", ohm(*r)),
+                    DriverModel::VoiceCoil { re, inductance, resonance } => {
+                        let mut s = format!("Re {}", ohm(*re));
+                        match inductance {
+                            VoiceCoilInductance::Simple(le) => s.push_str(&format!(", Le {}", format_si(*le, Quantity::Inductance, 3))),
+                            VoiceCoilInductance::Leach { k, n } => s.push_str(&format!(", Leach K {} n {}", trim_number(*k, 3), trim_number(*n, 3))),
+                            VoiceCoilInductance::None => {}
+                        }
+                        if let Some(r) = resonance {
+                            s.push_str(&format!(", fs {}, Qms {}, Qes {}", format_si(r.fs, Quantity::Frequency, 3), trim_number(r.qms, 3), trim_number(r.qes, 3)));
+                        }
+                        s
+                    }
+                    DriverModel::Table(t) => format!("measured table {}", t.file),
+                };
+                Row(vec![
+                    d.name.clone(),
+                    d.role.name().into(),
+                    model,
+                    d.rated_power.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
+                    if d.inverted { "inverted".into() } else { "normal".into() },
+                ])
+            })
+            .collect();
+    Table::new(&["Driver", "Role", "Model as left", "Rated power", "Polarity"], rows)
+}
+
+pub(super) fn stress_row(r: &StressRow) -> Row {
+    let figure = match (r.peak_v, r.rms_a) {
+        (Some(v), _) => format!("{} V peak", trim_number(v, 3)),
+        (_, Some(a)) => format!("{} A RMS", trim_number(a, 3)),
+        _ => "-".into(),
+    };
+    let rating = r
+        .rating_w
+        .map(|w| format!("{} W", trim_number(w, 3)))
+        .or(r.rating_v.map(|v| format!("{} V", trim_number(v, 3))))
+        .or(r.rating_a.map(|a| format!("{} A", trim_number(a, 3))))
+        .unwrap_or_else(|| "-".into());
+    Row(vec![
+        r.scenario.label().into(),
+        r.part.clone(),
+        format!("{} W", trim_number(r.sine_w, 3)),
+        format!("{} W", trim_number(r.programme_w, 3)),
+        figure,
+        rating,
+        r.verdict.name().into(),
+        r.reason.clone(),
+    ])
+}
+
+pub(super) fn stress(c: &Ctx) -> StressData {
+    let f = c.f;
+    let header = ["Scenario", "Part", "Sine", "Programme", "Peak V / RMS A", "Rating", "Verdict", "Reason"];
+    let drivers = f
+        .stress
+        .drivers
+        .iter()
+        .filter(|d| d.scenario == Scenario::AsLeft)
+        .map(|d| {
+            Row(vec![
+                d.driver.clone(),
+                format!("{} W", trim_number(d.programme_w, 3)),
+                format!("{} W near {}", trim_number(d.sine_w, 3), hz(Some(d.sine_at_hz))),
+                d.rated_w.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
+                d.verdict.name().into(),
+                d.reason.clone(),
+            ])
+        })
+        .collect();
+    StressData {
+        basis: format!("{} Dissipation is in each part's own resistance (resistor value, capacitor ESR, inductor DCR).", f.stress.basis),
+        table: Table::new(&header, f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft).map(stress_row).collect()),
+        all: Table::new(&header, f.stress.rows.iter().map(stress_row).collect()),
+        drivers: Table::new(&["Driver", "Programme", "Sine (worst)", "Rated", "Verdict", "Reason"], drivers),
+    }
+}
+
+pub(super) fn load(c: &Ctx) -> LoadData {
+    let (job, f) = (c.job, c.f);
+    let basis = format!(
+        "input impedance at the amplifier terminals over {}; EPDR after Howard (Stereophile, 2007), closed form for a class-B stage; the rated-impedance rule of IEC 60268-5 (lowest |Z| at least 80 % of rated); {}",
+        sweep_text(f),
+        job.rated_impedance_basis()
+    );
+    let (ld, lf, ll) = (&f.loads.as_designed, &f.loads.as_found, &f.loads.as_left);
+    if c.audience.plain() {
+        let r = job.rated_impedance_ohm();
+        let same = (ll.min_ohm - ld.min_ohm).abs() < 0.05 * ld.min_ohm;
+        let compare = if same { "about the same as in the original design".to_string() } else { format!("against {} in the original design", ohm(ld.min_ohm)) };
+        let advice = match amplifier_rating(ll.min_ohm) {
+            Some(x) => format!("an amplifier its maker rates for {} speakers or lower", ohm(x)),
+            None => "very few amplifiers".to_string(),
+        };
+        let verdict = if ll.verdict == crate::analysis::Verdict::Over {
+            "too low for most amplifiers: check the amplifier maker's minimum load before use.".to_string()
+        } else if !ll.rated_impedance_holds {
+            format!("below the 80 % of its rated {} that IEC 60268-5 allows, so use {advice}, or keep the volume moderate.", ohm(r))
+        } else if ll.demanding {
+            format!("a demanding load at high volume; use {advice}.")
+        } else {
+            format!("a normal load for {advice}.")
+        };
+        let sentence = format!("The lowest impedance the speaker presents to the amplifier is {} (at {}), {compare}: {verdict}", ohm(ll.min_ohm), hz(Some(ll.min_at_hz)));
+        return LoadData { basis, table: Table::default(), sentences: vec![sentence] };
+    }
+    let rows = Scenario::ALL
+        .iter()
+        .zip(&f.loads)
+        .map(|(s, l)| {
+            Row(vec![
+                s.label().into(),
+                format!("{} at {}", ohm(l.min_ohm), hz(Some(l.min_at_hz))),
+                format!("{} at {}", ohm(l.epdr_min_ohm), hz(Some(l.epdr_at_hz))),
+                if l.rated_impedance_holds { "holds".into() } else { "fails".into() },
+                l.verdict.name().into(),
+            ])
+        })
+        .collect();
+    let change = format!(
+        "From as found to as left the lowest impedance moves from {} to {} and the EPDR from {} to {}; the original design presents {} and {}.",
+        ohm(lf.min_ohm),
+        ohm(ll.min_ohm),
+        ohm(lf.epdr_min_ohm),
+        ohm(ll.epdr_min_ohm),
+        ohm(ld.min_ohm),
+        ohm(ld.epdr_min_ohm)
+    );
+    let mut verdict = ll.reason.clone();
+    if let Some(first) = verdict.get(..1) {
+        verdict = first.to_uppercase() + &verdict[1..];
+    }
+    LoadData { basis, table: Table::new(&["Scenario", "Lowest |Z|", "Lowest EPDR", "80 % rule", "Verdict"], rows), sentences: vec![format!("As left: {verdict}."), change] }
+}
+
+pub(super) fn health(c: &Ctx) -> Table {
+    Table::new(
+        &["Part", "What the reading shows", "Effect of the whole reading"],
+        c.f.health
+            .iter()
+            .map(|h| Row(vec![h.part.clone(), h.message.clone(), if h.effect_driver.is_empty() { "-".into() } else { format!("{} on {}", db(h.effect_db), h.effect_driver) }]))
+            .collect(),
+    )
+}
+
+pub(super) fn tolerance(c: &Ctx) -> Option<ToleranceData> {
+    let t = c.f.tolerance.as_ref()?;
+    let dist = match t.distribution {
+        crate::model::Distribution::Uniform => "a uniform distribution over each part's marked tolerance",
+        crate::model::Distribution::Normal => "a normal distribution with the marked tolerance as two standard deviations",
+    };
+    Some(ToleranceData {
+        basis: format!("{} Monte Carlo runs, seed {}, {dist}; levels relative to the original design's nominal", t.runs, t.seed),
+        levels: Table::new(
+            &["Scenario", "Driver", "5 %", "median", "95 %"],
+            t.levels.iter().map(|l| Row(vec![l.scenario.label().to_string(), l.driver.clone(), db(l.p5_db), db(l.p50_db), db(l.p95_db)])).collect(),
+        ),
+        ranking: Table::new(
+            &["Driver", "Part", "Level change per 1 % of value"],
+            t.ranking
+                .iter()
+                .filter(|r| r.db_per_percent.abs() >= 0.001)
+                .take(12)
+                .map(|r| Row(vec![r.driver.clone(), r.part.clone(), format!("{:+.3} dB/%", r.db_per_percent)]))
+                .collect(),
+        ),
+    })
+}
+
+pub(super) fn inputs(c: &Ctx) -> Table {
+    Table::new(&["File", "Size", "SHA-256"], c.job.inputs.iter().map(|i| Row(vec![i.name.clone(), format!("{} bytes", i.bytes.len()), sha256(&i.bytes)])).collect())
+}
+
+/// The files attached inside the PDF. The sale sheet carries none of them: the job file
+/// names the previous owner.
+pub(super) fn attachments(c: &Ctx) -> Vec<Attachment> {
+    if c.audience == Audience::Sale {
+        return Vec::new();
+    }
+    c.job.inputs.iter().enumerate().map(|(i, inp)| Attachment { name: inp.name.clone(), file: format!("/inputs/{i}"), mime: mime(&inp.name).into() }).collect()
+}

@@ -1,0 +1,340 @@
+//! The data a report template receives (as `/data.json`), built block by block: one small
+//! builder per block, every number already formatted in the same digits as `voicekeep
+//! solve`. Each report is written for its reader ([`Audience`]): the customer's in plain
+//! words, the archive's with every technical figure, the buyer's sale sheet with nothing
+//! private. Units print as the trade writes them (Ω, µF).
+
+//!
+//! | file | what it holds |
+//! | --- | --- |
+//! | `mod.rs` | the data's types, [`build`], and the trade's units |
+//! | `blocks.rs` | one builder per block of tables: levels, compensation, parts, stress, load, health, tolerance, the record |
+//! | `story.rs` | the prose: what was found and done, and the cautions |
+//! | `words.rs` | how a customer reads a driver, a part, a level |
+
+mod blocks;
+mod story;
+mod words;
+
+use serde::Serialize;
+use sha2::{Digest, Sha256};
+
+use crate::analysis::Findings;
+use crate::model::{Block, Job, Part, PartKind, PlotKind, Template};
+use crate::results::ohm;
+use crate::units::{format_si, trim_number, Quantity};
+use blocks::*;
+use story::*;
+
+/// Who a report is for; it decides the words and what is shown.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Audience {
+    /// The speaker's owner: plain language.
+    Customer,
+    /// The shop's record: every figure, in the trade's terms.
+    Archive,
+    /// A buyer of the refurbished speaker: what was done, nothing private.
+    Sale,
+}
+
+impl Audience {
+    pub fn of(t: &Template) -> Audience {
+        match t {
+            Template::Customer => Audience::Customer,
+            Template::Sale => Audience::Sale,
+            Template::Archive | Template::File { .. } => Audience::Archive,
+        }
+    }
+
+    fn plain(self) -> bool {
+        self != Audience::Archive
+    }
+}
+
+#[derive(Debug, Serialize)]
+pub struct Date {
+    pub year: i32,
+    pub month: u8,
+    pub day: u8,
+    pub text: String,
+}
+
+#[derive(Debug, Serialize)]
+pub struct BlockData {
+    pub kind: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub text: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub plot: Option<String>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct Row(pub Vec<String>);
+
+/// A table: its header and rows.
+#[derive(Debug, Serialize, Default)]
+pub struct Table {
+    pub header: Vec<String>,
+    pub rows: Vec<Row>,
+}
+
+impl Table {
+    fn new(header: &[&str], rows: Vec<Row>) -> Table {
+        Table { header: header.iter().map(|h| h.to_string()).collect(), rows }
+    }
+}
+
+#[derive(Debug, Serialize)]
+pub struct JobHeader {
+    pub number: String,
+    pub work: String,
+    pub technician: String,
+    pub shop: Shop,
+    /// None on the sale sheet: a buyer never sees the previous owner.
+    pub customer: Option<Customer>,
+    pub speaker: Speaker,
+    /// The bench notes; None on the sale sheet (they may speak of the owner).
+    pub notes: Option<String>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct Shop {
+    pub name: String,
+    pub address: String,
+    pub contact: String,
+}
+
+#[derive(Debug, Serialize)]
+pub struct Customer {
+    pub name: String,
+    pub reference: String,
+}
+
+#[derive(Debug, Serialize)]
+pub struct Speaker {
+    pub description: String,
+    pub serials: Vec<String>,
+    pub rated_impedance: String,
+}
+
+#[derive(Debug, Serialize)]
+pub struct LevelsData {
+    pub basis: String,
+    pub table: Table,
+    pub crossovers: Table,
+}
+
+#[derive(Debug, Serialize)]
+pub struct CompensationData {
+    pub basis: String,
+    pub table: Table,
+    /// Sentences under the table (archive) or in place of it (plain reports).
+    pub notes: Vec<String>,
+    pub alternatives: Table,
+    pub warnings: Vec<String>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct StressData {
+    pub basis: String,
+    pub table: Table,
+    pub all: Table,
+    pub drivers: Table,
+}
+
+#[derive(Debug, Serialize)]
+pub struct LoadData {
+    pub basis: String,
+    pub table: Table,
+    /// The load in sentences: the verdict and how it compares with the original design.
+    pub sentences: Vec<String>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct ToleranceData {
+    pub basis: String,
+    pub levels: Table,
+    pub ranking: Table,
+}
+
+#[derive(Debug, Serialize)]
+pub struct PlotData {
+    pub name: String,
+    pub caption: String,
+}
+
+#[derive(Debug, Serialize)]
+pub struct Attachment {
+    pub name: String,
+    pub file: String,
+    pub mime: String,
+}
+
+#[derive(Debug, Serialize)]
+pub struct ReportData {
+    pub version: String,
+    pub template: String,
+    pub audience: Audience,
+    pub date: Date,
+    pub job: JobHeader,
+    pub blocks: Option<Vec<BlockData>>,
+    /// The amplifier the figures assume, as a line for the title block.
+    pub drive: String,
+    pub summary: Vec<String>,
+    pub work: Vec<String>,
+    pub levels: LevelsData,
+    pub compensation: CompensationData,
+    pub parts: Table,
+    pub drivers: Table,
+    pub stress: StressData,
+    pub load: LoadData,
+    pub health: Table,
+    pub tolerance: Option<ToleranceData>,
+    pub safety: Vec<String>,
+    pub inputs: Table,
+    pub attachments: Vec<Attachment>,
+    pub plots: Vec<PlotData>,
+}
+
+/// What every block builder reads.
+pub(crate) struct Ctx<'a> {
+    pub(crate) job: &'a Job,
+    pub(crate) f: &'a Findings,
+    pub(crate) audience: Audience,
+}
+
+pub(crate) fn quantity(kind: PartKind) -> Quantity {
+    match kind {
+        PartKind::Capacitor => Quantity::Capacitance,
+        PartKind::Inductor => Quantity::Inductance,
+        PartKind::Resistor => Quantity::Resistance,
+    }
+}
+
+/// "3.3 uF, ESR 0.9 ohm" - a part's value and loss as a technician writes them.
+pub fn part_text(p: &Part) -> String {
+    let v = if p.auto_value && p.value == 0.0 {
+        "auto".to_string()
+    } else if p.value.is_infinite() {
+        "not fitted (open)".to_string()
+    } else {
+        format_si(p.value, quantity(p.kind), 3)
+    };
+    match p.kind {
+        PartKind::Capacitor => match p.tan_delta {
+            Some(d) => format!("{v}, tan δ {}", trim_number(d, 3)),
+            None => format!("{v}, ESR {}", ohm(p.esr)),
+        },
+        PartKind::Inductor => format!("{v}, DCR {}", ohm(p.dcr)),
+        PartKind::Resistor => v,
+    }
+}
+
+pub(crate) fn mime(name: &str) -> &'static str {
+    if name.ends_with(".yaml") || name.ends_with(".yml") {
+        "application/yaml"
+    } else if name.ends_with(".csv") {
+        "text/csv"
+    } else {
+        "text/plain"
+    }
+}
+
+pub(crate) fn sha256(bytes: &[u8]) -> String {
+    Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
+}
+
+fn block_data(b: &Block) -> BlockData {
+    let (kind, text, plot) = match b {
+        Block::Text(t) => ("text", Some(t.clone()), None),
+        Block::Plot(p) => ("plot", None, Some(p.name().to_string())),
+        Block::Levels => ("levels", None, None),
+        Block::Parts => ("parts", None, None),
+        Block::Compensation => ("compensation", None, None),
+        Block::Stress => ("stress", None, None),
+        Block::Load => ("load", None, None),
+        Block::Tolerance => ("tolerance", None, None),
+        Block::Health => ("health", None, None),
+        Block::Safety => ("safety", None, None),
+        Block::Appendix => ("appendix", None, None),
+    };
+    BlockData { kind: kind.into(), text, plot }
+}
+
+/// `plots` are the kinds drawn for this report, in order.
+pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -> ReportData {
+    let audience = Audience::of(template);
+    let c = Ctx { job, f, audience };
+    let info = &job.info;
+    let date = Date { year: info.date.year, month: info.date.month, day: info.date.day, text: info.date.to_string() };
+    let mut data = ReportData {
+        version: crate::results::VERSION.into(),
+        template: template.name().to_string(),
+        audience,
+        date,
+        job: header(&c),
+        blocks: job.blocks.as_ref().map(|b| b.iter().map(block_data).collect()),
+        drive: drive(&c),
+        summary: summary(&c),
+        work: work(&c),
+        levels: levels(&c),
+        compensation: compensation(&c),
+        parts: parts(&c),
+        drivers: drivers(&c),
+        stress: stress(&c),
+        load: load(&c),
+        health: health(&c),
+        tolerance: tolerance(&c),
+        safety: safety(&c),
+        inputs: inputs(&c),
+        attachments: attachments(&c),
+        plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k).into() }).collect(),
+    };
+    trade_units(&mut data);
+    data
+}
+
+/// Every computed sentence and figure in the trade's units; the job's own words (names,
+/// notes, text blocks) stay exactly as written.
+fn trade_units(d: &mut ReportData) {
+    let t = crate::units::trade;
+    let table = |tb: &mut Table| {
+        for r in &mut tb.rows {
+            for cell in &mut r.0 {
+                *cell = t(cell);
+            }
+        }
+        for h in &mut tb.header {
+            *h = t(h);
+        }
+    };
+    d.drive = t(&d.drive);
+    d.job.speaker.rated_impedance = t(&d.job.speaker.rated_impedance);
+    for s in d.summary.iter_mut().chain(&mut d.work).chain(&mut d.safety).chain(&mut d.compensation.notes).chain(&mut d.compensation.warnings).chain(&mut d.load.sentences) {
+        *s = t(s);
+    }
+    for b in [&mut d.levels.basis, &mut d.compensation.basis, &mut d.stress.basis, &mut d.load.basis] {
+        *b = t(b);
+    }
+    for tb in [
+        &mut d.levels.table,
+        &mut d.levels.crossovers,
+        &mut d.compensation.table,
+        &mut d.compensation.alternatives,
+        &mut d.parts,
+        &mut d.drivers,
+        &mut d.stress.table,
+        &mut d.stress.all,
+        &mut d.stress.drivers,
+        &mut d.load.table,
+        &mut d.health,
+    ] {
+        table(tb);
+    }
+    if let Some(tol) = &mut d.tolerance {
+        tol.basis = t(&tol.basis);
+        table(&mut tol.levels);
+        table(&mut tol.ranking);
+    }
+}

@@ -1,0 +1,252 @@
+//! The report's prose: what was found and what was done (in plain words for the customer and
+//! the buyer, with the figures for the archive), the work done step by step, and the cautions
+//! each reader needs.
+
+use super::words::*;
+use super::{part_text, Audience, Ctx};
+use crate::analysis::stress::StressRow;
+use crate::analysis::Findings;
+use crate::model::{ChangeStep, Part, PartKind, Patch, Scenario};
+use crate::results::{hz, ohm};
+use crate::units::trim_number;
+
+pub(super) fn summary(c: &Ctx) -> Vec<String> {
+    let (job, f) = (c.job, c.f);
+    let net = &job.network;
+    let plain = c.audience.plain();
+    let mut out = Vec::new();
+    let off: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| l.as_found_db.abs() >= 0.5).collect();
+    if job.measured.is_empty() {
+        out.push("No parts were measured before the work, so the figures before the work are those of the original design.".into());
+    } else if off.is_empty() {
+        out.push("Before the work, as worked out from the parts' readings, every driver was within 0.5 dB of the original design.".into());
+    } else {
+        let each: Vec<String> = off
+            .iter()
+            .map(|l| {
+                if l.as_found_fault {
+                    format!("{} was silent, a fault", driver_words(net, &l.driver))
+                } else {
+                    format!("{} was {}", driver_words(net, &l.driver), level_words(l.as_found_db))
+                }
+            })
+            .collect();
+        out.push(format!("Before the work, as worked out from the parts' readings, {}.", join_and(&each)));
+    }
+    let (ld, lf, ll) = (&f.loads.as_designed, &f.loads.as_found, &f.loads.as_left);
+    if lf.verdict == crate::analysis::Verdict::Over && ll.verdict != crate::analysis::Verdict::Over {
+        out.push(format!(
+            "As it came in, the speaker presented only {} to the amplifier at {} (the original design: {}), close to a short circuit: the amplifier that drove it should be checked.",
+            ohm(lf.min_ohm),
+            hz(Some(lf.min_at_hz)),
+            ohm(ld.min_ohm)
+        ));
+    }
+    let flagged: Vec<&str> = f.health.iter().filter(|h| !h.ok).map(|h| h.part.as_str()).collect();
+    if !flagged.is_empty() {
+        let words: Vec<String> = flagged
+            .iter()
+            .map(|p| match net.part(p) {
+                Some(part) if plain => format!("{p}, a {} in {}", kind_noun(part.kind), part_place(net, p)),
+                _ => p.to_string(),
+            })
+            .collect();
+        let n = flagged.len();
+        out.push(format!("The bench readings found {} worn or faulty part{}: {}.", count_words(n), if n == 1 { "" } else { "s" }, join_and(&words)));
+    }
+    if c.audience == Audience::Archive {
+        let n = job.changes.len();
+        out.push(capitalise(&format!("{} change step{} {} recorded (listed below).", count_words(n), if n == 1 { "" } else { "s" }, if n == 1 { "was" } else { "were" })));
+    }
+    let faults: Vec<String> = f.levels.iter().filter(|l| l.as_left_fault).map(|l| driver_words(net, &l.driver)).collect();
+    let fine: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| !l.as_left_fault).collect();
+    // The worst point over each driver's whole passband, not a band mean, which can hide a
+    // peak at the band's edge.
+    let worst = fine.iter().map(|l| l.passband_worst_db.abs()).fold(0.0, f64::max);
+    if !fine.is_empty() {
+        let every = if faults.is_empty() { "every driver" } else { "every other driver" };
+        let what = match (crate::analysis::level_flag(worst), plain) {
+            ("within 0.5 dB", true) => "a difference too small to hear (level changes below about 0.4 dB generally go unnoticed)".to_string(),
+            ("within 0.5 dB", false) => "within 0.5 dB; level changes below about 0.4 dB generally go unnoticed (Ballou, Handbook for Sound Engineers, 3.8.6)".to_string(),
+            ("measurable", _) => "a measurable difference, though hard to hear".to_string(),
+            (_, true) => "a difference likely to be heard".to_string(),
+            (other, false) => format!("{other}; 3 dB is double the power, not double the loudness"),
+        };
+        out.push(format!("After the work, {every} is calculated to play within {worst:.2} dB of the original design at every frequency of its working range: {what}."));
+    }
+    if !faults.is_empty() {
+        out.push(format!(
+            "After the work, {} plays more than {} dB below the original design: that is a fault (a driver shorted or disconnected), not a level difference. Do not use the speaker until it is found.",
+            join_and(&faults),
+            crate::analysis::compensate::FAULT_DB
+        ));
+    }
+    out
+}
+
+/// The work done, one line per change step: for the customer what was fitted, its type and
+/// rating; for the archive the values before and after.
+pub(super) fn work(c: &Ctx) -> Vec<String> {
+    let (found, left) = (&c.f.scenes.as_found, &c.f.scenes.as_left);
+    let (net_found, net_left) = (&found.network, &left.network);
+    c.job
+        .changes
+        .iter()
+        .map(|ch| match (&ch.step, c.audience.plain()) {
+            (ChangeStep::Replace { target, with: Patch::Part(_) }, true) => {
+                let (Some(old), Some(new)) = (net_found.part(target), net_left.part(target)) else { return format!("Replaced {target}.") };
+                let was = old.type_text.as_ref().map(|t| format!(" (was {})", with_article(t))).unwrap_or_default();
+                format!("Replaced {target}, a {} in {}, with {}{was}.", kind_noun(old.kind), part_place(net_left, target), fitted_words(c, new))
+            }
+            (ChangeStep::Replace { target, with: Patch::Part(_) }, false) => {
+                let (a, b) = (net_found.part(target), net_left.part(target));
+                let extra = b.map(|p| [p.type_text.clone(), rating_text(c, p)].into_iter().flatten().collect::<Vec<_>>().join(", ")).filter(|s| !s.is_empty());
+                format!(
+                    "{}. Replaced {}: {} (as found) -> {}{}",
+                    ch.number,
+                    target,
+                    a.map(part_text).unwrap_or_default(),
+                    b.map(part_text).unwrap_or_default(),
+                    extra.map(|e| format!("; {e}")).unwrap_or_default()
+                )
+            }
+            (ChangeStep::Replace { target, with: Patch::Driver(p) }, plain) => {
+                let note = p.note.as_ref().map(|n| format!(": {n}")).unwrap_or_default();
+                if plain {
+                    format!("Replaced {}{note}.", driver_words(net_left, target))
+                } else {
+                    format!("{}. Replaced driver {target}{note}", ch.number)
+                }
+            }
+            (ChangeStep::Insert { part, node, next_to }, plain) => added_line(c, ch.number, part, plain, Some((node, next_to))),
+            (ChangeStep::Add { parts }, plain) => parts.iter().map(|p| added_line(c, ch.number, p, plain, None)).collect::<Vec<_>>().join(" "),
+            (ChangeStep::Remove { target }, true) => match net_found.part(target) {
+                Some(p) => format!("Removed {target}, a {} in {}.", kind_noun(p.kind), part_place(net_found, target)),
+                None => format!("Removed {target}."),
+            },
+            (ChangeStep::Remove { target }, false) => format!("{}. Removed {}", ch.number, target),
+        })
+        .collect()
+}
+
+pub(super) fn with_article(t: &str) -> String {
+    if t.starts_with(['a', 'e', 'i', 'o', 'u', 'A', 'E', 'I', 'O', 'U']) {
+        format!("an {t}")
+    } else {
+        format!("a {t}")
+    }
+}
+
+pub(super) fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, insert: Option<(&String, &String)>) -> String {
+    let net_left = &c.f.scenes.as_left.network;
+    let fitted = net_left.part(&part.name).unwrap_or(part);
+    let fit = c.f.compensation.fits.iter().find(|f| f.part == part.name);
+    if plain {
+        if fit.is_some_and(|f| f.is_none()) {
+            return format!("{} was planned in {} but was not needed: the level matched without it.", part.name, part_place(net_left, &part.name));
+        }
+        let why = fit.map(|f| format!(" to bring {} back to its original level", driver_words(net_left, &f.driver))).unwrap_or_default();
+        return format!("Fitted {}, {}, in {}{why}.", part.name, fitted_words(c, fitted), part_place(net_left, &part.name));
+    }
+    match insert {
+        Some((node, next_to)) => format!(
+            "{number}. Inserted {} ({}{}) in series between node {node} and {next_to}",
+            part.name,
+            part_text(fitted),
+            rating_text(c, fitted).map(|r| format!(", {r}")).unwrap_or_default()
+        ),
+        None => format!("{number}. Added {} ({}, {} - {})", part.name, part_text(fitted), net_left.node_label(&part.between[0]), net_left.node_label(&part.between[1])),
+    }
+}
+
+/// The parts and drivers over their rating as left, by name.
+pub(super) fn over_as_left(f: &Findings) -> Vec<String> {
+    let parts = f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.verdict == crate::analysis::Verdict::Over).map(|r| r.part.clone());
+    let drivers = f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft && d.verdict == crate::analysis::Verdict::Over).map(|d| d.driver.clone());
+    parts.chain(drivers).collect()
+}
+
+/// The nominal load an amplifier should be rated for to drive a speaker whose impedance
+/// falls to `min_ohm`: the highest of 8, 6, 4 and 2 ohm whose 80 % floor (IEC 60268-5) the
+/// dip stays above; None when it falls below even 2 ohm's.
+pub(super) fn amplifier_rating(min_ohm: f64) -> Option<f64> {
+    [8.0, 6.0, 4.0, 2.0].into_iter().find(|r| min_ohm >= crate::analysis::load::rated_floor(*r))
+}
+
+/// Cautions for this report's reader: the customer and the buyer need the amplifier, the
+/// load and listening levels; the archive keeps every caution of the bench as well.
+pub(super) fn safety(c: &Ctx) -> Vec<String> {
+    let (job, f) = (c.job, c.f);
+    let a = &job.amplifier;
+    let mut s = Vec::new();
+    let over = over_as_left(f);
+    if c.audience.plain() {
+        s.push("These figures are calculated from the parts' values and readings; the shop confirms them by measurement.".to_string());
+        s.push(format!(
+            "Amplifier: use one of up to {} W into {} ohm, the power these figures assume. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.",
+            trim_number(a.power_w, 3),
+            trim_number(a.into_ohm, 3)
+        ));
+        s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
+            Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
+            None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
+        });
+        if !over.is_empty() {
+            s.push(format!(
+                "{} would run above {} rating at that amplifier's full power: keep the volume moderate until the shop fits a higher-rated part.",
+                join_and(&over),
+                if over.len() == 1 { "its" } else { "their" }
+            ));
+        }
+        s.push("Listening levels: long sessions at high volume damage hearing for good; keep levels moderate and take breaks.".into());
+        s.push("Follow local electrical codes, the amplifier's and the speaker's makers' ratings, and qualified service practice.".into());
+        return s;
+    }
+    s.push("All figures here are computed from the job's values and models; confirm them by measurement before relying on them.".to_string());
+    let as_left = |r: &&StressRow| r.scenario == Scenario::AsLeft && r.kind == PartKind::Resistor && r.programme_w > 0.0;
+    let resistors: Vec<&StressRow> = f.stress.rows.iter().filter(as_left).collect();
+    if !resistors.is_empty() {
+        s.push("Crossover resistors get hot. Mount them clear of capacitors, wiring and wadding, with space for air; rate them at least twice their programme dissipation (common practice).".into());
+        let tone: Vec<String> = resistors
+            .iter()
+            .filter(|r| r.rating_w.is_some_and(|w| r.sine_w > w))
+            .map(|r| {
+                format!(
+                    "{} ({} W near {} in {} {} W part)",
+                    r.part,
+                    trim_number(r.sine_w, 3),
+                    hz(Some(r.sine_at_hz)),
+                    crate::units::a_or_an(r.rating_w.unwrap_or(0.0)),
+                    trim_number(r.rating_w.unwrap_or(0.0), 3)
+                )
+            })
+            .collect();
+        if !tone.is_empty() {
+            s.push(format!(
+                "A full-level test tone would overheat {}: ratings chosen here cover programme, not a sustained sine, so keep bench tones low and short.",
+                join_and(&tone)
+            ));
+        }
+    }
+    if !over.is_empty() {
+        s.push(format!(
+            "As left, {} {} over {} rating at the stated amplifier power: keep the level down until {} replaced with a suitably rated part.",
+            join_and(&over),
+            if over.len() == 1 { "is" } else { "are" },
+            if over.len() == 1 { "its" } else { "their" },
+            if over.len() == 1 { "it is" } else { "they are" }
+        ));
+    }
+    if f.scenes.as_left.network.parts.iter().any(|p| p.kind == PartKind::Capacitor) {
+        s.push("Use only non-polarised capacitors in a crossover (film, or bipolar electrolytic): a polarised electrolytic fitted there can fail, overheat or vent.".into());
+    }
+    s.push("The amplifier's load is given in the load section above; follow the amplifier maker's minimum load rating.".into());
+    s.push("Disconnect the amplifier before working on the crossover, and let large capacitors in the amplifier discharge as its maker describes.".into());
+    s.push(
+        "Bench tests: start at a low level, keep test tones short, and wear hearing protection near the drivers; a tweeter driven with a full-level sine can fail in seconds."
+            .into(),
+    );
+    s.push("Soldering: work in a ventilated place, extract the fumes, and wash your hands after handling old parts and solder.".into());
+    s.push("These notes defer to local electrical codes, to the amplifier's and drivers' makers' ratings, and to qualified service practice.".into());
+    s
+}
