@@ -151,12 +151,22 @@ pub fn wrap(text: &str, width: usize) -> String {
 }
 
 /// Plain-text tables for the terminal: the compensation plan first, then levels,
-/// crossovers, load and stress.
+/// crossovers, load, stress, part health and tolerance.
 pub fn text(job: &Job, f: &Findings) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "voicekeep {VERSION} - job {} ({}), {}", job.info.number, job.info.date, job.info.speaker_description);
     let _ = writeln!(s, "sweep {} to {}, {} points; amplifier {}", hz(f.freqs.first().copied()), hz(f.freqs.last().copied()), f.freqs.len(), f.stress.amplifier);
     let _ = writeln!(s);
+    compensation_text(&mut s, job, f);
+    levels_text(&mut s, job, f);
+    load_text(&mut s, job, f);
+    stress_text(&mut s, job, f);
+    health_text(&mut s, job, f);
+    s
+}
+
+/// The compensation plan: each fit, its alternatives and warnings.
+fn compensation_text(s: &mut String, _job: &Job, f: &Findings) {
     let _ = writeln!(s, "COMPENSATION");
     if f.compensation.fits.is_empty() {
         let _ = writeln!(s, "  no `value: auto` parts in this job");
@@ -227,6 +237,10 @@ pub fn text(job: &Job, f: &Findings) -> String {
         let _ = writeln!(s, "  warning ({}): {}", w.subject, w.message);
     }
     let _ = writeln!(s);
+}
+
+/// The levels table and the crossovers.
+fn levels_text(s: &mut String, _job: &Job, f: &Findings) {
     let _ = writeln!(s, "LEVELS (band mean, dB re as designed)");
     let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
     for l in &f.levels {
@@ -241,6 +255,10 @@ pub fn text(job: &Job, f: &Findings) -> String {
         }
     }
     let _ = writeln!(s);
+}
+
+/// The load in each scenario.
+fn load_text(s: &mut String, job: &Job, f: &Findings) {
     let _ = writeln!(s, "LOAD (at the amplifier terminals; {})", job.rated_impedance_basis());
     for (sc, l) in Scenario::ALL.iter().zip(&f.loads) {
         let _ = writeln!(
@@ -258,6 +276,10 @@ pub fn text(job: &Job, f: &Findings) -> String {
         );
     }
     let _ = writeln!(s);
+}
+
+/// Stress as left, part by part and driver by driver.
+fn stress_text(s: &mut String, job: &Job, f: &Findings) {
     let _ = writeln!(
         s,
         "STRESS as left (sine {}; programme {} at {} W into {} ohm)",
@@ -272,6 +294,10 @@ pub fn text(job: &Job, f: &Findings) -> String {
     for d in f.stress.drivers.iter().filter(|r| r.scenario == Scenario::AsLeft) {
         let _ = writeln!(s, "  {:<8} {:<5} {}", d.driver, d.verdict, d.reason);
     }
+}
+
+/// Part health and the tolerance spread, when the job has them.
+fn health_text(s: &mut String, _job: &Job, f: &Findings) {
     if !f.health.is_empty() {
         let _ = writeln!(s);
         let _ = writeln!(s, "PART HEALTH (bench readings)");
@@ -286,5 +312,4 @@ pub fn text(job: &Job, f: &Findings) -> String {
             let _ = writeln!(s, "  {:<8} as left: 5-95 % band {:+.2} to {:+.2} dB", l.driver, l.p5_db, l.p95_db);
         }
     }
-    s
 }
