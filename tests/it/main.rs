@@ -4,6 +4,7 @@
 mod analytic;
 mod bad;
 mod commands;
+mod fixtures;
 mod golden;
 mod nodal;
 mod reference;
