@@ -120,15 +120,18 @@ fn gross(p: &Part, v: f64) -> Option<String> {
 
 /// The change of each driver's band level when `apply` is made to the original design; the
 /// largest, with its driver.
-fn effect(amp: &Amplifier, freqs: &[f64], bands: &[Band], designed: &Scene, part: &str, apply: impl Fn(&mut Part)) -> (f64, String) {
-    let mut net = designed.network.clone();
-    if let Some(p) = net.part_mut(part) {
-        apply(p);
-    }
-    let Ok(db) = driver_levels(&net, amp, freqs) else { return (0.0, String::new()) };
+/// Each driver's band-level change (network order) when `reading` alone is applied to the
+/// original design: what that one reading does, whatever else was read.
+pub fn reading_shift(reading: &Reading, amp: &Amplifier, freqs: &[f64], bands: &[Band], designed: &Scene) -> Vec<f64> {
+    let net = crate::model::found(&designed.network, std::slice::from_ref(reading));
+    let Ok(db) = driver_levels(&net, amp, freqs) else { return vec![0.0; designed.network.drivers.len()] };
+    (0..designed.network.drivers.len()).map(|di| mean_over(&db[di], &bands[di].idx) - mean_over(&designed.db[di], &bands[di].idx)).collect()
+}
+
+/// The largest of a reading's shifts, with its driver.
+fn effect(reading: &Reading, amp: &Amplifier, freqs: &[f64], bands: &[Band], designed: &Scene) -> (f64, String) {
     let mut best = (0.0f64, String::new());
-    for (di, d) in designed.network.drivers.iter().enumerate() {
-        let m = mean_over(&db[di], &bands[di].idx) - mean_over(&designed.db[di], &bands[di].idx);
+    for (m, d) in reading_shift(reading, amp, freqs, bands, designed).into_iter().zip(&designed.network.drivers) {
         if m.is_finite() && m.abs() > best.0.abs() {
             best = (m, d.name.clone());
         }
@@ -205,7 +208,7 @@ pub fn flags(measured: &[Reading], amp: &Amplifier, freqs: &[f64], bands: &[Band
         let Some(p) = designed.network.part(&r.target) else { continue };
         let found = findings(p, m);
         let ok = found.is_empty();
-        let (effect_db, effect_driver) = effect(amp, freqs, bands, designed, &p.name, |q| m.apply_reading(q));
+        let (effect_db, effect_driver) = effect(r, amp, freqs, bands, designed);
         let mut message = if ok { "within its tolerance and its type's limits".to_string() } else { found.join("; ") };
         if let Some(first) = message.get(..1) {
             message = first.to_uppercase() + &message[1..];

@@ -8,6 +8,7 @@ pub mod eseries;
 pub mod health;
 pub mod levels;
 pub mod load;
+pub mod pair;
 pub mod programme;
 pub mod scene;
 pub mod stress;
@@ -169,8 +170,40 @@ pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
     analyse_with(job, &Quiet)
 }
 
+/// What a job's analysis gives: one cabinet's findings, or a pair's or set's.
+pub enum Outcome {
+    One(Box<Findings>),
+    Set(Box<pair::SetFindings>),
+}
+
+/// Every finding for a job of one cabinet or several.
+pub fn analyse_job(job: &Job, progress: &dyn Progress) -> Result<Outcome, AnalysisError> {
+    if job.cabinets.is_empty() {
+        analyse_with(job, progress).map(|f| Outcome::One(Box::new(f)))
+    } else {
+        pair::analyse_set(job, progress).map(|s| Outcome::Set(Box::new(s)))
+    }
+}
+
 /// Every finding for `job`, with the Monte Carlo's progress reported to `progress`.
 pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, AnalysisError> {
+    let pre = prepare(job)?;
+    let plan = plan_of(job, &pre)?;
+    finish(job, pre, plan, &Default::default(), progress)
+}
+
+/// The first stage of an analysis: the sweep and stress grid, the design and as-found scenes,
+/// the as-left network with its auto parts unsolved, and each driver's band.
+pub struct Prepared {
+    pub freqs: Vec<f64>,
+    pub grid: StressGrid,
+    pub designed: Scene,
+    pub found: Scene,
+    pub unsolved: crate::model::Network,
+    pub bands: Vec<Band>,
+}
+
+pub fn prepare(job: &Job) -> Result<Prepared, AnalysisError> {
     let amp = &job.amplifier;
     let freqs = job.analysis.sweep.frequencies();
     let grid = StressGrid::new(job.analysis.programme, &freqs);
@@ -178,7 +211,6 @@ pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, Anal
     let designed = solve(Scenario::AsDesigned, job.network.clone())?;
     let found = solve(Scenario::AsFound, job.as_found())?;
     let unsolved = job.as_left_unsolved().map_err(AnalysisError::Step)?;
-
     // Bands: the compensate entry's band where one names the driver, else the passband.
     let bands: Vec<Band> = job
         .network
@@ -190,33 +222,42 @@ pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, Anal
             None => passband(&freqs, &designed.db[i]),
         })
         .collect();
+    Ok(Prepared { freqs, grid, designed, found, unsolved, bands })
+}
 
+/// The compensation plan of a prepared job.
+pub fn plan_of(job: &Job, pre: &Prepared) -> Result<compensate::Plan, AnalysisError> {
     let cx = compensate::Context {
         entries: &job.compensate,
         design: &job.network,
         changes: &job.changes,
-        amp,
-        freqs: &freqs,
-        bands: &bands,
-        designed: &designed,
-        found: &found,
-        unsolved: &unsolved,
+        amp: &job.amplifier,
+        freqs: &pre.freqs,
+        bands: &pre.bands,
+        designed: &pre.designed,
+        found: &pre.found,
+        unsolved: &pre.unsolved,
     };
-    let plan = compensate::plan(&cx).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
-    let left = solve(Scenario::AsLeft, plan.network.clone())?;
-    let scenes = Scenes { as_designed: designed, as_found: found, as_left: left };
+    compensate::plan(&cx).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))
+}
 
+/// The rest of the findings, once the plan is known; `floors` raises chosen resistor ratings
+/// to a pair's worse cabinet.
+pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::collections::BTreeMap<String, f64>, progress: &dyn Progress) -> Result<Findings, AnalysisError> {
+    let amp = &job.amplifier;
+    let Prepared { freqs, grid, designed, found, bands, .. } = pre;
+    let left = Scene::build(Scenario::AsLeft, plan.network.clone(), amp, &freqs, &grid).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
+    let scenes = Scenes { as_designed: designed, as_found: found, as_left: left };
     let drivers = &job.network.drivers;
     let levels = level_rows(drivers, &freqs, &bands, &scenes);
     let crossovers = crossover_rows(drivers, &freqs, &bands, &scenes);
     let corners = corner_rows(&freqs, &scenes);
     let rated = job.rated_impedance_ohm();
     let loads = scenes.map(|s| load::load(&freqs, &s.z, rated, job.info.rated_range));
-    let stress = stress::stress(amp, job.analysis.programme, &grid, &scenes.iter().collect::<Vec<_>>());
+    let stress = stress::stress(amp, job.analysis.programme, &grid, &scenes.iter().collect::<Vec<_>>(), floors);
     let health = health::flags(&job.measured, amp, &freqs, &bands, &scenes.as_designed);
     let tolerance =
         job.analysis.tolerance.as_ref().map(|t| tolerance::run(t, &freqs, &bands, &scenes, progress)).transpose().map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
     let acoustic = acoustic_sum(&scenes, &freqs);
-
     Ok(Findings { freqs, grid, scenes, bands, levels, crossovers, corners, compensation: plan, stress, loads, health, tolerance, acoustic })
 }

@@ -118,14 +118,15 @@ fn driver_power(s: &Scene, d: &Driver, x: &Figures) -> DriverPower {
     DriverPower { scenario: s.scenario, driver: d.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason }
 }
 
-/// A resistor's rating (the job's, or one chosen from its programme dissipation) and verdict.
-fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures) {
+/// A resistor's rating (the job's, or one chosen from its programme dissipation, at least
+/// `floor`: the rating the worse cabinet of a pair needs) and verdict.
+fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures, floor: Option<f64>) {
     let (prog, sine) = (x.programme, x.sine);
     let rating = match part.rating {
         Rating::Given(v) => Some(v),
         Rating::Auto => {
             row.rating_chosen = true;
-            Some(choose_rating(prog))
+            Some(choose_rating(prog).max(floor.unwrap_or(0.0)))
         }
         Rating::None => None,
     };
@@ -188,7 +189,9 @@ fn inductor(row: &mut StressRow, part: &Part, x: &Figures) {
 
 /// Every part's and driver's figures in every scene, at the sine and programme drives of
 /// `amp`, on the stress grid.
-pub fn stress(amp: &Amplifier, programme_kind: Programme, grid: &StressGrid, scenes: &[&Scene]) -> Stress {
+/// `floors` raises the rating chosen for a `rating: auto` resistor to that of the worse
+/// cabinet of a pair (empty for one cabinet).
+pub fn stress(amp: &Amplifier, programme_kind: Programme, grid: &StressGrid, scenes: &[&Scene], floors: &std::collections::BTreeMap<String, f64>) -> Stress {
     let freqs = &grid.freqs;
     let (e, ep) = (amp.e_rms(), amp.programme_e_rms());
     let mut rows = Vec::new();
@@ -223,8 +226,8 @@ pub fn stress(amp: &Amplifier, programme_kind: Programme, grid: &StressGrid, sce
                 reason: String::new(),
             };
             match (part.kind, &el.model) {
-                (PartKind::Resistor, ElementModel::Resistor { r }) => resistor(&mut row, part, *r, &x),
-                (PartKind::Resistor, _) => resistor(&mut row, part, part.value, &x),
+                (PartKind::Resistor, ElementModel::Resistor { r }) => resistor(&mut row, part, *r, &x, floors.get(&part.name).copied()),
+                (PartKind::Resistor, _) => resistor(&mut row, part, part.value, &x, floors.get(&part.name).copied()),
                 (PartKind::Capacitor, _) => capacitor(&mut row, part, &x),
                 (PartKind::Inductor, _) => inductor(&mut row, part, &x),
             }

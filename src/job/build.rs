@@ -24,19 +24,57 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
     let network_whole = raw.network_whole && ctx.diags.len() == before;
     let network = network?;
     let before = ctx.diags.len();
-    let measured = measured(&raw.measured, &network, ctx);
-    let changes = changes(&raw.changes, &network, ctx);
+    let measured = measured(&raw.measured, &network, "measured", ctx);
+    let changes = changes(&raw.changes, &network, &[], "changes", ctx);
+    let cabinets: Vec<Cabinet> = raw
+        .cabinets
+        .iter()
+        .map(|c| {
+            let field = format!("cabinets.{}", c.name);
+            Cabinet {
+                name: c.name.clone(),
+                pos: c.pos,
+                measured: self::measured(&c.measured, &network, &format!("{field}.measured"), ctx),
+                changes: self::changes(&c.changes, &network, &changes, &format!("{field}.changes"), ctx),
+            }
+        })
+        .collect();
     let steps_whole = ctx.diags.len() == before;
-    let compensate = compensate(raw.compensate, &network, &changes, ctx);
+    // A cabinet is named by its serial: one the job's speaker does not list is a slip.
+    if let Some(info) = raw.info.as_ref().filter(|i| !i.serials.is_empty()) {
+        for c in raw.cabinets.iter().filter(|c| !info.serials.contains(&c.name)) {
+            ctx.error(
+                c.pos,
+                &format!("cabinets.{}", c.name),
+                format!("\"{}\" is not one of the serials in job.speaker.serials ({})", c.name, info.serials.join(", ")),
+                Some(match suggest(&c.name, info.serials.iter().map(String::as_str)) {
+                    Some(s) => format!("did you mean `{s}`? name each cabinet by its serial, or add the serial to job.speaker.serials"),
+                    None => "name each cabinet by its serial, or add the serial to job.speaker.serials".into(),
+                }),
+            );
+        }
+    }
+    let all_changes: Vec<Change> = changes.iter().chain(cabinets.iter().flat_map(|c| &c.changes)).cloned().collect();
+    let compensate = compensate(raw.compensate, &network, &all_changes, ctx);
     let template = template(raw.template, ctx);
     // Every check runs on what could be read, so one pass lists every problem: connections
     // once every part and driver was read, the steps once every step was, the tables and
     // bands once the sweep was.
     if network_whole {
         checks::connections(&network, if steps_whole { Some((&measured, &changes)) } else { None }, ctx);
+        if steps_whole {
+            // Each cabinet's own steps must apply after the common ones, and leave it whole.
+            for c in &cabinets {
+                let m: Vec<Reading> = measured.iter().chain(&c.measured).cloned().collect();
+                let ch: Vec<Change> = changes.iter().chain(&c.changes).cloned().collect();
+                if !c.changes.is_empty() {
+                    checks::cabinet_steps(&network, &m, &ch, changes.len(), &format!("cabinets.{}.changes", c.name), ctx);
+                }
+            }
+        }
     }
     if let Some(a) = &raw.analysis {
-        checks::coverage(&network, &changes, &compensate, &a.sweep, ctx);
+        checks::coverage(&network, &all_changes, &compensate, &a.sweep, ctx);
     }
     Some(Job {
         info: raw.info.unwrap_or_default(),
@@ -44,6 +82,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         network,
         measured,
         changes,
+        cabinets,
         compensate,
         analysis: raw.analysis?,
         template,
@@ -171,11 +210,13 @@ fn driver_reading(f: &Fields, d: &Driver, ctx: &mut Ctx) -> Option<DriverPatch> 
     })
 }
 
-fn measured(entries: &[Entry], net: &Network, ctx: &mut Ctx) -> Vec<Reading> {
+/// The bench readings of `entries` (written under `field`), read against the parts and
+/// drivers they name.
+fn measured(entries: &[Entry], net: &Network, field: &str, ctx: &mut Ctx) -> Vec<Reading> {
     let mut out = Vec::new();
     for e in entries {
         let (k, v) = (e.key, e.node);
-        let path = format!("measured.{}", k.name);
+        let path = format!("{field}.{}", k.name);
         let patch = match find_target(net, &[], &k.name, k.pos, &path, ctx) {
             Some(Target::Part(p)) => ctx.fields(v, &path, READING_PART_KEYS).and_then(|f| part_fields(&f, p.kind, ctx, false)).map(Patch::Part),
             Some(Target::Driver(d)) => ctx.fields(v, &path, READING_DRIVER_KEYS).and_then(|f| driver_reading(&f, d, ctx)).map(Patch::Driver),
@@ -211,13 +252,22 @@ fn replacement(target: Target, with: &Node, path: &str, ctx: &mut Ctx) -> Option
     }
 }
 
-fn changes(raw: &[RawChange], net: &Network, ctx: &mut Ctx) -> Vec<Change> {
+/// The change steps of `raw` (written under `field`), after the steps `prior` (a cabinet's own
+/// steps come after the job's common ones).
+fn changes(raw: &[RawChange], net: &Network, prior: &[Change], field: &str, ctx: &mut Ctx) -> Vec<Change> {
     let mut out = Vec::new();
     // Parts added by earlier steps, so later steps may name them.
-    let mut added: Vec<Part> = Vec::new();
+    let mut added: Vec<Part> = prior
+        .iter()
+        .flat_map(|c| match &c.step {
+            ChangeStep::Add { parts } => parts.clone(),
+            ChangeStep::Insert { part, .. } => vec![part.clone()],
+            _ => Vec::new(),
+        })
+        .collect();
     let is_new = |name: &str, added: &[Part]| net.part(name).is_none() && net.driver(name).is_none() && !added.iter().any(|p| p.name == name);
     for c in raw {
-        let path = format!("changes[{}]", c.number);
+        let path = format!("{field}[{}]", c.number);
         let step = match &c.step {
             RawStep::Replace { target, target_pos, with, with_path } => {
                 let Some(t) = find_target(net, &added, target, *target_pos, &format!("{path}.replace"), ctx) else { continue };

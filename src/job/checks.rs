@@ -23,13 +23,24 @@ pub(crate) fn connections(network: &Network, steps: Option<(&[Reading], &[Change
         ctx.error(pos_of(&name, network), &format!("network.{}", if name.is_empty() { "input".to_string() } else { name.clone() }), msg, Some(hint));
     }
     let Some((measured, changes)) = steps else { return };
+    steps_apply(network, measured, changes, changes.len(), "changes", ctx);
+}
+
+/// Reports a step of a cabinet that cannot apply, or a network its steps leave open:
+/// `changes` are the job's `common` steps, then the cabinet's own (written under `field`).
+pub(crate) fn cabinet_steps(network: &Network, measured: &[Reading], changes: &[Change], common: usize, field: &str, ctx: &mut Ctx) {
+    steps_apply(network, measured, changes, common, field, ctx);
+}
+
+fn steps_apply(network: &Network, measured: &[Reading], changes: &[Change], common: usize, field: &str, ctx: &mut Ctx) {
     match left_unsolved(network, measured, changes) {
+        Err(e) if e.number > common => ctx.error(e.pos, &format!("{field}[{}]", e.number - common), e.message, None),
         Err(e) => ctx.error(e.pos, &format!("changes[{}]", e.number), e.message, None),
         Ok(left) => {
             if network.connection_problems().is_empty() {
                 for (_, _, msg) in left.connection_problems() {
                     let step = changes.last().map(|c| c.pos).unwrap_or(Pos { line: 1, col: 1 });
-                    ctx.error(step, "changes", format!("after the changes, {msg}"), Some("a removed part leaves its nodes open; add or insert what replaces it".into()));
+                    ctx.error(step, field, format!("after the changes, {msg}"), Some("a removed part leaves its nodes open; add or insert what replaces it".into()));
                 }
             }
         }

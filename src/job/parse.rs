@@ -12,7 +12,7 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
-const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "compensate", "analysis", "report"];
+const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "analysis", "report"];
 
 pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let mut top = ctx.fields(root, "", JOB_KEYS)?;
@@ -38,23 +38,24 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let network_whole = ctx.diags.len() == before;
     let analysis = ctx.req(&top, "analysis", "the sweep").and_then(|n| analysis(n, ctx));
     let measured = top.get("measured").map(|n| map_entries(n, "measured", ctx).iter().map(|(key, node)| Entry { key, node }).collect()).unwrap_or_default();
-    let changes = top.get("changes").map(|n| changes(n, ctx)).unwrap_or_default();
+    let changes = top.get("changes").map(|n| changes(n, "changes", ctx)).unwrap_or_default();
+    let cabinets = top.get("cabinets").map(|n| cabinets(n, ctx)).unwrap_or_default();
     let compensate = top.get("compensate").map(|n| compensate(n, ctx)).unwrap_or_default();
     let (template, blocks) = top.get("report").map(|n| report(n, ctx)).unwrap_or((RawTemplate::Customer, None));
-    Some(RawJob { info, amplifier, network, network_whole, measured, changes, compensate, analysis, template, blocks })
+    Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, analysis, template, blocks })
 }
 
 /// The change steps as written: each one action, its parts read; what they name is found
 /// in the build stage.
-fn changes<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawChange<'n>> {
+fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>> {
     let Node::Seq { items, .. } = node else {
-        ctx.error(node.pos(), "changes", format!("expected a list of steps (- replace: C1 ...), found {}", node.kind_name()), None);
+        ctx.error(node.pos(), field, format!("expected a list of steps (- replace: C1 ...), found {}", node.kind_name()), None);
         return Vec::new();
     };
     let mut out = Vec::new();
     for (i, item) in items.iter().enumerate() {
         let number = i + 1;
-        let path = format!("changes[{number}]");
+        let path = format!("{field}[{number}]");
         let Some(f) = ctx.fields(item, &path, &["replace", "with", "insert", "remove", "add"]) else { continue };
         let verbs: Vec<&str> = ["replace", "insert", "remove", "add"].into_iter().filter(|k| f.get(k).is_some()).collect();
         let [verb] = verbs.as_slice() else {
@@ -107,6 +108,32 @@ fn changes<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawChange<'n>> {
     out
 }
 
+/// The cabinets of a pair or set, keyed by name (a serial), each with its own `measured`
+/// readings and `changes` steps.
+fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
+    let mut out = Vec::new();
+    for (k, v) in map_entries(node, "cabinets", ctx) {
+        let path = format!("cabinets.{}", k.name);
+        if k.name.trim().is_empty() {
+            ctx.error(k.pos, &path, "a cabinet needs a name, such as its serial", None);
+            continue;
+        }
+        // A cabinet with nothing of its own is written `NAME: {}` or with no value at all.
+        if v.is_null() {
+            out.push(RawCabinet { name: k.name.clone(), pos: k.pos, measured: Vec::new(), changes: Vec::new() });
+            continue;
+        }
+        let Some(f) = ctx.fields(v, &path, &["measured", "changes"]) else { continue };
+        let measured = f.get("measured").map(|n| map_entries(n, &f.at("measured"), ctx).iter().map(|(key, node)| Entry { key, node }).collect()).unwrap_or_default();
+        let changes = f.get("changes").map(|n| changes(n, &f.at("changes"), ctx)).unwrap_or_default();
+        out.push(RawCabinet { name: k.name.clone(), pos: k.pos, measured, changes });
+    }
+    if let [one] = out.as_slice() {
+        ctx.error(one.pos, "cabinets", "one cabinet is not a pair: give two or more, or write its readings and steps at the top of the job", None);
+    }
+    out
+}
+
 /// The compensate entries as written; the parts and drivers they name are found later.
 fn compensate(node: &Node, ctx: &mut Ctx) -> Vec<RawCompensate> {
     let mut out = Vec::new();
@@ -133,9 +160,10 @@ fn compensate(node: &Node, ctx: &mut Ctx) -> Vec<RawCompensate> {
         };
         let bad_band = f.get("band").is_some() && band.is_none();
         match (driver, reference, series, keep_impedance) {
-            (Some((driver, driver_pos)), Some(reference), Some(series), Some(keep_impedance)) if !bad_band => {
-                out.push(RawCompensate { entry: CompensateEntry { part: k.name.clone(), driver, reference, band, band_pos, series, keep_impedance, pos: k.pos }, driver_pos })
-            }
+            (Some((driver, driver_pos)), Some(reference), Some(series), Some(keep_impedance)) if !bad_band => out.push(RawCompensate {
+                entry: CompensateEntry { part: k.name.clone(), driver, reference, band, band_pos, series, keep_impedance, common_ohm: None, pos: k.pos },
+                driver_pos,
+            }),
             // The entry is there but wrong: its own messages say so, not "no entry" again.
             _ => ctx.failed.push(k.name.clone()),
         }
@@ -271,7 +299,18 @@ fn network(node: &Node, ctx: &mut Ctx) -> Option<RawNetwork> {
 }
 
 fn analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
-    let f = ctx.fields(node, "analysis", &["sweep", "programme", "tolerance"])?;
+    let f = ctx.fields(node, "analysis", &["sweep", "programme", "tolerance", "pair_tolerance"])?;
+    let pair_tolerance = match f.get("pair_tolerance") {
+        Some(n) => match ctx.value(n, &f.at("pair_tolerance"), Quantity::Decibel) {
+            Some(v) if v > 0.0 && v <= 6.0 => Some(v),
+            Some(_) => {
+                ctx.error(n.pos(), &f.at("pair_tolerance"), "the pair tolerance must be above 0 dB and at most 6 dB", Some("0.5 dB is usual (common practice)".into()));
+                None
+            }
+            None => None,
+        },
+        None => Some(0.5),
+    };
     let sweep = match ctx.req(&f, "sweep", "{ from: 10 Hz, to: 40 kHz, per_octave: 24 } or { at: [...] }") {
         Some(n) => sweep(n, ctx),
         None => None,
@@ -316,7 +355,7 @@ fn analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
         }
         None => Some(None),
     };
-    Some(Analysis { sweep: sweep?, programme: programme?, tolerance: tolerance? })
+    Some(Analysis { sweep: sweep?, programme: programme?, tolerance: tolerance?, pair_tolerance_db: pair_tolerance? })
 }
 
 fn sweep(node: &Node, ctx: &mut Ctx) -> Option<Sweep> {

@@ -101,6 +101,14 @@ pub enum RawTemplate {
     File { name: String, pos: Pos },
 }
 
+/// One cabinet of a pair or set as written: its readings and its own steps.
+pub struct RawCabinet<'n> {
+    pub name: String,
+    pub pos: Pos,
+    pub measured: Vec<Entry<'n>>,
+    pub changes: Vec<RawChange<'n>>,
+}
+
 pub struct RawJob<'n> {
     pub info: Option<JobInfo>,
     pub amplifier: Option<Amplifier>,
@@ -109,6 +117,7 @@ pub struct RawJob<'n> {
     pub network_whole: bool,
     pub measured: Vec<Entry<'n>>,
     pub changes: Vec<RawChange<'n>>,
+    pub cabinets: Vec<RawCabinet<'n>>,
     pub compensate: Vec<RawCompensate>,
     pub analysis: Option<Analysis>,
     pub template: RawTemplate,

@@ -109,6 +109,9 @@ pub struct CompensateEntry {
     /// Hold the impedance the driver's filter sees to the reference's as well as the level
     /// (a series and shunt pair fitted as an L-pad).
     pub keep_impedance: bool,
+    /// A value the whole pair or set is fitted with, decided across its cabinets; never
+    /// written in the job file.
+    pub common_ohm: Option<f64>,
     pub pos: Pos,
 }
 
@@ -165,6 +168,19 @@ pub struct Analysis {
     pub sweep: Sweep,
     pub programme: Programme,
     pub tolerance: Option<ToleranceRuns>,
+    /// How far apart the cabinets of a pair or set may play and still match (dB; 0.5 dB
+    /// unless the job says, common practice).
+    pub pair_tolerance_db: f64,
+}
+
+/// One cabinet of a pair or set: its own bench readings and the change steps made to it
+/// alone (after the job's common ones).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Cabinet {
+    pub name: String,
+    pub pos: Pos,
+    pub measured: Vec<Reading>,
+    pub changes: Vec<Change>,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -216,12 +232,14 @@ pub enum Block {
     Health,
     Safety,
     Appendix,
+    /// How the cabinets of a pair or set match.
+    Pair,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 9] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix"];
+    pub const NAMES: [&'static str; 10] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair"];
 
     pub fn named(name: &str) -> Option<Block> {
         Some(match name {
@@ -234,6 +252,7 @@ impl Block {
             "health" => Block::Health,
             "safety" => Block::Safety,
             "appendix" => Block::Appendix,
+            "pair" => Block::Pair,
             _ => return None,
         })
     }
@@ -252,6 +271,7 @@ impl Block {
             Block::Health => "health",
             Block::Safety => "safety",
             Block::Appendix => "appendix",
+            Block::Pair => "pair",
         }
     }
 }
@@ -265,10 +285,15 @@ pub enum PlotKind {
     Phase,
     Tolerance,
     Acoustic,
+    /// A pair's or set's cabinets against the design, as found, told apart by pattern.
+    PairFound,
+    /// The same as left.
+    PairLeft,
 }
 
 impl PlotKind {
-    pub const ALL: [PlotKind; 6] = [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Phase, PlotKind::Tolerance, PlotKind::Acoustic];
+    pub const ALL: [PlotKind; 8] =
+        [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Phase, PlotKind::Tolerance, PlotKind::Acoustic, PlotKind::PairFound, PlotKind::PairLeft];
     pub fn name(self) -> &'static str {
         match self {
             PlotKind::Response => "response",
@@ -277,6 +302,8 @@ impl PlotKind {
             PlotKind::Phase => "phase",
             PlotKind::Tolerance => "tolerance",
             PlotKind::Acoustic => "acoustic",
+            PlotKind::PairFound => "pair-found",
+            PlotKind::PairLeft => "pair-left",
         }
     }
 }
@@ -348,6 +375,9 @@ pub struct Job {
     pub network: Network,
     pub measured: Vec<Reading>,
     pub changes: Vec<Change>,
+    /// The cabinets of a pair or set, each with its own readings and steps; empty for a job
+    /// of one cabinet, whose readings and steps are `measured` and `changes`.
+    pub cabinets: Vec<Cabinet>,
     pub compensate: Vec<CompensateEntry>,
     pub analysis: Analysis,
     pub template: Template,
@@ -357,6 +387,20 @@ pub struct Job {
 }
 
 impl Job {
+    /// The job of one cabinet of a set: the common readings and steps, then the cabinet's own.
+    pub fn for_cabinet(&self, c: &Cabinet) -> Job {
+        let mut job = self.clone();
+        job.measured.extend(c.measured.iter().cloned());
+        // The cabinet's own steps follow the common ones, and are numbered on from them.
+        let common = self.changes.len();
+        job.changes.extend(c.changes.iter().cloned().map(|mut ch| {
+            ch.number += common;
+            ch
+        }));
+        job.cabinets.clear();
+        job
+    }
+
     /// The network with every bench reading applied.
     pub fn as_found(&self) -> Network {
         found(&self.network, &self.measured)

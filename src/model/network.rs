@@ -104,6 +104,19 @@ impl Network {
                 problems.push((name.to_string(), None, format!("{} is not connected to the input ({} / {})", name, self.input[0], self.input[1])));
             }
         }
+        // A driver needs a path to each amplifier terminal that does not pass through the
+        // other one: tied to the - terminal alone (its feed removed) it would be silent.
+        let (plus, minus) = (self.input[0].as_str(), self.input[1].as_str());
+        let from_plus: Vec<&str> = self.reach(&[plus], &[minus]).into_iter().filter(|n| *n != minus).collect();
+        let from_minus: Vec<&str> = self.reach(&[minus], &[plus]).into_iter().filter(|n| *n != plus).collect();
+        for d in &self.drivers {
+            let [a, b] = &d.between;
+            let touches = |set: &[&str]| set.contains(&a.as_str()) || set.contains(&b.as_str());
+            if reached.contains(&a.as_str()) && !(touches(&from_plus) && touches(&from_minus)) {
+                let (lost, via) = if touches(&from_plus) { (minus, plus) } else { (plus, minus) };
+                problems.push((d.name.clone(), None, format!("driver {} has no path to input node {lost} except through {via}, so it would be silent", d.name)));
+            }
+        }
         problems
     }
 }

@@ -434,6 +434,8 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
         .iter()
         .zip(&exact_ohm)
         .map(|(t, &r)| match t.placement {
+            // A pair fitted with one value, decided across its cabinets.
+            _ if t.entry.common_ohm.is_some() => t.entry.common_ohm.unwrap_or(r),
             Placement::Series if r < SMALLEST_FITTED_OHM => 0.0,
             Placement::Shunt if !r.is_finite() || r > LARGEST_SHUNT_OHM => f64::INFINITY,
             _ => round_to(t.entry.series, r),
