@@ -5,7 +5,8 @@ use serde::Serialize;
 use serde_json::{json, Map, Value};
 use std::fmt::Write;
 
-use crate::analysis::Findings;
+use crate::analysis::pair::SetFindings;
+use crate::analysis::{Findings, Outcome};
 use crate::model::{Job, Scenario};
 use crate::units::trim_number;
 
@@ -83,6 +84,80 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         out["acoustic_sum_db"] = Value::Object(m);
     }
     out
+}
+
+/// The results of a job of one cabinet or several.
+pub fn json_outcome(job: &Job, o: &Outcome) -> Value {
+    match o {
+        Outcome::One(f) => json(job, f),
+        Outcome::Set(set) => set_json(set),
+    }
+}
+
+/// A pair's or set's results: `cabinets.<name>` holds what a one-cabinet job's top level
+/// holds; the top level repeats the first cabinet's results (named in `cabinet`), so a
+/// reader of one-cabinet results reads a pair's too, and adds the match.
+pub fn set_json(set: &SetFindings) -> Value {
+    let mut cabinets = Map::new();
+    for c in &set.cabinets {
+        cabinets.insert(c.name.clone(), json(&c.job, &c.findings));
+    }
+    let first = set.cabinets.first();
+    let mut out = first.map(|c| json(&c.job, &c.findings)).unwrap_or_else(|| json!({}));
+    out["cabinet"] = json!(first.map(|c| c.name.clone()));
+    out["cabinets"] = Value::Object(cabinets);
+    out["pair_tolerance_db"] = json!(set.tolerance_db);
+    out["pair_match"] = json!(set.matching.iter().map(to_value).collect::<Vec<_>>());
+    out["pair_compensation"] = json!(set.compensation.iter().map(to_value).collect::<Vec<_>>());
+    out
+}
+
+/// The terminal tables of a job of one cabinet or several.
+pub fn text_outcome(job: &Job, o: &Outcome) -> String {
+    match o {
+        Outcome::One(f) => text(job, f),
+        Outcome::Set(set) => set_text(job, set),
+    }
+}
+
+fn set_text(job: &Job, set: &SetFindings) -> String {
+    let mut s = String::new();
+    let names: Vec<&str> = set.cabinets.iter().map(|c| c.name.as_str()).collect();
+    let _ = writeln!(s, "voicekeep {VERSION} - job {} ({}), {}: {} cabinets ({})", job.info.number, job.info.date, job.info.speaker_description, names.len(), names.join(", "));
+    let _ = writeln!(s);
+    pair_text(&mut s, set);
+    for c in &set.cabinets {
+        let _ = writeln!(s, "==== CABINET {} ====", c.name);
+        let body = text(&c.job, &c.findings);
+        // The job's heading line was said once above.
+        s.push_str(body.split_once('\n').map(|(_, rest)| rest).unwrap_or(""));
+        let _ = writeln!(s);
+    }
+    s
+}
+
+/// How the cabinets match, and the compensating values across them.
+fn pair_text(s: &mut String, set: &SetFindings) {
+    let is_set = set.cabinets.len() > 2;
+    let _ = writeln!(s, "{} (band-mean levels between cabinets; tolerance {} dB)", if is_set { "SET MATCH" } else { "PAIR MATCH" }, trim_number(set.tolerance_db, 3));
+    let _ = writeln!(s, "  {:<8} {:>10} {:>10}  verdict", "driver", "found", "left");
+    for m in &set.matching {
+        let _ = writeln!(s, "  {:<8} {:>10} {:>10}  {}", m.driver, format!("{:.2} dB", m.as_found_db), format!("{:.2} dB", m.as_left_db), m.verdict);
+    }
+    for m in &set.matching {
+        let _ = writeln!(s, "  {}", m.sentence(is_set));
+        if let Some(r) = m.responsible_sentence() {
+            let _ = writeln!(s, "  {r}");
+        }
+        for x in &m.from_median {
+            let _ = writeln!(s, "    {:<8} from the median: found {}, left {}", x.cabinet, db(x.as_found_db), db(x.as_left_db));
+        }
+    }
+    for c in &set.compensation {
+        let exact: Vec<String> = c.exact.iter().map(|x| format!("{} {}", x.cabinet, ohm(x.ohm))).collect();
+        let _ = writeln!(s, "  {} exact: {}; {}", c.part, exact.join(", "), c.reason);
+    }
+    let _ = writeln!(s);
 }
 
 pub use crate::units::{hz, ohm};

@@ -183,8 +183,8 @@ impl analysis::Progress for Bar {
     }
 }
 
-fn analyse(path: &Path, job: &Job) -> Result<analysis::Findings, u8> {
-    analysis::analyse_with(job, &Bar(std::sync::Mutex::new(None))).map_err(|e| {
+fn analyse(path: &Path, job: &Job) -> Result<analysis::Outcome, u8> {
+    analysis::analyse_job(job, &Bar(std::sync::Mutex::new(None))).map_err(|e| {
         // Reported like every other problem in the job: file, line, column, snippet, hint.
         let source = job.inputs.first().map(|i| String::from_utf8_lossy(&i.bytes).into_owned()).unwrap_or_default();
         eprintln!("{}", crate::diag::Problems { file: path.display().to_string(), source, list: vec![e.diagnostic(job)] });
@@ -197,7 +197,16 @@ fn check(path: &Path) -> u8 {
         Ok(job) => {
             // Solving is part of checking: a network that cannot be solved is a problem in the job.
             match analyse(path, &job) {
-                Ok(_) => out(&format!("{}: ok ({} parts, {} drivers, {} change steps)\n", path.display(), job.network.parts.len(), job.network.drivers.len(), job.changes.len())),
+                Ok(_) => {
+                    let cabinets = if job.cabinets.is_empty() { String::new() } else { format!(", {} cabinets", job.cabinets.len()) };
+                    out(&format!(
+                        "{}: ok ({} parts, {} drivers, {} change steps{cabinets})\n",
+                        path.display(),
+                        job.network.parts.len(),
+                        job.network.drivers.len(),
+                        job.changes.len()
+                    ))
+                }
                 Err(code) => code,
             }
         }
@@ -211,8 +220,8 @@ fn solve(path: &Path, format: Format) -> u8 {
         Err(c) => return c,
     };
     match format {
-        Format::Text => out(&results::wrap(&results::text(&job, &f), text_width())),
-        Format::Json => match serde_json::to_string_pretty(&results::json(&job, &f)) {
+        Format::Text => out(&results::wrap(&results::text_outcome(&job, &f), text_width())),
+        Format::Json => match serde_json::to_string_pretty(&results::json_outcome(&job, &f)) {
             Ok(s) => out(&(s + "\n")),
             Err(e) => {
                 eprintln!("voicekeep: internal error writing JSON: {e}; please report this");
@@ -262,7 +271,7 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
 
 fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Result<(), u8> {
     let f = analyse(path, job)?;
-    let pdf = report::render(job, &f, template).map_err(|e| {
+    let pdf = report::render_outcome(job, &f, template).map_err(|e| {
         eprintln!("{}: {e}", path.display());
         if matches!(e, report::ReportError::Template { .. }) {
             PROBLEMS
@@ -288,7 +297,7 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
     let mut written = String::new();
     // Named after the job, so the plots of several jobs can share a folder.
     let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into());
-    for (kind, svg) in report::plots::all(&job, &f) {
+    for (kind, svg) in report::plots::all_outcome(&job, &f) {
         let name = kind.name();
         let (file, bytes) = match format {
             PlotFormat::Svg => (dir.join(format!("{stem}-{name}.svg")), svg.into_bytes()),

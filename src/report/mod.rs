@@ -16,7 +16,7 @@ use typst_as_lib::TypstEngine;
 use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
-use crate::analysis::Findings;
+use crate::analysis::{Findings, Outcome};
 use crate::model::{Job, Template};
 
 pub const LIB_TYP: &str = include_str!("../../templates/lib.typ");
@@ -45,6 +45,11 @@ impl std::error::Error for ReportError {}
 
 /// Renders the report to PDF bytes. The same job and findings always give the same bytes.
 pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, ReportError> {
+    render_outcome(job, &Outcome::One(Box::new(f.clone())), template)
+}
+
+/// Renders the report of a job of one cabinet or several.
+pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Result<Vec<u8>, ReportError> {
     let (main_name, main_text) = match template {
         Template::Customer => ("customer.typ".to_string(), CUSTOMER_TYP.to_string()),
         Template::Archive => ("archive.typ".to_string(), ARCHIVE_TYP.to_string()),
@@ -53,10 +58,13 @@ pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, R
         Template::File { name, text } => (std::path::Path::new(name).file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text.clone()),
     };
     let archive = matches!(template, Template::Archive);
-    let results = serde_json::to_vec_pretty(&crate::results::json(job, f)).map_err(|e| ReportError::Pdf(e.to_string()))?;
-    let plots = plots::all(job, f);
+    let results = serde_json::to_vec_pretty(&crate::results::json_outcome(job, outcome)).map_err(|e| ReportError::Pdf(e.to_string()))?;
+    let plots = plots::all_outcome(job, outcome);
     let kinds: Vec<crate::model::PlotKind> = plots.iter().map(|(k, _)| *k).collect();
-    let report_data = data::build(job, f, template, &kinds);
+    let report_data = match outcome {
+        Outcome::One(f) => data::build(job, f, template, &kinds),
+        Outcome::Set(set) => data::build_set(job, set, template, &kinds),
+    };
     let data_json = serde_json::to_vec(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
 
     let mut binaries: Vec<(String, Vec<u8>)> = vec![("data.json".into(), data_json), ("results.json".into(), results)];

@@ -14,7 +14,8 @@
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
-use crate::analysis::{frequency_order, Findings};
+use crate::analysis::pair::SetFindings;
+use crate::analysis::{frequency_order, Findings, Outcome};
 use crate::model::{Job, PlotKind, Scenario};
 
 /// The font family the SVG text asks for: the report's body font.
@@ -59,6 +60,26 @@ enum Pattern {
     Solid,
     Long,
     Short,
+    Dot,
+    Sparse,
+}
+
+impl Pattern {
+    /// Dash and gap lengths in pixels; None for a solid line.
+    fn dashes(self) -> Option<(u32, u32)> {
+        match self {
+            Pattern::Solid => None,
+            Pattern::Long => Some((14, 6)),
+            Pattern::Short => Some((6, 4)),
+            Pattern::Dot => Some((2, 4)),
+            Pattern::Sparse => Some((6, 12)),
+        }
+    }
+}
+
+/// The pattern of the k-th cabinet of a pair or set (long dashes stay the design's).
+fn cabinet_pattern(k: usize) -> Pattern {
+    [Pattern::Solid, Pattern::Short, Pattern::Dot, Pattern::Sparse][k % 4]
 }
 
 fn pattern(s: Scenario) -> Pattern {
@@ -139,10 +160,9 @@ fn draw_curve<DB: DrawingBackend, CT: plotters::coord::CoordTranslate<From = (f6
     y: (f64, f64),
 ) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
     for run in runs(&c.points, y) {
-        match c.pattern {
-            Pattern::Solid => chart.draw_series(LineSeries::new(run, curve_style(c))).map(|_| ())?,
-            Pattern::Long => chart.draw_series(DashedLineSeries::new(run, 14, 6, curve_style(c))).map(|_| ())?,
-            Pattern::Short => chart.draw_series(DashedLineSeries::new(run, 6, 4, curve_style(c))).map(|_| ())?,
+        match c.pattern.dashes() {
+            None => chart.draw_series(LineSeries::new(run, curve_style(c))).map(|_| ())?,
+            Some((dash, gap)) => chart.draw_series(DashedLineSeries::new(run, dash, gap, curve_style(c))).map(|_| ())?,
         }
     }
     Ok(())
@@ -182,10 +202,12 @@ fn legend(area: &DrawingArea<SVGBackend, Shift>, items: &[(String, RGBColor, Sam
         match sample {
             Sample::Line(pat) => {
                 let width = if *pat == Pattern::Long { 1 } else { 2 };
-                let segs: Vec<(i32, i32)> = match pat {
-                    Pattern::Solid => vec![(0, SAMPLE_W)],
-                    Pattern::Long => vec![(0, 14), (20, 34)],
-                    Pattern::Short => (0..4).map(|k| (k * 10, k * 10 + 6)).collect(),
+                let segs: Vec<(i32, i32)> = match pat.dashes() {
+                    None => vec![(0, SAMPLE_W)],
+                    Some((dash, gap)) => {
+                        let step = (dash + gap) as i32;
+                        (0..).map(|k| k * step).take_while(|a| a + dash as i32 <= SAMPLE_W).map(|a| (a, a + dash as i32)).collect()
+                    }
                 };
                 for (a, b) in segs {
                     area.draw(&PathElement::new(vec![(x + a, y), (x + b, y)], ShapeStyle::from(colour).stroke_width(width)))?;
@@ -297,6 +319,106 @@ pub fn all(job: &Job, f: &Findings) -> Vec<(PlotKind, String)> {
     out
 }
 
+/// Every plot a job of one cabinet or several supports.
+pub fn all_outcome(job: &Job, o: &Outcome) -> Vec<(PlotKind, String)> {
+    match o {
+        Outcome::One(f) => all(job, f),
+        Outcome::Set(set) => all_set(job, set),
+    }
+}
+
+/// A pair's or set's plots: the cabinets overlaid, told apart by line pattern.
+pub fn all_set(job: &Job, set: &SetFindings) -> Vec<(PlotKind, String)> {
+    let mut out = Vec::new();
+    for (kind, r) in [
+        (PlotKind::PairFound, set_change(job, set, Scenario::AsFound)),
+        (PlotKind::PairLeft, set_change(job, set, Scenario::AsLeft)),
+        (PlotKind::Impedance, set_impedance(job, set)),
+    ] {
+        if let Ok(svg) = r {
+            out.push((kind, svg));
+        }
+    }
+    out
+}
+
+/// Each cabinet's driver levels against the original design over each driver's band.
+fn set_change(job: &Job, set: &SetFindings, scenario: Scenario) -> Result<String, Box<dyn std::error::Error>> {
+    let first = &set.cabinets.first().ok_or("no cabinets")?.findings;
+    let colours = driver_colours(first);
+    let mut curves = Vec::new();
+    for (di, d) in job.network.drivers.iter().enumerate() {
+        for (k, c) in set.cabinets.iter().enumerate() {
+            let f = &c.findings;
+            let s = &f.scenes[scenario];
+            let Some(j) = s.driver_index(&d.name) else { continue };
+            let pts = f.bands[di].idx.iter().map(|&i| (f.freqs[i], s.db[j][i] - f.scenes.as_designed.db[di][i])).collect();
+            curves.push(Curve { label: format!("{} cabinet {}", d.name, c.name), colour: colours[di], pattern: cabinet_pattern(k), points: pts });
+        }
+    }
+    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| *v > -12.0), 2.0);
+    let title = format!("Each cabinet {} against the original design, over each driver's band", scenario.label());
+    log_chart(Chart {
+        title: &title,
+        y_label: "difference (dB)",
+        x: xr(first),
+        y: (lo.min(-1.0), hi.max(1.0)),
+        curves,
+        references: vec![Reference { at: 0.0, label: String::new() }],
+        bands: vec![],
+        band_labels: vec![],
+        y_log: false,
+    })
+}
+
+/// Each cabinet's impedance magnitude as left, with the design's.
+fn set_impedance(job: &Job, set: &SetFindings) -> Result<String, Box<dyn std::error::Error>> {
+    let first = &set.cabinets.first().ok_or("no cabinets")?.findings;
+    let log = |z: &num_complex::Complex64| z.norm().max(1e-3).log10();
+    let mut curves: Vec<Curve> = set
+        .cabinets
+        .iter()
+        .enumerate()
+        .map(|(k, c)| Curve {
+            label: format!("|Z| cabinet {} as left", c.name),
+            colour: NAVY,
+            pattern: cabinet_pattern(k),
+            points: c.findings.freqs.iter().cloned().zip(c.findings.scenes.as_left.z.iter().map(log)).collect(),
+        })
+        .collect();
+    curves.push(Curve {
+        label: "|Z| as designed".into(),
+        colour: NAVY,
+        pattern: Pattern::Long,
+        points: first.freqs.iter().cloned().zip(first.scenes.as_designed.z.iter().map(log)).collect(),
+    });
+    let rated = job.rated_impedance_ohm();
+    let floor = crate::analysis::load::rated_floor(rated);
+    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.3);
+    log_chart(Chart {
+        title: "Input impedance magnitude at the amplifier terminals, each cabinet as left",
+        y_label: "|Z| (Ω)",
+        x: xr(first),
+        y: (lo.min(floor.log10() - 0.1), hi),
+        curves,
+        references: vec![Reference {
+            at: floor.log10(),
+            label: format!("80 % of the rated {} Ω: {} Ω (IEC 60268-5)", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)),
+        }],
+        bands: vec![],
+        band_labels: vec![],
+        y_log: true,
+    })
+}
+
+/// The caption of a pair's or set's plot.
+pub fn set_caption(kind: PlotKind) -> &'static str {
+    match kind {
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
+        k => caption(k),
+    }
+}
+
 /// What each plot shows, for its caption: the same words as its legend.
 pub fn caption(kind: PlotKind) -> &'static str {
     match kind {
@@ -305,6 +427,8 @@ pub fn caption(kind: PlotKind) -> &'static str {
         PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
         PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
         PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
+        PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, the pair did not match.",
+        PlotKind::PairLeft => "The same as left, after the work: traces that lie together show a matched pair.",
         PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
     }
 }

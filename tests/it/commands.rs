@@ -8,7 +8,7 @@ use crate::util::{job_from, root, Cli};
 use voicekeep::analysis;
 use voicekeep::analysis::compensate::AlternativeKind;
 
-pub const SAMPLES: [&str; 3] = ["samples/two-way-recap.yaml", "samples/three-way-mid-table.yaml", "samples/repair-like-for-like.yaml"];
+pub const SAMPLES: [&str; 4] = ["samples/two-way-recap.yaml", "samples/three-way-mid-table.yaml", "samples/repair-like-for-like.yaml", "samples/pair-recap.yaml"];
 
 #[test]
 fn every_sample_passes_check() {

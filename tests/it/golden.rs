@@ -9,8 +9,9 @@ use serde_json::Value;
 
 use crate::util::{root, Cli};
 
-const JOBS: [&str; 9] = [
+const JOBS: [&str; 10] = [
     "samples/two-way-recap.yaml",
+    "samples/pair-recap.yaml",
     "samples/three-way-mid-table.yaml",
     "samples/repair-like-for-like.yaml",
     "tests/reference/first-order.yaml",

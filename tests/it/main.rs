@@ -7,6 +7,7 @@ mod commands;
 mod fixtures;
 mod golden;
 mod nodal;
+mod pair;
 mod reference;
 mod report;
 mod util;

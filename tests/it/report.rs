@@ -33,31 +33,43 @@ fn every_sample_renders_under_every_template_and_matches_solve() {
             assert!(std::fs::read(&pdf).unwrap().starts_with(b"%PDF-"));
             assert!(text.contains(json["job"]["number"].as_str().unwrap()));
             assert!(text.contains("page 1 of"), "{sample} {template}: page numbers in the footer");
-            for l in json["levels"].as_array().unwrap() {
-                let left = format!("{:+.2} dB", l["as_left_db"].as_f64().unwrap());
-                assert!(text.contains(&left), "{sample} {template}: level {left} missing");
-            }
+            // A pair's figures are each cabinet's, under `cabinets`; a single job's at the top.
+            let cabinets: Vec<&serde_json::Value> = match json.get("cabinets").and_then(|c| c.as_object()) {
+                Some(c) => c.values().collect(),
+                None => vec![&json],
+            };
             let flat = text.replace(" Ω", "Ω");
             let ohm = |v: &serde_json::Value| voicekeep::units::trade(&voicekeep::results::ohm(v.as_f64().unwrap())).replace(" Ω", "Ω");
+            for cab in &cabinets {
+                for l in cab["levels"].as_array().unwrap() {
+                    let left = format!("{:+.2} dB", l["as_left_db"].as_f64().unwrap());
+                    assert!(text.contains(&left), "{sample} {template}: level {left} missing");
+                }
+            }
             if template == "archive" {
-                // The load change is read against what the original design presents.
-                assert!(text.contains(json["load"]["as_left"]["verdict"].as_str().unwrap()));
-                let designed = &json["load"]["as_designed"];
-                let clause = format!("the original design presents {} and {}.", ohm(&designed["min_ohm"]), ohm(&designed["epdr_min_ohm"]));
-                assert!(flat.contains(&clause), "{sample}: {clause} missing");
-                for c in json["compensation"].as_array().unwrap() {
-                    assert!(text.contains(&format!("{} {}", c["part"].as_str().unwrap(), c["driver"].as_str().unwrap())), "{sample} {template}");
-                    assert!(flat.contains(&ohm(&c["fitted_ohm"])), "{sample} {template}: fitted value missing");
+                for cab in &cabinets {
+                    // The load change is read against what the original design presents.
+                    assert!(text.contains(cab["load"]["as_left"]["verdict"].as_str().unwrap()));
+                    let designed = &cab["load"]["as_designed"];
+                    let clause = format!("the original design presents {} and {}.", ohm(&designed["min_ohm"]), ohm(&designed["epdr_min_ohm"]));
+                    assert!(flat.contains(&clause), "{sample}: {clause} missing");
+                    for c in cab["compensation"].as_array().unwrap() {
+                        assert!(text.contains(&format!("{} {}", c["part"].as_str().unwrap(), c["driver"].as_str().unwrap())), "{sample} {template}");
+                        assert!(flat.contains(&ohm(&c["fitted_ohm"])), "{sample} {template}: fitted value missing");
+                    }
                 }
             } else {
-                // Plain reports state the lowest impedance once, in words, without |Z| or EPDR.
-                let low = format!("The lowest impedance the speaker presents to the amplifier is {}", ohm(&json["load"]["as_left"]["min_ohm"]));
-                assert!(flat.contains(&low), "{sample} {template}: {low}");
-                assert_eq!(flat.matches("The lowest impedance the speaker presents").count(), 1, "{sample} {template}: the load is said once");
+                // Plain reports state the lowest impedance once for each cabinet, in words,
+                // without |Z| or EPDR.
+                for cab in &cabinets {
+                    let low = format!("The lowest impedance the speaker presents to the amplifier is {}", ohm(&cab["load"]["as_left"]["min_ohm"]));
+                    assert!(flat.contains(&low), "{sample} {template}: {low}");
+                }
+                assert_eq!(flat.matches("The lowest impedance the speaker presents").count(), cabinets.len(), "{sample} {template}: the load is said once");
                 for jargon in ["EPDR", "|Z|", "ESR", "tan d", "Residual RMS", "HF's filter", "MF's filter", "LF's filter"] {
                     assert!(!flat.contains(jargon), "{sample} {template}: \"{jargon}\" in a plain report");
                 }
-                for c in json["compensation"].as_array().unwrap() {
+                for c in cabinets.iter().flat_map(|cab| cab["compensation"].as_array().unwrap()) {
                     let part = c["part"].as_str().unwrap();
                     if c["fitted_ohm"].as_f64().unwrap() > 0.0 {
                         assert!(flat.contains(&format!("{part}, a {} resistor", ohm(&c["fitted_ohm"]))), "{sample} {template}: {part} fitted");
@@ -195,7 +207,7 @@ fn the_sale_sheet_never_shows_the_previous_owner() {
 #[test]
 fn the_customer_report_says_what_was_fitted_in_plain_words() {
     let (_, text) = render("samples/two-way-recap.yaml", "customer");
-    assert!(text.contains("with a 3.3 µF polypropylene film capacitor rated 250 V (was a bipolar electrolytic)"), "{text}");
+    assert!(text.contains("with a 3.3 µF polypropylene film capacitor rated 250 V (was a bipolar electrolytic capacitor)"), "{text}");
     assert!(text.contains("Fitted R9, a 0.91 Ω resistor rated 3 W"), "{text}");
     for archive_only in ["Soldering", "Computed from", "as designed", "Exact"] {
         assert!(!text.contains(archive_only), "{archive_only} in the customer report");
@@ -229,4 +241,34 @@ fn an_over_rating_note_is_about_the_speaker_as_left_and_names_the_part() {
             assert_eq!(all.contains("R1 is over its rating") || all.contains("R1 would run above its rating"), over, "{rating}: {all}");
         }
     }
+}
+
+#[test]
+fn a_pair_report_names_the_cabinet_and_part_at_fault_and_says_whether_the_pair_matches() {
+    let o = Cli::new().args(["solve", "samples/pair-recap.yaml", "--format", "json"]).run();
+    let json: serde_json::Value = serde_json::from_str(&o.stdout).unwrap();
+    let hf = &json["pair_match"][0];
+    assert_eq!(hf["driver"], "HF");
+    let top = &hf["responsible"][0];
+    assert_eq!((top["cabinet"].as_str(), top["part"].as_str()), (Some("KB-5121"), Some("C1")));
+
+    let (_, customer) = render("samples/pair-recap.yaml", "customer");
+    let said = format!("the tweeter (HF) differed by {:.2} dB between cabinets, cabinet KB-5121 the odd one out, mostly from C1", hf["as_found_db"].as_f64().unwrap());
+    assert!(customer.contains(&said), "{said}\n{customer}");
+    assert!(customer.contains("The two cabinets now match: every driver within 0.5 dB of its partner in the other cabinet."), "{customer}");
+    // Work done to one cabinet only is said of that cabinet.
+    assert!(customer.contains("Cabinet KB-5121: Replaced R1"), "{customer}");
+    assert!(customer.contains("in every cabinet"), "one R9 value for both: {customer}");
+
+    let (_, archive) = render("samples/pair-recap.yaml", "archive");
+    assert!(archive.contains("How the two cabinets match"));
+    let share = format!("C1 in cabinet KB-5121 (+{:.2} dB)", top["share_db"].as_f64().unwrap());
+    assert!(archive.contains(&share), "{share}");
+    for caption in ["Each driver's level in each cabinet as found", "The same as left, after the work"] {
+        assert!(archive.contains(caption), "{caption}");
+    }
+
+    let (_, sale) = render("samples/pair-recap.yaml", "sale");
+    assert!(sale.contains("The two cabinets now match"));
+    assert!(!sale.contains("Vantongeren"));
 }

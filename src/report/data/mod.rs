@@ -13,6 +13,7 @@
 //! | `words.rs` | how a customer reads a driver, a part, a level |
 
 mod blocks;
+mod set;
 mod story;
 mod words;
 
@@ -24,6 +25,7 @@ use crate::model::{Block, Job, Part, PartKind, PlotKind, Template};
 use crate::results::ohm;
 use crate::units::{format_si, trim_number, Quantity};
 use blocks::*;
+pub use set::{build_set, PairData};
 use story::*;
 
 /// Who a report is for; it decides the words and what is shown.
@@ -80,7 +82,7 @@ pub struct Table {
 }
 
 impl Table {
-    fn new(header: &[&str], rows: Vec<Row>) -> Table {
+    pub(crate) fn new(header: &[&str], rows: Vec<Row>) -> Table {
         Table { header: header.iter().map(|h| h.to_string()).collect(), rows }
     }
 }
@@ -195,6 +197,8 @@ pub struct ReportData {
     pub inputs: Table,
     pub attachments: Vec<Attachment>,
     pub plots: Vec<PlotData>,
+    /// How the cabinets of a pair or set match; None for a job of one cabinet.
+    pub pair: Option<PairData>,
 }
 
 /// What every block builder reads.
@@ -258,6 +262,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Health => ("health", None, None),
         Block::Safety => ("safety", None, None),
         Block::Appendix => ("appendix", None, None),
+        Block::Pair => ("pair", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -290,6 +295,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         inputs: inputs(&c),
         attachments: attachments(&c),
         plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k).into() }).collect(),
+        pair: None,
     };
     trade_units(&mut data);
     data
@@ -297,7 +303,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
 
 /// Every computed sentence and figure in the trade's units; the job's own words (names,
 /// notes, text blocks) stay exactly as written.
-fn trade_units(d: &mut ReportData) {
+pub(super) fn trade_units(d: &mut ReportData) {
     let t = crate::units::trade;
     let table = |tb: &mut Table| {
         for r in &mut tb.rows {
@@ -331,6 +337,15 @@ fn trade_units(d: &mut ReportData) {
         &mut d.health,
     ] {
         table(tb);
+    }
+    if let Some(p) = &mut d.pair {
+        p.basis = t(&p.basis);
+        for s in p.sentences.iter_mut().chain(&mut p.compensation_notes) {
+            *s = t(s);
+        }
+        table(&mut p.table);
+        table(&mut p.median);
+        table(&mut p.compensation);
     }
     if let Some(tol) = &mut d.tolerance {
         tol.basis = t(&tol.basis);

@@ -95,7 +95,13 @@ pub(super) fn work(c: &Ctx) -> Vec<String> {
         .map(|ch| match (&ch.step, c.audience.plain()) {
             (ChangeStep::Replace { target, with: Patch::Part(_) }, true) => {
                 let (Some(old), Some(new)) = (net_found.part(target), net_left.part(target)) else { return format!("Replaced {target}.") };
-                let was = old.type_text.as_ref().map(|t| format!(" (was {})", with_article(t))).unwrap_or_default();
+                // "(was a bipolar electrolytic capacitor)": the old part's type, with its noun.
+                let was = old
+                    .type_text
+                    .as_ref()
+                    .map(|t| if t.to_lowercase().contains(kind_noun(old.kind)) { t.clone() } else { format!("{t} {}", kind_noun(old.kind)) })
+                    .map(|t| format!(" (was {})", with_article(&t)))
+                    .unwrap_or_default();
                 format!("Replaced {target}, a {} in {}, with {}{was}.", kind_noun(old.kind), part_place(net_left, target), fitted_words(c, new))
             }
             (ChangeStep::Replace { target, with: Patch::Part(_) }, false) => {

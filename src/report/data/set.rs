@@ -1,0 +1,253 @@
+//! The report of a pair or set: each cabinet's report data built as for a job of its own,
+//! then merged: a table gains a Cabinet column (unless every cabinet's is the same), a
+//! sentence every cabinet shares is said once and the others are said of their cabinet; the
+//! match between the cabinets comes first.
+
+use serde::Serialize;
+
+use super::words::{capitalise, driver_words, join_and};
+use super::{build, ReportData, Row, Table};
+use crate::analysis::pair::{PairMatch, SetFindings};
+use crate::analysis::Verdict;
+use crate::model::{Job, PlotKind, Template};
+use crate::units::{ohm, trim_number};
+
+/// The match between the cabinets, for the `pair` block.
+#[derive(Debug, Serialize)]
+pub struct PairData {
+    /// "pair" or "set".
+    pub kind: String,
+    pub basis: String,
+    pub table: Table,
+    /// In a set, each cabinet against the median (archive).
+    pub median: Table,
+    pub sentences: Vec<String>,
+    pub compensation: Table,
+    pub compensation_notes: Vec<String>,
+}
+
+/// Tables of several cabinets as one: the first cabinet's when all are the same, else each
+/// row marked with its cabinet.
+fn merge_tables(names: &[String], tables: Vec<Table>) -> Table {
+    if tables.windows(2).all(|w| w[0].header == w[1].header && rows_eq(&w[0].rows, &w[1].rows)) {
+        return tables.into_iter().next().unwrap_or_default();
+    }
+    let mut header = vec!["Cabinet".to_string()];
+    header.extend(tables.iter().find(|t| !t.header.is_empty()).map(|t| t.header.clone()).unwrap_or_default());
+    let mut rows = Vec::new();
+    for (name, t) in names.iter().zip(tables) {
+        for r in t.rows {
+            let mut cells = vec![name.clone()];
+            cells.extend(r.0);
+            rows.push(Row(cells));
+        }
+    }
+    Table { header, rows }
+}
+
+fn rows_eq(a: &[Row], b: &[Row]) -> bool {
+    a.len() == b.len() && a.iter().zip(b).all(|(x, y)| x.0 == y.0)
+}
+
+/// Sentences of several cabinets as one list: those every cabinet says once, in the first
+/// cabinet's order; the rest said of their cabinet.
+fn merge_sentences(names: &[String], lists: Vec<Vec<String>>) -> Vec<String> {
+    let shared = |s: &String| lists.iter().all(|l| l.contains(s));
+    let mut out: Vec<String> = Vec::new();
+    if let Some(first) = lists.first() {
+        out.extend(first.iter().filter(|s| shared(s)).cloned());
+    }
+    for (name, l) in names.iter().zip(&lists) {
+        for s in l.iter().filter(|s| !shared(s)) {
+            out.push(format!("Cabinet {name}: {s}"));
+        }
+    }
+    out
+}
+
+/// Lists of the same steps in several cabinets as one: position by position, a line every
+/// cabinet has there said once, the others said of their cabinet, so the steps keep their
+/// order.
+fn merge_in_order(names: &[String], lists: Vec<Vec<String>>) -> Vec<String> {
+    let n = lists.iter().map(Vec::len).max().unwrap_or(0);
+    let mut out = Vec::new();
+    for i in 0..n {
+        let at: Vec<Option<&String>> = lists.iter().map(|l| l.get(i)).collect();
+        if at.iter().all(|s| s.is_some() && *s == at[0]) {
+            out.extend(at[0].cloned());
+        } else {
+            for (name, s) in names.iter().zip(at) {
+                if let Some(s) = s {
+                    out.push(format!("Cabinet {name}: {s}"));
+                }
+            }
+        }
+    }
+    out
+}
+
+/// The report data of a pair or set.
+pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[PlotKind]) -> ReportData {
+    let names: Vec<String> = set.cabinets.iter().map(|c| c.name.clone()).collect();
+    let mut each: Vec<ReportData> = set.cabinets.iter().map(|c| build(&c.job, &c.findings, template, plots)).collect();
+    let mut data = each.remove(0);
+    let rest = each;
+    macro_rules! tables {
+        ($($f:ident).+) => {{
+            let first = std::mem::take(&mut data.$($f).+);
+            let mut all = vec![first];
+            all.extend(rest.iter().map(|d| Table { header: d.$($f).+.header.clone(), rows: d.$($f).+.rows.iter().map(|r| Row(r.0.clone())).collect() }));
+            data.$($f).+ = merge_tables(&names, all);
+        }};
+    }
+    macro_rules! sentences {
+        ($($f:ident).+) => {{
+            let mut all = vec![std::mem::take(&mut data.$($f).+)];
+            all.extend(rest.iter().map(|d| d.$($f).+.clone()));
+            data.$($f).+ = merge_sentences(&names, all);
+        }};
+    }
+    tables!(levels.table);
+    tables!(levels.crossovers);
+    tables!(compensation.table);
+    tables!(compensation.alternatives);
+    tables!(parts);
+    tables!(drivers);
+    tables!(stress.table);
+    tables!(stress.all);
+    tables!(stress.drivers);
+    tables!(load.table);
+    tables!(health);
+    sentences!(summary);
+    let mut work = vec![std::mem::take(&mut data.work)];
+    work.extend(rest.iter().map(|d| d.work.clone()));
+    data.work = merge_in_order(&names, work);
+    sentences!(compensation.notes);
+    sentences!(compensation.warnings);
+    sentences!(load.sentences);
+    sentences!(safety);
+    if let Some(t) = data.tolerance.as_mut() {
+        let levels: Vec<Table> = std::iter::once(std::mem::take(&mut t.levels))
+            .chain(
+                rest.iter().filter_map(|d| d.tolerance.as_ref()).map(|x| Table { header: x.levels.header.clone(), rows: x.levels.rows.iter().map(|r| Row(r.0.clone())).collect() }),
+            )
+            .collect();
+        let ranking: Vec<Table> = std::iter::once(std::mem::take(&mut t.ranking))
+            .chain(
+                rest.iter()
+                    .filter_map(|d| d.tolerance.as_ref())
+                    .map(|x| Table { header: x.ranking.header.clone(), rows: x.ranking.rows.iter().map(|r| Row(r.0.clone())).collect() }),
+            )
+            .collect();
+        t.levels = merge_tables(&names, levels);
+        t.ranking = merge_tables(&names, ranking);
+    }
+    let plain = data.audience.plain();
+    let pair = pair_data(job, set, plain);
+    // The customer reads first whether the pair matches again.
+    let mut summary = customer_sentences(job, set);
+    summary.append(&mut data.summary);
+    data.summary = summary;
+    data.job.speaker.serials = names.clone();
+    for p in &mut data.plots {
+        if let Some(k) = PlotKind::ALL.iter().find(|k| k.name() == p.name) {
+            p.caption = crate::report::plots::set_caption(*k).into();
+        }
+    }
+    data.pair = Some(pair);
+    super::trade_units(&mut data);
+    data
+}
+
+/// "the two cabinets" or "the five cabinets".
+fn cabinets_words(n: usize) -> String {
+    if n == 2 {
+        "the two cabinets".into()
+    } else {
+        format!("the {} cabinets", super::words::count_words(n))
+    }
+}
+
+/// Whether the cabinets match as left, and what stood out as found, in plain sentences.
+fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
+    let net = &job.network;
+    let n = set.cabinets.len();
+    let tol = trim_number(set.tolerance_db, 3);
+    let apart: Vec<&PairMatch> = set.matching.iter().filter(|m| m.verdict != Verdict::Ok).collect();
+    let mut out = Vec::new();
+    let found_apart: Vec<&PairMatch> = set.matching.iter().filter(|m| m.as_found_verdict != Verdict::Ok).collect();
+    if !found_apart.is_empty() {
+        let each: Vec<String> = found_apart
+            .iter()
+            .map(|m| {
+                let who = m.odd_cabinet.clone().unwrap_or_else(|| {
+                    // In a pair the cabinet whose own readings explain most of the gap.
+                    m.responsible.first().map(|r| r.cabinet.clone()).unwrap_or_else(|| m.as_found_cabinets[1].clone())
+                });
+                let parts: Vec<String> = m.responsible.iter().filter(|r| r.cabinet == who && r.share_db > 0.0).map(|r| r.part.clone()).collect();
+                let cause = if parts.is_empty() { String::new() } else { format!(", mostly from {} in that cabinet", join_and(&parts)) };
+                format!("{} differed by {:.2} dB between cabinets, cabinet {who} the odd one out{cause}", driver_words(net, &m.driver), m.as_found_db)
+            })
+            .collect();
+        out.push(capitalise(&format!("As they came in, {}.", join_and(&each))));
+    }
+    if apart.is_empty() {
+        let how = if n == 2 { format!("every driver within {tol} dB of its partner in the other cabinet") } else { format!("every driver within {tol} dB of the set's middle") };
+        out.push(format!("{} now match: {how}.", capitalise(&cabinets_words(n))));
+    } else {
+        let each: Vec<String> = apart.iter().map(|m| format!("{} {:.2} dB apart", driver_words(net, &m.driver), m.as_left_db)).collect();
+        out.push(format!("{} do not yet match within {tol} dB: {}.", capitalise(&cabinets_words(n)), join_and(&each)));
+    }
+    out
+}
+
+fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
+    let is_set = set.cabinets.len() > 2;
+    let tol = trim_number(set.tolerance_db, 3);
+    let net = &job.network;
+    let rows = set
+        .matching
+        .iter()
+        .map(|m| {
+            let who = |c: &[String; 2], v: f64| if v < 0.005 { "alike".to_string() } else { format!("{} louder than {}", c[0], c[1]) };
+            Row(vec![
+                if plain { capitalise(&driver_words(net, &m.driver)) } else { m.driver.clone() },
+                format!("{:.2} dB ({})", m.as_found_db, who(&m.as_found_cabinets, m.as_found_db)),
+                format!("{:.2} dB ({})", m.as_left_db, who(&m.as_left_cabinets, m.as_left_db)),
+                if m.verdict == Verdict::Ok { "match".into() } else { "apart".into() },
+            ])
+        })
+        .collect();
+    let header = ["Driver", "Difference as found", "Difference as left", "Match"];
+    let median_rows = set
+        .matching
+        .iter()
+        .flat_map(|m| m.from_median.iter().map(move |x| Row(vec![m.driver.clone(), x.cabinet.clone(), crate::results::db(x.as_found_db), crate::results::db(x.as_left_db)])))
+        .collect();
+    let mut sentences: Vec<String> = set.matching.iter().map(|m| m.sentence(is_set)).collect();
+    sentences.extend(set.matching.iter().filter_map(|m| m.responsible_sentence()));
+    let comp_rows = set
+        .compensation
+        .iter()
+        .map(|c| {
+            let exact: Vec<String> = c.exact.iter().map(|x| format!("{}: {}", x.cabinet, ohm(x.ohm))).collect();
+            let fitted = match c.common_ohm {
+                Some(v) => format!("{} in every cabinet", ohm(v)),
+                None => c.fitted.iter().map(|x| format!("{}: {}", x.cabinet, ohm(x.ohm))).collect::<Vec<_>>().join(", "),
+            };
+            Row(vec![c.part.clone(), c.driver.clone(), exact.join(", "), fitted])
+        })
+        .collect();
+    let spread = if is_set { "each cabinet against the set's median" } else { "the difference between the two cabinets" };
+    PairData {
+        kind: if is_set { "set" } else { "pair" }.into(),
+        basis: format!(
+            "each driver's band-mean level in each cabinet, as worked out from that cabinet's readings (as found) and its work (as left); {spread}, against a tolerance of {tol} dB (the job's, or 0.5 dB, common practice); a reading's share is its effect alone on the original design"
+        ),
+        table: Table::new(&header, rows),
+        median: Table::new(&["Driver", "Cabinet", "From the median as found", "As left"], median_rows),
+        sentences,
+        compensation: Table::new(&["Part", "Driver", "Exact value", "Fitted"], comp_rows),
+        compensation_notes: set.compensation.iter().map(|c| capitalise(&c.reason) + ".").collect(),
+    }
+}
