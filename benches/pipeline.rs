@@ -1,7 +1,7 @@
 //! Criterion benchmarks of the work around the engine (`cargo bench --bench pipeline`): every
 //! finding of the three-way reference job at about 100,000 points (the in-process part of
 //! what `benches/ngspice.sh` times as a whole process); the Monte Carlo of the three-way
-//! sample; and the demo's job-to-PDF time. For the one-core Monte Carlo figure run
+//! sample; the demo's job-to-PDF time; and a pair job beside one of its cabinets alone. For the one-core Monte Carlo figure run
 //! `RAYON_NUM_THREADS=1 cargo bench --bench pipeline`. Measured figures are in DEVELOPERS.md.
 
 use std::path::Path;
@@ -52,5 +52,27 @@ fn report(cr: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, findings, monte_carlo, report);
+/// A pair job against one of its cabinets as a job of its own, solve and customer report
+/// each, side by side: the target is no more than twice the single cabinet's time.
+fn pair(cr: &mut Criterion) {
+    let job = voicekeep::job::load(&root().join("samples/pair-recap.yaml")).expect("pair sample");
+    let single = job.for_cabinet(&job.cabinets[0]);
+    let mut g = cr.benchmark_group("pair");
+    g.sample_size(10);
+    g.bench_function("one cabinet of the pair sample, solve and PDF", |b| {
+        b.iter(|| {
+            let o = analysis::analyse_job(&single, &analysis::Quiet).expect("analyse");
+            voicekeep::report::render_outcome(&single, &o, &single.template).expect("render")
+        })
+    });
+    g.bench_function("the pair sample, two cabinets, solve and PDF", |b| {
+        b.iter(|| {
+            let o = analysis::analyse_job(&job, &analysis::Quiet).expect("analyse");
+            voicekeep::report::render_outcome(&job, &o, &job.template).expect("render")
+        })
+    });
+    g.finish();
+}
+
+criterion_group!(benches, findings, monte_carlo, report, pair);
 criterion_main!(benches);
