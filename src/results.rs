@@ -29,13 +29,17 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         let mut drivers = Map::new();
         let phases = s.phases_deg(&f.freqs);
         for (i, d) in s.network.drivers.iter().enumerate() {
-            drivers.insert(
-                d.name.clone(),
-                json!({
-                    "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
-                    "phase_deg": phases[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
-                }),
-            );
+            let mut entry = json!({
+                "db": s.db[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+                "phase_deg": phases[i].iter().map(|v| round(*v, 4)).collect::<Vec<_>>(),
+            });
+            // SPL at 1 m for 2.83 V of EMF, where the job gives the driver's sensitivity or
+            // response (`spl_source` says which).
+            if let (Some(spl), Some((_, source))) = (&s.spl[i], crate::analysis::levels::acoustic_offset(d, &[])) {
+                entry["spl_db"] = json!(spl.iter().map(|v| round(*v, 4)).collect::<Vec<_>>());
+                entry["spl_source"] = json!(source);
+            }
+            drivers.insert(d.name.clone(), entry);
         }
         let (ohm, ph): (Vec<f64>, Vec<f64>) = s.z.iter().map(|z| (round(z.norm(), 4), round(crate::engine::wrap_deg(z.arg().to_degrees()), 4))).unzip();
         scenarios.insert(s.scenario.key().into(), json!({ "drivers": drivers, "impedance": { "ohm": ohm, "phase_deg": ph } }));
@@ -73,6 +77,9 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "rated_impedance_basis": job.rated_impedance_basis(),
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
     });
+    if !f.substitutes.is_empty() {
+        out["substitutes"] = json!(f.substitutes.iter().map(to_value).collect::<Vec<_>>());
+    }
     if let Some(t) = &f.tolerance {
         out["tolerance"] = json!({ "runs": t.runs, "seed": t.seed, "distribution": t.distribution, "levels": t.levels, "ranking": t.ranking });
     }
@@ -237,7 +244,41 @@ pub fn text(job: &Job, f: &Findings) -> String {
     load_text(&mut s, job, f);
     stress_text(&mut s, job, f);
     health_text(&mut s, job, f);
+    substitute_text(&mut s, f);
     s
+}
+
+/// Each substitute driver against the original, and its checks.
+fn substitute_text(s: &mut String, f: &Findings) {
+    for x in &f.substitutes {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "SUBSTITUTE {} (original against substitute)", x.driver);
+        for line in substitute_rows(x) {
+            let _ = writeln!(s, "  {:<24} {:>16} {:>16}", line[0], line[1], line[2]);
+        }
+        for note in [&x.original.derived, &x.substitute.derived].into_iter().flatten() {
+            let _ = writeln!(s, "  ({note})");
+        }
+        for c in &x.checks {
+            let _ = writeln!(s, "  {:<10} {:<5} {}", c.check, c.verdict, c.reason);
+        }
+    }
+}
+
+/// The comparison of a substitute with the original, row by row: what, original, substitute.
+pub fn substitute_rows(x: &crate::analysis::substitute::Substitute) -> Vec<[String; 3]> {
+    let opt = |v: Option<f64>, f: &dyn Fn(f64) -> String| v.map(f).unwrap_or_else(|| "not given".into());
+    let (a, b) = (&x.original, &x.substitute);
+    let xo = x.crossover_hz[0].map(|f| format!("|Z| at {}", hz(Some(f)))).unwrap_or_else(|| "|Z| at the crossover".into());
+    vec![
+        ["Re".into(), ohm(a.re_ohm), ohm(b.re_ohm)],
+        ["fs".into(), opt(a.fs_hz, &|v| hz(Some(v))), opt(b.fs_hz, &|v| hz(Some(v)))],
+        ["Qts".into(), opt(a.qts, &|v| trim_number(v, 3)), opt(b.qts, &|v| trim_number(v, 3))],
+        ["sensitivity (2.83 V, 1 m)".into(), opt(a.sensitivity_db, &|v| format!("{} dB", trim_number(v, 3))), opt(b.sensitivity_db, &|v| format!("{} dB", trim_number(v, 3)))],
+        ["rated power".into(), opt(a.rated_w, &|v| format!("{} W", trim_number(v, 3))), opt(b.rated_w, &|v| format!("{} W", trim_number(v, 3)))],
+        [xo, opt(a.z_at_crossover_ohm, &|v| ohm(v)), opt(b.z_at_crossover_ohm, &|v| ohm(v))],
+        ["crossover".into(), hz(x.crossover_hz[0]), hz(x.crossover_hz[1])],
+    ]
 }
 
 /// The compensation plan: each fit, its alternatives and warnings.
@@ -321,6 +362,10 @@ fn levels_text(s: &mut String, _job: &Job, f: &Findings) {
     for l in &f.levels {
         let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == crate::analysis::BandSource::Compensate { "fit" } else { "pass" });
         let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);
+    }
+    let acoustic: Vec<&str> = f.levels.iter().filter(|l| l.as_left_acoustic || l.as_found_acoustic).map(|l| l.driver.as_str()).collect();
+    if !acoustic.is_empty() {
+        let _ = writeln!(s, "  compared as acoustic output (SPL at 1 m for 2.83 V, from sensitivity or response): {}; others as voltage", acoustic.join(", "));
     }
     if !f.crossovers.is_empty() {
         let _ = writeln!(s);

@@ -92,6 +92,40 @@ pub struct LevelRow {
     /// but a fault (a driver shorted or disconnected).
     pub as_found_fault: bool,
     pub as_left_fault: bool,
+    /// The comparison is of acoustic output (both scenarios know the driver's sensitivity or
+    /// response) rather than of the voltage across the driver.
+    pub as_found_acoustic: bool,
+    pub as_left_acoustic: bool,
+}
+
+/// Where a driver's acoustic output comes from: its measured response table, or its
+/// sensitivity (flat).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum AcousticSource {
+    Response,
+    Sensitivity,
+}
+
+impl AcousticSource {
+    pub fn words(self) -> &'static str {
+        match self {
+            AcousticSource::Response => "its measured response",
+            AcousticSource::Sensitivity => "its sensitivity",
+        }
+    }
+}
+
+/// A driver's SPL at 1 m for 2.83 V across its terminals at each of `freqs`: its response
+/// table (interpolated in log frequency) where the job gives one, which wins, else its
+/// sensitivity, flat; None when the job gives neither. Its output in a scene is this plus the
+/// level across it in dB re 2.83 V: SPL = sensitivity + 20 log10(|V| / 2.83 V).
+pub fn acoustic_offset(d: &crate::model::Driver, freqs: &[f64]) -> Option<(Vec<f64>, AcousticSource)> {
+    match (&d.response, d.sensitivity) {
+        (Some(t), _) => Some((freqs.iter().map(|f| crate::engine::driver::interp_log(&t.freq_hz, &t.spl_db, &t.phase_deg, *f, false).0).collect(), AcousticSource::Response)),
+        (None, Some(s)) => Some((vec![s; freqs.len()], AcousticSource::Sensitivity)),
+        (None, None) => None,
+    }
 }
 
 /// The flag for a level more than [`compensate::FAULT_DB`] below its reference.
@@ -143,19 +177,28 @@ pub fn level_rows(drivers: &[Driver], freqs: &[f64], bands: &[Band], scenes: &Sc
         .iter()
         .enumerate()
         .map(|(i, d)| {
-            let b = &bands[i];
-            let reference = mean_over(&designed.db[i], &b.idx);
-            let rel = |s: &Scene| s.driver_index(&d.name).map(|k| mean_over(&s.db[k], &b.idx) - reference).unwrap_or(0.0);
-            let (found_db, left_db) = (rel(&scenes.as_found), rel(&scenes.as_left));
+            let band = &bands[i];
+            // Acoustic output where the design and the scenario both know it, else voltage.
+            let curves = |s: &Scene| -> Option<(bool, Vec<f64>, Vec<f64>)> {
+                let k = s.driver_index(&d.name)?;
+                Some(match (&designed.spl[i], &s.spl[k]) {
+                    (Some(a), Some(b)) => (true, a.clone(), b.clone()),
+                    _ => (false, designed.db[i].clone(), s.db[k].clone()),
+                })
+            };
+            let rel = |s: &Scene| curves(s).map(|(acoustic, a, b)| (mean_over(&b, &band.idx) - mean_over(&a, &band.idx), acoustic)).unwrap_or((0.0, false));
+            let ((found_db, found_acoustic), (left_db, left_acoustic)) = (rel(&scenes.as_found), rel(&scenes.as_left));
             // The largest difference at any one point, over the band and over the whole
             // passband (where the original plays within 6 dB of its peak): a band mean can hide
             // a peak at the band's edge.
-            let worst_over = |idx: &[usize]| match scenes.as_left.driver_index(&d.name) {
-                Some(k) => idx.iter().map(|&j| scenes.as_left.db[k][j] - designed.db[i][j]).fold(0.0, |a: f64, v| if v.abs() > a.abs() { v } else { a }),
+            let left_curves = curves(&scenes.as_left);
+            let worst_over = |idx: &[usize]| match &left_curves {
+                Some((_, a, b)) => idx.iter().map(|&j| b[j] - a[j]).fold(0.0, |acc: f64, v| if v.abs() > acc.abs() { v } else { acc }),
                 None => 0.0,
             };
             let pass = passband(freqs, &designed.db[i]);
-            let (worst_db, passband_worst_db) = (worst_over(&b.idx), worst_over(&pass.idx));
+            let (worst_db, passband_worst_db) = (worst_over(&band.idx), worst_over(&pass.idx));
+            let b = band;
             LevelRow {
                 driver: d.name.clone(),
                 role: d.role.name().into(),
@@ -171,6 +214,8 @@ pub fn level_rows(drivers: &[Driver], freqs: &[f64], bands: &[Band], scenes: &Sc
                 left_flag: if left_db < -compensate::FAULT_DB { FAULT_FLAG.into() } else { level_flag(left_db).into() },
                 as_found_fault: found_db < -compensate::FAULT_DB,
                 as_left_fault: left_db < -compensate::FAULT_DB,
+                as_found_acoustic: found_acoustic,
+                as_left_acoustic: left_acoustic,
             }
         })
         .collect()

@@ -12,6 +12,7 @@ pub mod pair;
 pub mod programme;
 pub mod scene;
 pub mod stress;
+pub mod substitute;
 pub mod tolerance;
 
 pub use levels::*;
@@ -124,6 +125,8 @@ pub struct Findings {
     pub tolerance: Option<tolerance::Spread>,
     /// Per scenario, the complex acoustic sum in dB SPL at 2.83 V when every driver has a response.
     pub acoustic: Option<Scenes<Vec<f64>>>,
+    /// Each driver the steps replace with a different model, against the original.
+    pub substitutes: Vec<substitute::Substitute>,
 }
 
 #[derive(Debug)]
@@ -259,5 +262,8 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
     let tolerance =
         job.analysis.tolerance.as_ref().map(|t| tolerance::run(t, &freqs, &bands, &scenes, progress)).transpose().map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
     let acoustic = acoustic_sum(&scenes, &freqs);
-    Ok(Findings { freqs, grid, scenes, bands, levels, crossovers, corners, compensation: plan, stress, loads, health, tolerance, acoustic })
+    let mut findings =
+        Findings { freqs, grid, scenes, bands, levels, crossovers, corners, compensation: plan, stress, loads, health, tolerance, acoustic, substitutes: Vec::new() };
+    findings.substitutes = substitute::check(job, &findings);
+    Ok(findings)
 }

@@ -19,6 +19,9 @@ pub struct Scene {
     /// are solved again when asked for ([`Scene::voltages`]): storing them would cost more
     /// in fresh memory than the second solve does where they are needed.
     pub db: Vec<Vec<f64>>,
+    /// Per driver, its SPL (dB at 1 m) for 2.83 V of EMF where the job gives its
+    /// sensitivity or response: [`crate::analysis::levels::acoustic_offset`] plus `db`.
+    pub spl: Vec<Option<Vec<f64>>>,
     /// Input impedance at every sweep point.
     pub z: Vec<Complex64>,
     /// Per circuit element: its largest voltage, current and power over the stress grid.
@@ -165,7 +168,13 @@ impl Scene {
         let circuit = Circuit::from_network(&network, amp)?;
         let Pass { db, z, .. } = pass(&circuit, &network, freqs, true, false)?;
         let peaks = peaks_pass(&circuit, &grid.freqs, &grid.weights)?;
-        Ok(Scene { scenario, network, circuit, db, z, peaks })
+        let spl = network
+            .drivers
+            .iter()
+            .zip(&db)
+            .map(|(d, level)| crate::analysis::levels::acoustic_offset(d, freqs).map(|(offset, _)| offset.iter().zip(level).map(|(o, l)| o + l).collect()))
+            .collect();
+        Ok(Scene { scenario, network, circuit, db, spl, z, peaks })
     }
 
     /// Per driver (network order), the voltage across it per volt of EMF at every point of

@@ -44,7 +44,7 @@ mod tests {
     #[test]
     fn small_model_matches_worked_example() {
         // Small, JAES 20(5) 1972; check-values.md [derived]: Re 6.4, fs 50, Qms 4, Qes 0.5, Le 0.
-        let m = DriverModel::VoiceCoil { re: 6.4, inductance: VoiceCoilInductance::None, resonance: Some(Resonance { fs: 50.0, qms: 4.0, qes: 0.5 }) };
+        let m = DriverModel::VoiceCoil { re: 6.4, inductance: VoiceCoilInductance::None, resonance: Some(Resonance { fs: 50.0, qms: 4.0, qes: 0.5, derived: None }) };
         for (f, mag, ph) in [(20.0, 9.314, 40.19), (50.0, 57.60, 0.0), (100.0, 11.381, -46.85), (1000.0, 6.4401, -5.72)] {
             let z = impedance(&m, f);
             assert!((z.norm() - mag).abs() < 0.005 * mag.max(1.0) * 0.2, "{f} Hz: |Z| {} vs {mag}", z.norm());

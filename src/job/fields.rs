@@ -5,11 +5,11 @@ use crate::job::raw::{RawDriver, RawModel, TableRef};
 use crate::job::reader::{Ctx, Fields};
 use crate::job::yaml::{Key, Node};
 use crate::model::{Part, PartKind, PartPatch, Rating, Resonance, Role, VoiceCoilInductance};
-use crate::units::Quantity;
+use crate::units::{trim_number, Quantity};
 
 pub(crate) const PART_KEYS: &[&str] = &["kind", "between", "value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core"];
 pub(crate) const DRIVER_KEYS: &[&str] = &["role", "between", "model", "rated_power", "sensitivity", "response", "polarity", "note"];
-pub(crate) const MODEL_KEYS: &[&str] = &["resistance", "re", "le", "leach", "fs", "qms", "qes", "table"];
+pub(crate) const MODEL_KEYS: &[&str] = &["resistance", "re", "le", "leach", "fs", "qms", "qes", "qts", "table"];
 
 /// A table file named at `node`.
 pub(crate) fn table_ref(node: &Node, path: &str, ctx: &mut Ctx) -> Option<TableRef> {
@@ -185,7 +185,7 @@ pub(crate) fn driver(key: &Key, node: &Node, path: &str, ctx: &mut Ctx) -> Optio
 pub(crate) fn model(node: &Node, path: &str, ctx: &mut Ctx) -> Option<RawModel> {
     let f = ctx.fields(node, path, MODEL_KEYS)?;
     if let Some(n) = f.get("table") {
-        for k in ["resistance", "re", "le", "leach", "fs", "qms", "qes"] {
+        for k in ["resistance", "re", "le", "leach", "fs", "qms", "qes", "qts"] {
             if let Some(other) = f.get(k) {
                 ctx.error(other.pos(), &f.at(k), format!("`{k}` cannot be combined with `table`"), Some("a measured table already holds the whole impedance".into()));
             }
@@ -193,7 +193,7 @@ pub(crate) fn model(node: &Node, path: &str, ctx: &mut Ctx) -> Option<RawModel> 
         return table_ref(n, &f.at("table"), ctx).map(RawModel::Table);
     }
     if let Some(n) = f.get("resistance") {
-        for k in ["re", "le", "leach", "fs", "qms", "qes"] {
+        for k in ["re", "le", "leach", "fs", "qms", "qes", "qts"] {
             if let Some(other) = f.get(k) {
                 ctx.error(other.pos(), &f.at(k), format!("`{k}` cannot be combined with `resistance`"), Some("use { re: .., le: .. } for a voice-coil model".into()));
             }
@@ -226,30 +226,91 @@ pub(crate) fn model(node: &Node, path: &str, ctx: &mut Ctx) -> Option<RawModel> 
         }
         (None, None) => Some(VoiceCoilInductance::None),
     };
-    let res: Vec<Option<&Node>> = ["fs", "qms", "qes"].iter().map(|k| f.get(k)).collect();
-    let resonance = if res.iter().all(|n| n.is_none()) {
-        Some(None)
-    } else if res.iter().all(|n| n.is_some()) {
-        let fs = ctx.positive(res[0].unwrap_or(re_node), &f.at("fs"), Quantity::Frequency, false);
-        let qms = res[1].and_then(|n| ctx.bare_number(n, &f.at("qms")));
-        let qes = res[2].and_then(|n| ctx.bare_number(n, &f.at("qes")));
-        match (fs, qms, qes) {
-            (Some(fs), Some(qms), Some(qes)) if qms > 0.0 && qes > 0.0 => Some(Some(Resonance { fs, qms, qes })),
-            (Some(_), Some(_), Some(_)) => {
-                ctx.error(f.pos, &f.at("qms"), "qms and qes must be above zero", None);
-                None
-            }
-            _ => None,
-        }
-    } else {
-        let missing: Vec<&str> = ["fs", "qms", "qes"].iter().zip(&res).filter(|(_, n)| n.is_none()).map(|(k, _)| *k).collect();
+    let resonance = resonance(&f, path, re_node, ctx);
+    Some(RawModel::VoiceCoil { re: re?, inductance: inductance?, resonance: resonance? })
+}
+
+/// Small's resonance from a data sheet: fs with two of Qms, Qes and Qts, the third derived
+/// from 1/Qts = 1/Qms + 1/Qes (Small 1972) and said so; all three must agree within 2 %.
+/// Some(None) when the model has no resonance; None when what is given cannot be read.
+fn resonance(f: &Fields, path: &str, at: &Node, ctx: &mut Ctx) -> Option<Option<Resonance>> {
+    let keys = ["fs", "qms", "qes", "qts"];
+    let given: Vec<Option<&Node>> = keys.iter().map(|k| f.get(k)).collect();
+    if given.iter().all(|n| n.is_none()) {
+        return Some(None);
+    }
+    let qs = given[1..].iter().filter(|n| n.is_some()).count();
+    if given[0].is_none() || qs < 2 {
+        let missing: Vec<&str> = keys[..3].iter().zip(&given).filter(|(_, n)| n.is_none()).map(|(k, _)| *k).collect();
         ctx.error(
             f.pos,
             path,
-            format!("the resonance needs fs, qms and qes together; missing {}", missing.join(", ")),
-            Some("leave all three out for a model without resonance".into()),
+            format!("the resonance needs fs and two of qms, qes and qts; missing {}", if given[0].is_none() { "fs".to_string() } else { missing.join(" or ") }),
+            Some("leave them all out for a model without resonance; from a data sheet, qts with qes (or qms) will do".into()),
         );
-        None
-    };
-    Some(RawModel::VoiceCoil { re: re?, inductance: inductance?, resonance: resonance? })
+        return None;
+    }
+    let fs = ctx.positive(given[0].unwrap_or(at), &f.at("fs"), Quantity::Frequency, false);
+    let q = |i: usize, ctx: &mut Ctx| given[i].map(|n| (n, ctx.bare_number(n, &f.at(keys[i]))));
+    let (qms, qes, qts) = (q(1, ctx), q(2, ctx), q(3, ctx));
+    for (k, v) in [("qms", &qms), ("qes", &qes), ("qts", &qts)] {
+        if let Some((n, Some(x))) = v {
+            if *x <= 0.0 {
+                ctx.error(n.pos(), &f.at(k), format!("{k} must be above zero"), None);
+                return None;
+            }
+        }
+    }
+    let value = |v: &Option<(&Node, Option<f64>)>| v.map(|(_, x)| x);
+    let fs = fs?;
+    let r = |qms: f64, qes: f64, derived: Option<String>| Some(Some(Resonance { fs, qms, qes, derived }));
+    match (value(&qms), value(&qes), value(&qts)) {
+        (Some(Some(m)), Some(Some(e)), None) => r(m, e, None),
+        (Some(Some(m)), Some(Some(e)), Some(Some(t))) => {
+            let implied = m * e / (m + e);
+            if (implied / t - 1.0).abs() > 0.02 {
+                let n = qts.map(|(n, _)| n).unwrap_or(at);
+                ctx.error(
+                    n.pos(),
+                    &f.at("qts"),
+                    format!(
+                        "qts {} does not agree with qms {} and qes {}: 1/Qts = 1/Qms + 1/Qes gives {}",
+                        trim_number(t, 3),
+                        trim_number(m, 3),
+                        trim_number(e, 3),
+                        trim_number(implied, 3)
+                    ),
+                    Some("give two of the three; the third is derived".into()),
+                );
+                return None;
+            }
+            r(m, e, None)
+        }
+        (known, other, Some(Some(t))) => {
+            // One of qms and qes with qts: the other from 1/Qts = 1/Qms + 1/Qes.
+            let (have, have_key, want_key) = match (known, other) {
+                (Some(Some(m)), None) => (m, "qms", "qes"),
+                (None, Some(Some(e))) => (e, "qes", "qms"),
+                _ => return None,
+            };
+            if have <= t {
+                let n = qts.map(|(n, _)| n).unwrap_or(at);
+                ctx.error(
+                    n.pos(),
+                    &f.at("qts"),
+                    format!("qts must be below {have_key} ({} against {})", trim_number(t, 3), trim_number(have, 3)),
+                    Some("1/Qts = 1/Qms + 1/Qes: the total Q is below each of its parts".into()),
+                );
+                return None;
+            }
+            let derived = 1.0 / (1.0 / t - 1.0 / have);
+            let note = format!("{want_key} {} derived from qts {} and {have_key} {} (1/Qts = 1/Qms + 1/Qes)", trim_number(derived, 3), trim_number(t, 3), trim_number(have, 3));
+            if have_key == "qms" {
+                r(have, derived, Some(note))
+            } else {
+                r(derived, have, Some(note))
+            }
+        }
+        _ => None,
+    }
 }

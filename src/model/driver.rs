@@ -42,6 +42,15 @@ pub struct Resonance {
     pub fs: f64,
     pub qms: f64,
     pub qes: f64,
+    /// How a Q the job did not give was derived from those it did, for the record.
+    pub derived: Option<String>,
+}
+
+impl Resonance {
+    /// The total Q: 1/Qts = 1/Qms + 1/Qes (Small 1972).
+    pub fn qts(&self) -> f64 {
+        self.qms * self.qes / (self.qms + self.qes)
+    }
 }
 
 /// A measured impedance curve: frequency (Hz, rising), |Z| (ohm), phase (degrees).

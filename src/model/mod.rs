@@ -234,12 +234,14 @@ pub enum Block {
     Appendix,
     /// How the cabinets of a pair or set match.
     Pair,
+    /// Each substitute driver against the original.
+    Substitute,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 10] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair"];
+    pub const NAMES: [&'static str; 11] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair", "substitute"];
 
     pub fn named(name: &str) -> Option<Block> {
         Some(match name {
@@ -253,6 +255,7 @@ impl Block {
             "safety" => Block::Safety,
             "appendix" => Block::Appendix,
             "pair" => Block::Pair,
+            "substitute" => Block::Substitute,
             _ => return None,
         })
     }
@@ -272,6 +275,7 @@ impl Block {
             Block::Safety => "safety",
             Block::Appendix => "appendix",
             Block::Pair => "pair",
+            Block::Substitute => "substitute",
         }
     }
 }

@@ -352,7 +352,11 @@ fn set_change(job: &Job, set: &SetFindings, scenario: Scenario) -> Result<String
             let f = &c.findings;
             let s = &f.scenes[scenario];
             let Some(j) = s.driver_index(&d.name) else { continue };
-            let pts = f.bands[di].idx.iter().map(|&i| (f.freqs[i], s.db[j][i] - f.scenes.as_designed.db[di][i])).collect();
+            let (a, b) = match (&f.scenes.as_designed.spl[di], &s.spl[j]) {
+                (Some(a), Some(b)) => (a, b),
+                _ => (&f.scenes.as_designed.db[di], &s.db[j]),
+            };
+            let pts = f.bands[di].idx.iter().map(|&i| (f.freqs[i], b[i] - a[i])).collect();
             curves.push(Curve { label: format!("{} cabinet {}", d.name, c.name), colour: colours[di], pattern: cabinet_pattern(k), points: pts });
         }
     }
@@ -423,7 +427,7 @@ pub fn set_caption(kind: PlotKind) -> &'static str {
 pub fn caption(kind: PlotKind) -> &'static str {
     match kind {
         PlotKind::Response => "Each driver's level as designed (thin long dashes, drawn on top), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
-        PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid). 0 dB is the original design.",
+        PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid); acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
         PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
         PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
         PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
@@ -477,7 +481,13 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
         let band = &f.bands[di];
         for s in [&f.scenes.as_found, &f.scenes.as_left] {
             let Some(k) = s.driver_index(&d.name) else { continue };
-            let pts = band.idx.iter().map(|&i| (f.freqs[i], s.db[k][i] - f.scenes.as_designed.db[di][i])).collect();
+            // Acoustic output where the design and the scenario both know it, as the levels
+            // table compares.
+            let (a, b) = match (&f.scenes.as_designed.spl[di], &s.spl[k]) {
+                (Some(a), Some(b)) => (a, b),
+                _ => (&f.scenes.as_designed.db[di], &s.db[k]),
+            };
+            let pts = band.idx.iter().map(|&i| (f.freqs[i], b[i] - a[i])).collect();
             curves.push(Curve { label: format!("{} {}", d.name, s.scenario.label()), colour: colours[di], pattern: pattern(s.scenario), points: pts });
         }
     }

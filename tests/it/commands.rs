@@ -8,7 +8,8 @@ use crate::util::{job_from, root, Cli};
 use voicekeep::analysis;
 use voicekeep::analysis::compensate::AlternativeKind;
 
-pub const SAMPLES: [&str; 4] = ["samples/two-way-recap.yaml", "samples/three-way-mid-table.yaml", "samples/repair-like-for-like.yaml", "samples/pair-recap.yaml"];
+pub const SAMPLES: [&str; 5] =
+    ["samples/two-way-recap.yaml", "samples/three-way-mid-table.yaml", "samples/repair-like-for-like.yaml", "samples/pair-recap.yaml", "samples/substitute-tweeter.yaml"];
 
 #[test]
 fn every_sample_passes_check() {

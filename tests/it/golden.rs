@@ -9,7 +9,8 @@ use serde_json::Value;
 
 use crate::util::{root, Cli};
 
-const JOBS: [&str; 10] = [
+const JOBS: [&str; 11] = [
+    "samples/substitute-tweeter.yaml",
     "samples/two-way-recap.yaml",
     "samples/pair-recap.yaml",
     "samples/three-way-mid-table.yaml",

@@ -10,4 +10,5 @@ mod nodal;
 mod pair;
 mod reference;
 mod report;
+mod substitute;
 mod util;

@@ -13,7 +13,7 @@ use nalgebra::{DMatrix, DVector, Dyn, VecStorage, U1};
 use num_complex::Complex64;
 
 use crate::analysis::eseries::{best_e12_pair, round_to};
-use crate::analysis::{Band, Scene};
+use crate::analysis::{levels, Band, Scene};
 use crate::engine::{self, Circuit, ElementModel, SolveError, Workspace};
 use crate::model::{Amplifier, Change, CompensateEntry, Driver, ESeries, Network, Part, Role, Scenario};
 
@@ -60,6 +60,9 @@ pub struct Fit {
     pub at_input: bool,
     /// The fit also held the impedance the filter sees to its reference (`keep_impedance`).
     pub keeps_impedance: bool,
+    /// The level held is acoustic output (the reference and the driver now fitted both have a
+    /// sensitivity or response), not the voltage across the driver.
+    pub acoustic: bool,
     pub pair: Option<Pair>,
     /// Where it goes, in words.
     pub placement: String,
@@ -142,6 +145,8 @@ struct Target<'a> {
     reference: Vec<f64>,
     /// With `keep_impedance`, the reference scenario's input impedance over the band.
     reference_z: Option<Vec<Complex64>>,
+    /// The reference is acoustic output, not voltage.
+    acoustic: bool,
 }
 
 /// The circuit under fit, with its auto resistors set from search parameters.
@@ -327,9 +332,18 @@ fn targets<'a>(cx: &Context<'a>, circuit: &Circuit) -> Result<Vec<Target<'a>>, S
             };
             let reference_scene = if entry.reference == Scenario::AsFound { cx.found } else { cx.designed };
             let band = cx.bands[di].idx.clone();
-            let reference = band.iter().map(|&i| reference_scene.db[di][i]).collect();
+            // Held to the reference's acoustic output where both it and the driver now fitted
+            // have a sensitivity or response (a substitute of another sensitivity), else to
+            // its voltage: the target voltage is the reference's output less what the driver
+            // now fitted makes of a volt.
+            let fitted_driver = cx.unsolved.driver(&entry.driver);
+            let shift: Option<Vec<f64>> = match (&reference_scene.spl[di], fitted_driver.and_then(|d| levels::acoustic_offset(d, cx.freqs))) {
+                (Some(spl), Some((offset, _))) => Some(spl.iter().zip(&offset).map(|(s, o)| s - o).collect()),
+                _ => None,
+            };
+            let reference = band.iter().map(|&i| shift.as_ref().map_or(reference_scene.db[di][i], |s| s[i])).collect();
             let reference_z = entry.keep_impedance.then(|| band.iter().map(|&i| reference_scene.z[i]).collect());
-            Ok(Target { entry, element, driver_el, placement: Placement::of(cx.unsolved, part, &entry.driver), band, reference, reference_z })
+            Ok(Target { entry, element, driver_el, placement: Placement::of(cx.unsolved, part, &entry.driver), band, reference, reference_z, acoustic: shift.is_some() })
         })
         .collect()
 }
@@ -486,6 +500,7 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
             fault,
             at_input,
             keeps_impedance: t.entry.keep_impedance,
+            acoustic: t.acoustic,
             pair,
             placement,
         });

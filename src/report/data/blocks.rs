@@ -41,13 +41,38 @@ pub(super) fn drive(c: &Ctx) -> String {
     }
 }
 
+/// Which drivers the levels compare as acoustic output, and from what, as a sentence (empty
+/// when every comparison is of voltage).
+pub(super) fn acoustic_basis(c: &Ctx) -> String {
+    let f = c.f;
+    let acoustic: Vec<String> = f
+        .levels
+        .iter()
+        .filter(|l| l.as_left_acoustic || l.as_found_acoustic)
+        .map(|l| {
+            let source = |s: &crate::analysis::Scene| s.network.driver(&l.driver).and_then(|d| crate::analysis::levels::acoustic_offset(d, &[])).map(|(_, src)| src.words());
+            match (source(&f.scenes.as_designed), source(&f.scenes.as_left)) {
+                (Some(a), Some(b)) if a == b => format!("{} (from {a})", l.driver),
+                (Some(a), Some(b)) => format!("{} (the original from {a}, as left from {b})", l.driver),
+                _ => l.driver.clone(),
+            }
+        })
+        .collect();
+    if acoustic.is_empty() {
+        return String::new();
+    }
+    let rest = if acoustic.len() < f.levels.len() { "; the other drivers as the voltage across them" } else { "" };
+    format!(" Compared as acoustic output, SPL at 1 m for 2.83 V, because the design and the speaker as left both know it: {}{rest}.", acoustic.join(", "))
+}
+
 pub(super) fn levels(c: &Ctx) -> LevelsData {
     let f = c.f;
     let net = &c.job.network;
-    let basis = format!(
+    let mut basis = format!(
         "the network solved as designed, as found and as left over {}. Levels are the mean over each driver's band, in dB relative to the original design; the band is the fitting band where a compensating resistor names the driver, otherwise where the original design plays within 6 dB of its maximum.",
         sweep_text(f)
     );
+    basis.push_str(&acoustic_basis(c));
     let table = if c.audience.plain() {
         let rows = f
             .levels
@@ -112,8 +137,14 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
     let f = c.f;
     let net = &f.scenes.as_left.network;
     let rating_of = |part: &str| f.stress.rows.iter().find(|r| r.scenario == Scenario::AsLeft && r.part == part).and_then(|r| r.rating_w.map(|w| (w, r.rating_chosen)));
+    let acoustic: Vec<&str> = f.compensation.fits.iter().filter(|x| x.acoustic).map(|x| x.driver.as_str()).collect();
+    let held = if acoustic.is_empty() {
+        String::new()
+    } else {
+        format!(" (for {}, the level held is acoustic output, SPL at 2.83 V and 1 m from sensitivity or response, since the reference and the driver fitted now both have it; otherwise the voltage across the driver)", acoustic.join(", "))
+    };
     let basis = format!(
-        "least-squares level match in dB over each band against the reference scenario, rounded to the named IEC 60063 series (nearest in the geometric sense); ratings at least twice the programme dissipation at {} W (common practice)",
+        "least-squares level match in dB over each band against the reference scenario{held}, rounded to the named IEC 60063 series (nearest in the geometric sense); ratings at least twice the programme dissipation at {} W (common practice)",
         trim_number(f.stress.programme_w, 3)
     );
     let mut notes = Vec::new();
@@ -131,7 +162,14 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
             } else {
                 let rating = rating_of(&fit.part).map(|(w, _)| format!(", rated {} W,", trim_number(w, 3))).unwrap_or_default();
                 let how = if fit.shunt { format!("across {who}") } else { format!("in {place}") };
-                let why = if explained { "" } else { ": the new parts lose less energy than the old ones did" };
+                let substituted = f.substitutes.iter().any(|x| x.driver == fit.driver);
+                let why = if explained {
+                    ""
+                } else if substituted && fit.acoustic {
+                    ": the driver fitted in its place is more sensitive than the original"
+                } else {
+                    ": the new parts lose less energy than the old ones did"
+                };
                 explained = true;
                 notes.push(format!(
                     "Without {}, {who} would have played {:.2} dB louder than designed{why}. {}, {} {} resistor{rating} {how}, brings it back to within {:.2} dB of the original at every frequency of its band.",
@@ -448,4 +486,28 @@ pub(super) fn attachments(c: &Ctx) -> Vec<Attachment> {
         return Vec::new();
     }
     c.job.inputs.iter().enumerate().map(|(i, inp)| Attachment { name: inp.name.clone(), file: format!("/inputs/{i}"), mime: mime(&inp.name).into() }).collect()
+}
+
+/// Each substitute driver against the original: the data sheets side by side, the checks with
+/// their reasons, and the customer's sentence.
+pub(super) fn substitutes(c: &Ctx) -> Vec<SubstituteData> {
+    let net = &c.job.network;
+    c.f.substitutes
+        .iter()
+        .map(|x| {
+            let rows = crate::results::substitute_rows(x).into_iter().map(|r| Row(r.to_vec())).collect();
+            let checks =
+                x.checks.iter().filter(|k| !(c.audience.plain() && k.check == "load")).map(|k| Row(vec![k.check.to_string(), k.verdict.to_string(), k.reason.clone()])).collect();
+            let notes = [&x.original.derived, &x.substitute.derived].into_iter().flatten().map(|n| format!("From the data sheet: {n}.")).collect();
+            let words = super::words::driver_words(net, &x.driver);
+            SubstituteData {
+                driver: x.driver.clone(),
+                heading: format!("Substitute for {}", if c.audience.plain() { words.clone() } else { x.driver.clone() }),
+                table: Table::new(&["", "Original", "Substitute"], rows),
+                checks: Table::new(&["Check", "Verdict", "Reason"], checks),
+                notes,
+                sentence: x.customer_sentence(words.trim_start_matches("the ")),
+            }
+        })
+        .collect()
 }

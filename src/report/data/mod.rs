@@ -71,11 +71,11 @@ pub struct BlockData {
     pub plot: Option<String>,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, PartialEq)]
 pub struct Row(pub Vec<String>);
 
 /// A table: its header and rows.
-#[derive(Debug, Serialize, Default)]
+#[derive(Debug, Serialize, Default, PartialEq)]
 pub struct Table {
     pub header: Vec<String>,
     pub rows: Vec<Row>,
@@ -160,6 +160,18 @@ pub struct ToleranceData {
     pub ranking: Table,
 }
 
+/// A substitute driver against the original, for the `substitute` block.
+#[derive(Debug, Serialize, PartialEq)]
+pub struct SubstituteData {
+    pub driver: String,
+    pub heading: String,
+    pub table: Table,
+    pub checks: Table,
+    pub notes: Vec<String>,
+    /// The customer's sentence: what was substituted and whether it matches.
+    pub sentence: String,
+}
+
 #[derive(Debug, Serialize)]
 pub struct PlotData {
     pub name: String,
@@ -199,6 +211,7 @@ pub struct ReportData {
     pub plots: Vec<PlotData>,
     /// How the cabinets of a pair or set match; None for a job of one cabinet.
     pub pair: Option<PairData>,
+    pub substitutes: Vec<SubstituteData>,
 }
 
 /// What every block builder reads.
@@ -263,6 +276,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Safety => ("safety", None, None),
         Block::Appendix => ("appendix", None, None),
         Block::Pair => ("pair", None, None),
+        Block::Substitute => ("substitute", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -296,7 +310,11 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         attachments: attachments(&c),
         plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k).into() }).collect(),
         pair: None,
+        substitutes: substitutes(&c),
     };
+    // What was substituted, and whether it matches, is part of what was found and done.
+    let said: Vec<String> = data.substitutes.iter().map(|x| x.sentence.clone()).collect();
+    data.summary.extend(said);
     trade_units(&mut data);
     data
 }
@@ -337,6 +355,15 @@ pub(super) fn trade_units(d: &mut ReportData) {
         &mut d.health,
     ] {
         table(tb);
+    }
+    for x in &mut d.substitutes {
+        x.sentence = t(&x.sentence);
+        x.heading = t(&x.heading);
+        for n in &mut x.notes {
+            *n = t(n);
+        }
+        table(&mut x.table);
+        table(&mut x.checks);
     }
     if let Some(p) = &mut d.pair {
         p.basis = t(&p.basis);

@@ -91,7 +91,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     let names: Vec<String> = set.cabinets.iter().map(|c| c.name.clone()).collect();
     let mut each: Vec<ReportData> = set.cabinets.iter().map(|c| build(&c.job, &c.findings, template, plots)).collect();
     let mut data = each.remove(0);
-    let rest = each;
+    let mut rest = each;
     macro_rules! tables {
         ($($f:ident).+) => {{
             let first = std::mem::take(&mut data.$($f).+);
@@ -142,6 +142,19 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
         t.levels = merge_tables(&names, levels);
         t.ranking = merge_tables(&names, ranking);
     }
+    // A substitute fitted to every cabinet alike is shown once; one fitted to some cabinets
+    // only, or differing, is shown for each cabinet that has it.
+    let all_same = rest.iter().all(|d| d.substitutes == data.substitutes);
+    if !all_same {
+        let mut merged = Vec::new();
+        for (name, list) in names.iter().zip(std::iter::once(&mut data.substitutes).chain(rest.iter_mut().map(|d| &mut d.substitutes))) {
+            for mut x in list.drain(..) {
+                x.heading = format!("{} (cabinet {name})", x.heading);
+                merged.push(x);
+            }
+        }
+        data.substitutes = merged;
+    }
     let plain = data.audience.plain();
     let pair = pair_data(job, set, plain);
     // The customer reads first whether the pair matches again.
@@ -184,8 +197,15 @@ fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
                     // In a pair the cabinet whose own readings explain most of the gap.
                     m.responsible.first().map(|r| r.cabinet.clone()).unwrap_or_else(|| m.as_found_cabinets[1].clone())
                 });
-                let parts: Vec<String> = m.responsible.iter().filter(|r| r.cabinet == who && r.share_db > 0.0).map(|r| r.part.clone()).collect();
-                let cause = if parts.is_empty() { String::new() } else { format!(", mostly from {} in that cabinet", join_and(&parts)) };
+                // The readings that explain a quarter or more of the difference; "mostly" only
+                // when the first explains half or more.
+                let parts: Vec<&crate::analysis::pair::Responsible> = m.responsible.iter().filter(|r| r.cabinet == who && r.share_db >= 0.25 * m.as_found_db).collect();
+                let names: Vec<String> = parts.iter().map(|r| r.part.clone()).collect();
+                let cause = match parts.first() {
+                    None => String::new(),
+                    Some(r) if r.share_db >= 0.5 * m.as_found_db => format!(", mostly from {} in that cabinet", join_and(&names)),
+                    Some(_) => format!(", from {} in that cabinet", join_and(&names)),
+                };
                 format!("{} differed by {:.2} dB between cabinets, cabinet {who} the odd one out{cause}", driver_words(net, &m.driver), m.as_found_db)
             })
             .collect();

@@ -47,7 +47,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
         let words: Vec<String> = flagged
             .iter()
             .map(|p| match net.part(p) {
-                Some(part) if plain => format!("{p}, a {} in {}", kind_noun(part.kind), part_place(net, p)),
+                Some(part) if plain => format!("{p}, {} in {}", with_article(kind_noun(part.kind)), part_place(net, p)),
                 _ => p.to_string(),
             })
             .collect();
@@ -102,16 +102,19 @@ pub(super) fn work(c: &Ctx) -> Vec<String> {
                     .map(|t| if t.to_lowercase().contains(kind_noun(old.kind)) { t.clone() } else { format!("{t} {}", kind_noun(old.kind)) })
                     .map(|t| format!(" (was {})", with_article(&t)))
                     .unwrap_or_default();
-                format!("Replaced {target}, a {} in {}, with {}{was}.", kind_noun(old.kind), part_place(net_left, target), fitted_words(c, new))
+                format!("Replaced {target}, {} in {}, with {}{was}.", with_article(kind_noun(old.kind)), part_place(net_left, target), fitted_words(c, new))
             }
             (ChangeStep::Replace { target, with: Patch::Part(_) }, false) => {
                 let (a, b) = (net_found.part(target), net_left.part(target));
                 let extra = b.map(|p| [p.type_text.clone(), rating_text(c, p)].into_iter().flatten().collect::<Vec<_>>().join(", ")).filter(|s| !s.is_empty());
+                // A part without a bench reading was found as designed only by assumption.
+                let read = c.job.measured.iter().any(|r| r.target == *target);
                 format!(
-                    "{}. Replaced {}: {} (as found) -> {}{}",
+                    "{}. Replaced {}: {} ({}) -> {}{}",
                     ch.number,
                     target,
                     a.map(part_text).unwrap_or_default(),
+                    if read { "as found" } else { "not measured: nominal" },
                     b.map(part_text).unwrap_or_default(),
                     extra.map(|e| format!("; {e}")).unwrap_or_default()
                 )
@@ -127,7 +130,7 @@ pub(super) fn work(c: &Ctx) -> Vec<String> {
             (ChangeStep::Insert { part, node, next_to }, plain) => added_line(c, ch.number, part, plain, Some((node, next_to))),
             (ChangeStep::Add { parts }, plain) => parts.iter().map(|p| added_line(c, ch.number, p, plain, None)).collect::<Vec<_>>().join(" "),
             (ChangeStep::Remove { target }, true) => match net_found.part(target) {
-                Some(p) => format!("Removed {target}, a {} in {}.", kind_noun(p.kind), part_place(net_found, target)),
+                Some(p) => format!("Removed {target}, {} in {}.", with_article(kind_noun(p.kind)), part_place(net_found, target)),
                 None => format!("Removed {target}."),
             },
             (ChangeStep::Remove { target }, false) => format!("{}. Removed {}", ch.number, target),
