@@ -312,9 +312,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         pair: None,
         substitutes: substitutes(&c),
     };
-    // What was substituted, and whether it matches, is part of what was found and done.
-    let said: Vec<String> = data.substitutes.iter().map(|x| x.sentence.clone()).collect();
-    data.summary.extend(said);
+
     trade_units(&mut data);
     data
 }
