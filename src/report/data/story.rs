@@ -53,6 +53,18 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             .collect();
         let n = flagged.len();
         out.push(format!("The bench readings found {} worn or faulty part{}: {}.", count_words(n), if n == 1 { "" } else { "s" }, join_and(&words)));
+        // A flagged part no step replaces or removes is still in the speaker: say so.
+        let touched = |p: &str| {
+            job.changes.iter().any(|ch| match &ch.step {
+                ChangeStep::Replace { target, .. } | ChangeStep::Remove { target } => target == p,
+                _ => false,
+            })
+        };
+        let kept: Vec<String> = flagged.iter().filter(|p| !touched(p)).map(|p| p.to_string()).collect();
+        if !kept.is_empty() {
+            let (verb, them) = if kept.len() == 1 { ("was", "its") } else { ("were", "their") };
+            out.push(format!("{} {verb} left in place: {them} effect is part of the figures after the work.", join_and(&kept)));
+        }
     }
     if c.audience == Audience::Archive {
         let n = job.changes.len();
