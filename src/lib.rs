@@ -13,6 +13,7 @@ pub mod engine;
 pub mod files;
 pub mod job;
 pub mod model;
+pub mod money;
 pub mod report;
 pub mod results;
 pub mod units;

@@ -77,6 +77,7 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "rated_impedance_basis": job.rated_impedance_basis(),
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
     });
+    parts_json(&mut out, &f.parts);
     if !f.substitutes.is_empty() {
         out["substitutes"] = json!(f.substitutes.iter().map(to_value).collect::<Vec<_>>());
     }
@@ -91,6 +92,41 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         out["acoustic_sum_db"] = Value::Object(m);
     }
     out
+}
+
+/// The parts to buy: `parts[]`, with `currency` and `parts_total` when a price list priced them.
+fn parts_json(out: &mut Value, p: &crate::analysis::bom::PartsList) {
+    out["parts"] = to_value(&p.lines);
+    if let Some(t) = p.total {
+        out["parts_total"] = json!(t);
+        out["currency"] = json!(p.currency);
+        out["parts_unpriced"] = json!(p.unpriced);
+    }
+}
+
+/// The parts list as text lines for the terminal.
+pub fn parts_text(s: &mut String, p: &crate::analysis::bom::PartsList) {
+    if p.lines.is_empty() {
+        return;
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "PARTS TO BUY (the work done)");
+    for l in &p.lines {
+        let what = [Some(l.value.clone()), l.type_text.clone(), l.rating.clone(), l.tolerance.clone(), l.series.clone()].into_iter().flatten().collect::<Vec<_>>().join(", ");
+        let price = match (l.unit_price, l.price) {
+            (Some(u), Some(t)) => format!("  {u} each, {t}"),
+            _ => String::new(),
+        };
+        let _ = writeln!(s, "  {:>3} x {:<9} {what} ({}){price}", l.quantity, l.kind, l.parts.join(", "));
+        if l.price.is_none() {
+            if let Some(why) = &l.stock {
+                let _ = writeln!(s, "        {why}");
+            }
+        }
+    }
+    if let (Some(t), Some(c)) = (p.total, &p.currency) {
+        let _ = writeln!(s, "  total {t} {c}{}", if p.unpriced > 0 { format!(" for the priced lines; {} not priced", p.unpriced) } else { String::new() });
+    }
 }
 
 /// The results of a job of one cabinet or several.
@@ -116,6 +152,8 @@ pub fn set_json(set: &SetFindings) -> Value {
     out["pair_tolerance_db"] = json!(set.tolerance_db);
     out["pair_match"] = json!(set.matching.iter().map(to_value).collect::<Vec<_>>());
     out["pair_compensation"] = json!(set.compensation.iter().map(to_value).collect::<Vec<_>>());
+    // The parts for the whole job, every cabinet's, at the top.
+    parts_json(&mut out, &set.parts);
     out
 }
 
@@ -133,6 +171,10 @@ fn set_text(job: &Job, set: &SetFindings) -> String {
     let _ = writeln!(s, "voicekeep {VERSION} - job {} ({}), {}: {} cabinets ({})", job.info.number, job.info.date, job.info.speaker_description, names.len(), names.join(", "));
     let _ = writeln!(s);
     pair_text(&mut s, set);
+    let mut parts = String::new();
+    parts_text(&mut parts, &set.parts);
+    s.push_str(&parts.replacen("PARTS TO BUY (the work done)", "PARTS TO BUY (the work done, every cabinet)", 1));
+    let _ = writeln!(s);
     for c in &set.cabinets {
         let _ = writeln!(s, "==== CABINET {} ====", c.name);
         let body = text(&c.job, &c.findings);
@@ -245,6 +287,7 @@ pub fn text(job: &Job, f: &Findings) -> String {
     stress_text(&mut s, job, f);
     health_text(&mut s, job, f);
     substitute_text(&mut s, f);
+    parts_text(&mut s, &f.parts);
     s
 }
 

@@ -3,6 +3,7 @@
 //! what it needs: levels and crossovers ([`levels`]), stress ([`stress`]), load ([`load`]),
 //! part health ([`health`]) and the Monte Carlo ([`tolerance`]).
 
+pub mod bom;
 pub mod compensate;
 pub mod eseries;
 pub mod health;
@@ -127,6 +128,8 @@ pub struct Findings {
     pub acoustic: Option<Scenes<Vec<f64>>>,
     /// Each driver the steps replace with a different model, against the original.
     pub substitutes: Vec<substitute::Substitute>,
+    /// The parts to buy for the work done.
+    pub parts: bom::PartsList,
 }
 
 #[derive(Debug)]
@@ -262,8 +265,24 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
     let tolerance =
         job.analysis.tolerance.as_ref().map(|t| tolerance::run(t, &freqs, &bands, &scenes, progress)).transpose().map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
     let acoustic = acoustic_sum(&scenes, &freqs);
-    let mut findings =
-        Findings { freqs, grid, scenes, bands, levels, crossovers, corners, compensation: plan, stress, loads, health, tolerance, acoustic, substitutes: Vec::new() };
+    let mut findings = Findings {
+        freqs,
+        grid,
+        scenes,
+        bands,
+        levels,
+        crossovers,
+        corners,
+        compensation: plan,
+        stress,
+        loads,
+        health,
+        tolerance,
+        acoustic,
+        substitutes: Vec::new(),
+        parts: bom::PartsList::default(),
+    };
     findings.substitutes = substitute::check(job, &findings);
+    findings.parts = bom::for_work(job, &[(&[], &findings.scenes.as_left.network, &findings.stress)]);
     Ok(findings)
 }

@@ -95,6 +95,8 @@ pub struct SetFindings {
     pub matching: Vec<PairMatch>,
     pub compensation: Vec<PairCompensation>,
     pub tolerance_db: f64,
+    /// The parts to buy for every cabinet's work.
+    pub parts: crate::analysis::bom::PartsList,
 }
 
 /// The band-mean deviation from its reference of the driver a compensate entry names, in the
@@ -230,7 +232,9 @@ pub fn analyse_set(job: &Job, progress: &dyn Progress) -> Result<SetFindings, An
     }
 
     let matching = matching(job, &cabinets, tol);
-    Ok(SetFindings { cabinets, matching, compensation, tolerance_db: tol })
+    let each: Vec<_> = job.cabinets.iter().zip(&cabinets).map(|(own, c)| (own.changes.as_slice(), &c.findings.scenes.as_left.network, &c.findings.stress)).collect();
+    let parts = crate::analysis::bom::for_work(job, &each);
+    Ok(SetFindings { cabinets, matching, compensation, tolerance_db: tol, parts })
 }
 
 /// The median of a few numbers.

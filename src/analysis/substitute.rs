@@ -197,8 +197,13 @@ fn one(job: &Job, f: &Findings, name: &str) -> Option<Substitute> {
     if let Some(p) = f.stress.drivers.iter().find(|p| p.driver == name && p.scenario == crate::model::Scenario::AsLeft) {
         let (verdict, reason) = match sub.rated_power {
             Some(r) if p.programme_w <= r => (Verdict::Ok, format!("it takes {} W of programme against its {} W rating", trim_number(p.programme_w, 3), trim_number(r, 3))),
-            Some(r) => (Verdict::Over, format!("it takes {} W of programme, more than its {} W rating: a lower-powered amplifier or lower levels", trim_number(p.programme_w, 3), trim_number(r, 3))),
-            None => (Verdict::Check, format!("it takes {} W of programme; its rated power is not in the job: give `rated_power` from its data sheet", trim_number(p.programme_w, 3))),
+            Some(r) => (
+                Verdict::Over,
+                format!("it takes {} W of programme, more than its {} W rating: a lower-powered amplifier or lower levels", trim_number(p.programme_w, 3), trim_number(r, 3)),
+            ),
+            None => {
+                (Verdict::Check, format!("it takes {} W of programme; its rated power is not in the job: give `rated_power` from its data sheet", trim_number(p.programme_w, 3)))
+            }
         };
         checks.push(Check { check: "power", verdict, reason });
     }

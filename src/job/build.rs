@@ -84,6 +84,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         changes,
         cabinets,
         compensate,
+        prices: raw.prices.as_ref().and_then(|(r, currency)| ctx.price_list(r, currency)),
         analysis: raw.analysis?,
         template,
         blocks: raw.blocks,

@@ -12,7 +12,7 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
-const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "analysis", "report"];
+const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "analysis", "report"];
 
 pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let mut top = ctx.fields(root, "", JOB_KEYS)?;
@@ -41,8 +41,9 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let changes = top.get("changes").map(|n| changes(n, "changes", ctx)).unwrap_or_default();
     let cabinets = top.get("cabinets").map(|n| cabinets(n, ctx)).unwrap_or_default();
     let compensate = top.get("compensate").map(|n| compensate(n, ctx)).unwrap_or_default();
+    let prices = top.get("prices").and_then(|n| prices(n, ctx));
     let (template, blocks) = top.get("report").map(|n| report(n, ctx)).unwrap_or((RawTemplate::Customer, None));
-    Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, analysis, template, blocks })
+    Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, prices, analysis, template, blocks })
 }
 
 /// The change steps as written: each one action, its parts read; what they name is found
@@ -132,6 +133,14 @@ fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
         ctx.error(one.pos, "cabinets", "one cabinet is not a pair: give two or more, or write its readings and steps at the top of the job", None);
     }
     out
+}
+
+/// The price list section: the file and its currency.
+fn prices(node: &Node, ctx: &mut Ctx) -> Option<(TableRef, String)> {
+    let f = ctx.fields(node, "prices", &["list", "currency"])?;
+    let list = ctx.req(&f, "list", "the shop's price list, a CSV file").and_then(|n| fields::table_ref(n, &f.at("list"), ctx));
+    let currency = ctx.req(&f, "currency", "the list's currency, such as EUR or GBP").and_then(|n| ctx.text(n, &f.at("currency")));
+    Some((list?, currency?))
 }
 
 /// The compensate entries as written; the parts and drivers they name are found later.

@@ -119,6 +119,8 @@ pub struct RawJob<'n> {
     pub changes: Vec<RawChange<'n>>,
     pub cabinets: Vec<RawCabinet<'n>>,
     pub compensate: Vec<RawCompensate>,
+    /// The price list file and its currency.
+    pub prices: Option<(TableRef, String)>,
     pub analysis: Option<Analysis>,
     pub template: RawTemplate,
     pub blocks: Option<Vec<Block>>,

@@ -4,9 +4,97 @@
 
 use crate::job::raw::TableRef;
 use crate::job::reader::Ctx;
-use crate::model::{ImpedanceTable, InputFile, ResponseTable};
+use crate::model::{ImpedanceTable, InputFile, PriceItem, PriceList, ResponseTable};
+use crate::units::Quantity;
 
 impl Ctx<'_> {
+    /// A shop's price list: a CSV with the header `kind,value,rating,type,unit_price` and one
+    /// stock item a line (`#` comments); values and ratings with their units, as in the job.
+    pub(crate) fn price_list(&mut self, r: &TableRef, currency: &str) -> Option<PriceList> {
+        let (name, text) = self.read_file(r)?;
+        let mut items = Vec::new();
+        let mut header = false;
+        let before = self.diags.len();
+        for (i, raw) in text.lines().enumerate() {
+            let line = raw.split('#').next().unwrap_or("").trim();
+            if line.is_empty() {
+                continue;
+            }
+            let cells: Vec<&str> = line.split(',').map(str::trim).collect();
+            let at = format!("{name} line {}", i + 1);
+            if !header {
+                if cells != ["kind", "value", "rating", "type", "unit_price"] {
+                    self.error(
+                        r.pos,
+                        &r.field,
+                        format!("{at}: the first line must be the header kind,value,rating,type,unit_price"),
+                        Some("one stock item a line after it, e.g. resistor,2.2 ohm,10 W,cement,0.85".into()),
+                    );
+                    return None;
+                }
+                header = true;
+                continue;
+            }
+            if cells.len() != 5 {
+                self.error(r.pos, &r.field, format!("{at}: want 5 cells (kind, value, rating, type, unit price), found {}", cells.len()), None);
+                continue;
+            }
+            let kind = cells[0].to_lowercase();
+            let (q, rq) = match kind.as_str() {
+                "resistor" => (Some(Quantity::Resistance), Some(Quantity::Power)),
+                "capacitor" => (Some(Quantity::Capacitance), Some(Quantity::Voltage)),
+                "inductor" => (Some(Quantity::Inductance), Some(Quantity::Current)),
+                "driver" => (None, Some(Quantity::Power)),
+                _ => {
+                    self.error(r.pos, &r.field, format!("{at}: unknown kind \"{}\"", cells[0]), Some("resistor, capacitor, inductor or driver".into()));
+                    continue;
+                }
+            };
+            let value = match q {
+                Some(q) => match crate::units::parse_value(cells[1], q) {
+                    Ok(v) => v,
+                    Err(e) => {
+                        self.error(r.pos, &r.field, format!("{at}: value \"{}\": {e}", cells[1]), None);
+                        continue;
+                    }
+                },
+                None => 0.0,
+            };
+            let rating = match (cells[2].is_empty(), rq) {
+                (true, _) | (_, None) => None,
+                (false, Some(q)) => match crate::units::parse_value(cells[2], q) {
+                    Ok(v) => Some(v),
+                    Err(e) => {
+                        self.error(r.pos, &r.field, format!("{at}: rating \"{}\": {e}", cells[2]), None);
+                        continue;
+                    }
+                },
+            };
+            let Some(unit_price) = crate::money::Money::parse(cells[4]) else {
+                self.error(
+                    r.pos,
+                    &r.field,
+                    format!("{at}: unit price \"{}\" is not a price", cells[4]),
+                    Some("a number with a point and at most two decimals, such as 0.85, in the list's currency".into()),
+                );
+                continue;
+            };
+            items.push(PriceItem {
+                kind,
+                value,
+                value_text: cells[1].to_string(),
+                rating,
+                type_text: (!cells[3].is_empty()).then(|| cells[3].to_string()),
+                unit_price,
+                line: i + 1,
+            });
+        }
+        if !header {
+            self.error(r.pos, &r.field, format!("{name} is empty"), Some("the header kind,value,rating,type,unit_price, then one stock item a line".into()));
+        }
+        (self.diags.len() == before && header).then(|| PriceList { file: name, currency: currency.to_string(), items })
+    }
+
     /// Reads a file the job names (relative to the job's folder) through the job's files, and
     /// records it for the report.
     pub(crate) fn read_file(&mut self, r: &TableRef) -> Option<(String, String)> {

@@ -173,6 +173,31 @@ pub struct Analysis {
     pub pair_tolerance_db: f64,
 }
 
+/// One line of a shop's price list: a stock item and its unit price.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PriceItem {
+    /// resistor, capacitor, inductor or driver.
+    pub kind: String,
+    /// In ohm, farad or henry; for a driver, its name as the list writes it.
+    pub value: f64,
+    pub value_text: String,
+    /// W for a resistor, V for a capacitor, A for an inductor; None when the list leaves it out.
+    pub rating: Option<f64>,
+    /// The type the item is (film, cement ...), matched against a part's type; None for any.
+    pub type_text: Option<String>,
+    pub unit_price: crate::money::Money,
+    /// Its line in the file, for the record.
+    pub line: usize,
+}
+
+/// A shop's price list (a CSV of its stock), in one currency.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PriceList {
+    pub file: String,
+    pub currency: String,
+    pub items: Vec<PriceItem>,
+}
+
 /// One cabinet of a pair or set: its own bench readings and the change steps made to it
 /// alone (after the job's common ones).
 #[derive(Debug, Clone, PartialEq)]
@@ -236,12 +261,14 @@ pub enum Block {
     Pair,
     /// Each substitute driver against the original.
     Substitute,
+    /// The parts to buy for the work done, priced where the job names a price list.
+    PartsToBuy,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 11] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair", "substitute"];
+    pub const NAMES: [&'static str; 12] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair", "substitute", "parts-to-buy"];
 
     pub fn named(name: &str) -> Option<Block> {
         Some(match name {
@@ -256,6 +283,7 @@ impl Block {
             "appendix" => Block::Appendix,
             "pair" => Block::Pair,
             "substitute" => Block::Substitute,
+            "parts-to-buy" => Block::PartsToBuy,
             _ => return None,
         })
     }
@@ -276,6 +304,7 @@ impl Block {
             Block::Appendix => "appendix",
             Block::Pair => "pair",
             Block::Substitute => "substitute",
+            Block::PartsToBuy => "parts-to-buy",
         }
     }
 }
@@ -383,6 +412,8 @@ pub struct Job {
     /// of one cabinet, whose readings and steps are `measured` and `changes`.
     pub cabinets: Vec<Cabinet>,
     pub compensate: Vec<CompensateEntry>,
+    /// The shop's price list, when the job names one.
+    pub prices: Option<PriceList>,
     pub analysis: Analysis,
     pub template: Template,
     pub blocks: Option<Vec<Block>>,

@@ -8,6 +8,7 @@ mod fixtures;
 mod golden;
 mod nodal;
 mod pair;
+mod parts;
 mod reference;
 mod report;
 mod substitute;

@@ -511,3 +511,40 @@ pub(super) fn substitutes(c: &Ctx) -> Vec<SubstituteData> {
         })
         .collect()
 }
+
+/// The parts to buy, a line each: quantity, what, for which parts, and the price where the
+/// shop's list gave one (or why it did not).
+pub(super) fn parts_to_buy(p: &crate::analysis::bom::PartsList) -> Table {
+    let priced = p.total.is_some();
+    let rows = p
+        .lines
+        .iter()
+        .map(|l| {
+            let what = [Some(l.value.clone()), l.type_text.clone(), l.rating.clone(), l.tolerance.clone(), l.series.clone()].into_iter().flatten().collect::<Vec<_>>().join(", ");
+            let mut r = vec![l.quantity.to_string(), l.kind.clone(), what, l.parts.join(", ")];
+            if priced {
+                match (l.unit_price, l.price) {
+                    (Some(u), Some(t)) => r.extend([u.to_string(), t.to_string()]),
+                    _ => r.extend(["not priced".to_string(), l.stock.clone().unwrap_or_default()]),
+                }
+            }
+            Row(r)
+        })
+        .collect();
+    if priced {
+        let currency = p.currency.clone().unwrap_or_default();
+        let (u, t) = (format!("Unit ({currency})"), format!("Price ({currency})"));
+        Table::new(&["Qty", "Kind", "Part", "For", &u, &t], rows)
+    } else {
+        Table::new(&["Qty", "Kind", "Part", "For"], rows)
+    }
+}
+
+/// "Total 16.70 EUR", with the lines the list could not price said.
+pub(super) fn parts_total(p: &crate::analysis::bom::PartsList) -> Option<String> {
+    let (t, c) = (p.total?, p.currency.clone().unwrap_or_default());
+    Some(match p.unpriced {
+        0 => format!("Total {t} {c}."),
+        n => format!("Total {t} {c} for the priced lines; {n} line{} not in the price list, to be priced by the shop.", if n == 1 { " is" } else { "s are" }),
+    })
+}

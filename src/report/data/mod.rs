@@ -212,6 +212,9 @@ pub struct ReportData {
     /// How the cabinets of a pair or set match; None for a job of one cabinet.
     pub pair: Option<PairData>,
     pub substitutes: Vec<SubstituteData>,
+    /// The parts to buy for the work done, and their total where a price list priced them.
+    pub parts_to_buy: Table,
+    pub parts_total: Option<String>,
 }
 
 /// What every block builder reads.
@@ -277,6 +280,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Appendix => ("appendix", None, None),
         Block::Pair => ("pair", None, None),
         Block::Substitute => ("substitute", None, None),
+        Block::PartsToBuy => ("parts-to-buy", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -311,6 +315,8 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k).into() }).collect(),
         pair: None,
         substitutes: substitutes(&c),
+        parts_to_buy: parts_to_buy(&f.parts),
+        parts_total: parts_total(&f.parts),
     };
 
     trade_units(&mut data);
@@ -351,6 +357,7 @@ pub(super) fn trade_units(d: &mut ReportData) {
         &mut d.stress.drivers,
         &mut d.load.table,
         &mut d.health,
+        &mut d.parts_to_buy,
     ] {
         table(tb);
     }

@@ -162,6 +162,9 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     summary.append(&mut data.summary);
     data.summary = summary;
     data.job.speaker.serials = names.clone();
+    // The parts for every cabinet's work, counted across the set.
+    data.parts_to_buy = super::blocks::parts_to_buy(&set.parts);
+    data.parts_total = super::blocks::parts_total(&set.parts);
     for p in &mut data.plots {
         if let Some(k) = PlotKind::ALL.iter().find(|k| k.name() == p.name) {
             p.caption = crate::report::plots::set_caption(*k).into();

@@ -1,0 +1,69 @@
+//! Money as an exact count of hundredths (cents, pence), never binary floating point: a
+//! price list's "12.30" stays 1230 hundredths, sums and products are exact, and a printed total
+//! is the sum of the printed lines.
+
+use std::fmt;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Default)]
+pub struct Money(pub i64);
+
+impl Money {
+    /// "12", "12.3" or "12.30" (a point, at most two decimals, not negative); None otherwise.
+    pub fn parse(text: &str) -> Option<Money> {
+        let t = text.trim();
+        let (whole, frac) = t.split_once('.').unwrap_or((t, ""));
+        if whole.is_empty() || !whole.bytes().all(|b| b.is_ascii_digit()) || frac.len() > 2 || !frac.bytes().all(|b| b.is_ascii_digit()) || (t.contains('.') && frac.is_empty()) {
+            return None;
+        }
+        let w: i64 = whole.parse().ok()?;
+        let f: i64 = if frac.is_empty() { 0 } else { format!("{frac:0<2}").parse().ok()? };
+        w.checked_mul(100)?.checked_add(f).map(Money)
+    }
+
+    pub fn times(self, n: u32) -> Option<Money> {
+        self.0.checked_mul(n as i64).map(Money)
+    }
+
+    pub fn plus(self, other: Money) -> Option<Money> {
+        self.0.checked_add(other.0).map(Money)
+    }
+}
+
+impl fmt::Display for Money {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}.{:02}", self.0 / 100, self.0 % 100)
+    }
+}
+
+impl serde::Serialize for Money {
+    /// As a decimal string ("12.30"), so no reader turns it into a binary fraction.
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(&self.to_string())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn parses_exactly_and_refuses_what_is_not_a_price() {
+        assert_eq!(Money::parse("12.3"), Some(Money(1230)));
+        assert_eq!(Money::parse("0.10"), Some(Money(10)));
+        assert_eq!(Money::parse("7"), Some(Money(700)));
+        for bad in ["", "1.234", "-2", "1,50", "1.", ".5", "abc", "99999999999999999999"] {
+            assert_eq!(Money::parse(bad), None, "{bad}");
+        }
+    }
+
+    #[test]
+    fn ten_lines_of_ten_cents_make_one_unit_exactly() {
+        // In binary floating point 0.1 summed ten times is 0.9999999999999999.
+        let mut total = Money(0);
+        for _ in 0..10 {
+            total = total.plus(Money::parse("0.10").unwrap()).unwrap();
+        }
+        assert_eq!(total.to_string(), "1.00");
+        assert_eq!(Money::parse("2.35").unwrap().times(3).unwrap().to_string(), "7.05");
+    }
+}
