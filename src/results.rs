@@ -78,6 +78,34 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
     });
     parts_json(&mut out, &f.parts);
+    if !f.options.is_empty() {
+        let mut options = Map::new();
+        for o in &f.options {
+            let g = &o.findings;
+            let mut v = json!({
+                "say": o.say,
+                "levels": g.levels.iter().map(to_value).collect::<Vec<_>>(),
+                "crossovers": g.crossovers.iter().map(to_value).collect::<Vec<_>>(),
+                "load": to_value(&g.loads.as_left),
+                "stress": g.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft).map(to_value).collect::<Vec<_>>(),
+                "driver_power": g.stress.drivers.iter().filter(|r| r.scenario == Scenario::AsLeft).map(to_value).collect::<Vec<_>>(),
+                "compensation": g.compensation.fits.iter().map(to_value).collect::<Vec<_>>(),
+                "warnings": g.compensation.warnings.iter().map(to_value).collect::<Vec<_>>(),
+                "substitutes": g.substitutes.iter().map(to_value).collect::<Vec<_>>(),
+                "score_db": o.score_db,
+                "verdicts_ok": o.verdicts_ok,
+                "over": o.over,
+                "labour_hours": o.labour_hours,
+                "labour": o.labour,
+                "total": o.total,
+            });
+            parts_json(&mut v, &g.parts);
+            options.insert(o.name.clone(), v);
+        }
+        out["options"] = Value::Object(options);
+        out["option_order"] = json!(f.options.iter().map(|o| o.name.clone()).collect::<Vec<_>>());
+        out["recommended"] = to_value(&f.recommended);
+    }
     if !f.substitutes.is_empty() {
         out["substitutes"] = json!(f.substitutes.iter().map(to_value).collect::<Vec<_>>());
     }
@@ -288,7 +316,32 @@ pub fn text(job: &Job, f: &Findings) -> String {
     health_text(&mut s, job, f);
     substitute_text(&mut s, f);
     parts_text(&mut s, &f.parts);
+    options_text(&mut s, f);
     s
+}
+
+/// Each option's outcome side by side, and the recommendation.
+fn options_text(s: &mut String, f: &Findings) {
+    if f.options.is_empty() {
+        return;
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "OPTIONS (each solved as its own as-left scenario against as designed)");
+    for o in &f.options {
+        let g = &o.findings;
+        let levels: Vec<String> = g.levels.iter().map(|l| format!("{} {}", l.driver, db(l.as_left_db))).collect();
+        let price = match (o.total, f.parts.currency.as_ref().or(g.parts.currency.as_ref())) {
+            (Some(t), Some(c)) => format!("; total {t} {c}"),
+            _ => String::new(),
+        };
+        let _ = writeln!(s, "  {}: {}; RMS {:.2} dB; min |Z| {}, load {}{price}", o.name, levels.join(", "), o.score_db, ohm(g.loads.as_left.min_ohm), g.loads.as_left.verdict);
+        for w in &o.over {
+            let _ = writeln!(s, "    over: {w}");
+        }
+    }
+    if let Some(r) = &f.recommended {
+        let _ = writeln!(s, "  {}", r.reason);
+    }
 }
 
 /// Each substitute driver against the original, and its checks.

@@ -9,6 +9,7 @@ pub mod eseries;
 pub mod health;
 pub mod levels;
 pub mod load;
+pub mod options;
 pub mod pair;
 pub mod programme;
 pub mod scene;
@@ -130,6 +131,10 @@ pub struct Findings {
     pub substitutes: Vec<substitute::Substitute>,
     /// The parts to buy for the work done.
     pub parts: bom::PartsList,
+    /// The options offered before the work, each solved as its own as-left scenario, and the
+    /// one recommended.
+    pub options: Vec<options::OptionFindings>,
+    pub recommended: Option<options::Recommendation>,
 }
 
 #[derive(Debug)]
@@ -195,7 +200,12 @@ pub fn analyse_job(job: &Job, progress: &dyn Progress) -> Result<Outcome, Analys
 pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, AnalysisError> {
     let pre = prepare(job)?;
     let plan = plan_of(job, &pre)?;
-    finish(job, pre, plan, &Default::default(), progress)
+    let mut f = finish(job, pre, plan, &Default::default(), progress)?;
+    if !job.options.is_empty() {
+        f.options = options::analyse(job)?;
+        f.recommended = options::recommend(job, &f.options);
+    }
+    Ok(f)
 }
 
 /// The first stage of an analysis: the sweep and stress grid, the design and as-found scenes,
@@ -281,6 +291,8 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
         acoustic,
         substitutes: Vec::new(),
         parts: bom::PartsList::default(),
+        options: Vec::new(),
+        recommended: None,
     };
     findings.substitutes = substitute::check(job, &findings);
     findings.parts = bom::for_work(job, &[(&[], &findings.scenes.as_left.network, &findings.stress)]);

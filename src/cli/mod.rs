@@ -57,7 +57,7 @@ enum Command {
         /// Where to write the PDF (default: beside the job, same name)
         #[arg(short, long)]
         output: Option<PathBuf>,
-        /// customer, archive, sale, or the path of your own .typ template (overrides the job's choice)
+        /// customer, archive, sale, quote, or the path of your own .typ template (overrides the job's choice)
         #[arg(long)]
         template: Option<String>,
     },
@@ -250,7 +250,7 @@ fn template_choice(arg: Option<String>, job: &Job) -> Result<Template, u8> {
 fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8 {
     if let Some(t) = &template {
         if Template::built_in(t).is_none() && !t.ends_with(".typ") {
-            eprintln!("voicekeep: --template takes customer, archive, sale or the path of a .typ file, not \"{t}\"");
+            eprintln!("voicekeep: --template takes customer, archive, sale, quote or the path of a .typ file, not \"{t}\"");
             return USAGE;
         }
     }

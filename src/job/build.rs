@@ -56,12 +56,48 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
     }
     let all_changes: Vec<Change> = changes.iter().chain(cabinets.iter().flat_map(|c| &c.changes)).cloned().collect();
     let compensate = compensate(raw.compensate, &network, &all_changes, ctx);
+    // Each option: its own steps from the speaker as found, and its own compensate entries.
+    let before_options = ctx.diags.len();
+    let options: Vec<JobOption> = raw
+        .options
+        .into_iter()
+        .map(|o| {
+            let field = format!("options.{}", o.name);
+            let ch = self::changes(&o.changes, &network, &[], &format!("{field}.changes"), ctx);
+            let comp = compensate_under(o.compensate, &network, &ch, &format!("{field}.compensate"), ctx);
+            JobOption { name: o.name, say: o.say, labour_hours: o.labour_hours, changes: ch, compensate: comp, pos: o.pos }
+        })
+        .collect();
+    let options_whole = ctx.diags.len() == before_options;
+    if let Some(first) = options.first().filter(|_| !cabinets.is_empty()) {
+        ctx.error(
+            first.pos,
+            &format!("options.{}", first.name),
+            "options are not yet solved for a pair or set of cabinets",
+            Some("quote the options in a job for one cabinet; the pair's work done goes in this job's `changes`".into()),
+        );
+    }
+    if let (Some(name), Some(pos)) = (&raw.quote.recommend, raw.quote_recommend_pos) {
+        if !options.iter().any(|o| &o.name == name) {
+            let hint = match suggest(name, options.iter().map(|o| o.name.as_str())) {
+                Some(s) => format!("did you mean `{s}`?"),
+                None => "name one of the job's `options`".into(),
+            };
+            ctx.error(pos, "quote.recommend", format!("there is no option \"{name}\""), Some(hint));
+        }
+    }
+    let all_changes: Vec<Change> = all_changes.into_iter().chain(options.iter().flat_map(|o| o.changes.iter().cloned())).collect();
     let template = template(raw.template, ctx);
     // Every check runs on what could be read, so one pass lists every problem: connections
     // once every part and driver was read, the steps once every step was, the tables and
     // bands once the sweep was.
     if network_whole {
         checks::connections(&network, if steps_whole { Some((&measured, &changes)) } else { None }, ctx);
+        if steps_whole && options_whole {
+            for o in options.iter().filter(|o| !o.changes.is_empty()) {
+                checks::cabinet_steps(&network, &measured, &o.changes, 0, &format!("options.{}.changes", o.name), ctx);
+            }
+        }
         if steps_whole {
             // Each cabinet's own steps must apply after the common ones, and leave it whole.
             for c in &cabinets {
@@ -85,6 +121,8 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         cabinets,
         compensate,
         prices: raw.prices.as_ref().and_then(|(r, currency)| ctx.price_list(r, currency)),
+        options,
+        quote: raw.quote,
         analysis: raw.analysis?,
         template,
         blocks: raw.blocks,
@@ -345,6 +383,11 @@ fn changes(raw: &[RawChange], net: &Network, prior: &[Change], field: &str, ctx:
 }
 
 fn compensate(raw: Vec<RawCompensate>, net: &Network, changes: &[Change], ctx: &mut Ctx) -> Vec<CompensateEntry> {
+    compensate_under(raw, net, changes, "compensate", ctx)
+}
+
+/// The compensate entries written under `field` for the steps `changes`.
+fn compensate_under(raw: Vec<RawCompensate>, net: &Network, changes: &[Change], field: &str, ctx: &mut Ctx) -> Vec<CompensateEntry> {
     let mut out = Vec::new();
     let auto_parts: Vec<&Part> = net
         .parts
@@ -356,7 +399,7 @@ fn compensate(raw: Vec<RawCompensate>, net: &Network, changes: &[Change], ctx: &
         }))
         .collect();
     for RawCompensate { entry, driver_pos } in raw {
-        let path = format!("compensate.{}", entry.part);
+        let path = format!("{field}.{}", entry.part);
         let replaced_auto = changes.iter().any(|c| matches!(&c.step, ChangeStep::Replace { target, with: Patch::Part(p) } if *target == entry.part && p.auto_value));
         match auto_parts.iter().find(|p| p.name == entry.part) {
             Some(p) if p.auto_value || replaced_auto => {}
@@ -438,6 +481,7 @@ fn template(raw: RawTemplate, ctx: &mut Ctx) -> Template {
         RawTemplate::Customer => Template::Customer,
         RawTemplate::Archive => Template::Archive,
         RawTemplate::Sale => Template::Sale,
+        RawTemplate::Quote => Template::Quote,
         RawTemplate::File { name, pos } => match ctx.files.read(&name) {
             Ok(bytes) => {
                 let text = String::from_utf8_lossy(&bytes).into_owned();

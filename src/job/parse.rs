@@ -12,7 +12,7 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
-const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "analysis", "report"];
+const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report"];
 
 pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let mut top = ctx.fields(root, "", JOB_KEYS)?;
@@ -40,10 +40,12 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let measured = top.get("measured").map(|n| map_entries(n, "measured", ctx).iter().map(|(key, node)| Entry { key, node }).collect()).unwrap_or_default();
     let changes = top.get("changes").map(|n| changes(n, "changes", ctx)).unwrap_or_default();
     let cabinets = top.get("cabinets").map(|n| cabinets(n, ctx)).unwrap_or_default();
-    let compensate = top.get("compensate").map(|n| compensate(n, ctx)).unwrap_or_default();
+    let compensate = top.get("compensate").map(|n| compensate(n, "compensate", ctx)).unwrap_or_default();
+    let options = top.get("options").map(|n| options(n, ctx)).unwrap_or_default();
+    let (quote, quote_recommend_pos) = top.get("quote").map(|n| quote(n, ctx)).unwrap_or_default();
     let prices = top.get("prices").and_then(|n| prices(n, ctx));
     let (template, blocks) = top.get("report").map(|n| report(n, ctx)).unwrap_or((RawTemplate::Customer, None));
-    Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, prices, analysis, template, blocks })
+    Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, prices, options, quote, quote_recommend_pos, analysis, template, blocks })
 }
 
 /// The change steps as written: each one action, its parts read; what they name is found
@@ -135,6 +137,52 @@ fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
     out
 }
 
+/// The options offered before the work, each with its words, labour and own steps.
+fn options<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawOption<'n>> {
+    let mut out = Vec::new();
+    for (k, v) in map_entries(node, "options", ctx) {
+        let path = format!("options.{}", k.name);
+        let Some(f) = ctx.fields(v, &path, &["say", "labour_hours", "changes", "compensate"]) else { continue };
+        let say = ctx.opt_text(&f, "say");
+        let labour_hours = match f.get("labour_hours") {
+            Some(n) => match ctx.bare_number(n, &f.at("labour_hours")) {
+                Some(h) if (0.0..=200.0).contains(&h) => Some(h),
+                Some(_) => {
+                    ctx.error(n.pos(), &f.at("labour_hours"), "labour hours must be from 0 to 200", Some("hours at the bench, such as 1.5".into()));
+                    None
+                }
+                None => None,
+            },
+            None => None,
+        };
+        let changes = f.get("changes").map(|n| changes(n, &f.at("changes"), ctx)).unwrap_or_default();
+        let compensate = f.get("compensate").map(|n| compensate(n, &f.at("compensate"), ctx)).unwrap_or_default();
+        out.push(RawOption { name: k.name.clone(), pos: k.pos, say, labour_hours, changes, compensate });
+    }
+    out
+}
+
+/// The quotation's settings: the hourly rate (in the price list's currency) and the shop's
+/// recommended option.
+fn quote(node: &Node, ctx: &mut Ctx) -> (Quote, Option<crate::diag::Pos>) {
+    let Some(f) = ctx.fields(node, "quote", &["labour_rate", "recommend"]) else { return Default::default() };
+    let labour_rate = f.get("labour_rate").and_then(|n| {
+        let t = ctx.text(n, &f.at("labour_rate"))?;
+        let m = crate::money::Money::parse(&t);
+        if m.is_none() {
+            ctx.error(
+                n.pos(),
+                &f.at("labour_rate"),
+                format!("\"{t}\" is not a price"),
+                Some("a number with a point and at most two decimals, such as 42.50, in the price list's currency".into()),
+            );
+        }
+        m
+    });
+    let recommend = ctx.opt_text(&f, "recommend");
+    (Quote { labour_rate, recommend }, f.get("recommend").map(|n| n.pos()))
+}
+
 /// The price list section: the file and its currency.
 fn prices(node: &Node, ctx: &mut Ctx) -> Option<(TableRef, String)> {
     let f = ctx.fields(node, "prices", &["list", "currency"])?;
@@ -144,10 +192,10 @@ fn prices(node: &Node, ctx: &mut Ctx) -> Option<(TableRef, String)> {
 }
 
 /// The compensate entries as written; the parts and drivers they name are found later.
-fn compensate(node: &Node, ctx: &mut Ctx) -> Vec<RawCompensate> {
+fn compensate(node: &Node, field: &str, ctx: &mut Ctx) -> Vec<RawCompensate> {
     let mut out = Vec::new();
-    for (k, v) in map_entries(node, "compensate", ctx) {
-        let path = format!("compensate.{}", k.name);
+    for (k, v) in map_entries(node, field, ctx) {
+        let path = format!("{field}.{}", k.name);
         let Some(f) = ctx.fields(v, &path, &["driver", "match", "band", "series", "keep_impedance"]) else {
             ctx.failed.push(k.name.clone());
             continue;
@@ -436,6 +484,7 @@ fn report(node: &Node, ctx: &mut Ctx) -> (RawTemplate, Option<Vec<Block>>) {
             Some(t) => match Template::built_in(&t) {
                 Some(Template::Archive) => RawTemplate::Archive,
                 Some(Template::Sale) => RawTemplate::Sale,
+                Some(Template::Quote) => RawTemplate::Quote,
                 Some(_) => RawTemplate::Customer,
                 None if t.ends_with(".typ") => RawTemplate::File { name: t, pos: n.pos() },
                 None => {

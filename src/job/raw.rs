@@ -98,6 +98,7 @@ pub enum RawTemplate {
     Customer,
     Archive,
     Sale,
+    Quote,
     File { name: String, pos: Pos },
 }
 
@@ -107,6 +108,16 @@ pub struct RawCabinet<'n> {
     pub pos: Pos,
     pub measured: Vec<Entry<'n>>,
     pub changes: Vec<RawChange<'n>>,
+}
+
+/// An option as written: its words, labour, and its own steps and compensate entries.
+pub struct RawOption<'n> {
+    pub name: String,
+    pub pos: Pos,
+    pub say: Option<String>,
+    pub labour_hours: Option<f64>,
+    pub changes: Vec<RawChange<'n>>,
+    pub compensate: Vec<RawCompensate>,
 }
 
 pub struct RawJob<'n> {
@@ -121,6 +132,9 @@ pub struct RawJob<'n> {
     pub compensate: Vec<RawCompensate>,
     /// The price list file and its currency.
     pub prices: Option<(TableRef, String)>,
+    pub options: Vec<RawOption<'n>>,
+    pub quote: crate::model::Quote,
+    pub quote_recommend_pos: Option<Pos>,
     pub analysis: Option<Analysis>,
     pub template: RawTemplate,
     pub blocks: Option<Vec<Block>>,

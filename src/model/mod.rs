@@ -173,6 +173,26 @@ pub struct Analysis {
     pub pair_tolerance_db: f64,
 }
 
+/// An option offered to the customer before the work: its own steps and compensate
+/// entries, solved as an as-left scenario of its own.
+#[derive(Debug, Clone, PartialEq)]
+pub struct JobOption {
+    pub name: String,
+    /// The sentence the customer reads.
+    pub say: Option<String>,
+    pub labour_hours: Option<f64>,
+    pub changes: Vec<Change>,
+    pub compensate: Vec<CompensateEntry>,
+    pub pos: Pos,
+}
+
+/// What a quotation needs beyond the options: the hourly rate and the shop's choice.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Quote {
+    pub labour_rate: Option<crate::money::Money>,
+    pub recommend: Option<String>,
+}
+
 /// One line of a shop's price list: a stock item and its unit price.
 #[derive(Debug, Clone, PartialEq)]
 pub struct PriceItem {
@@ -213,6 +233,8 @@ pub enum Template {
     Customer,
     Archive,
     Sale,
+    /// The customer's quotation before the work: the options side by side.
+    Quote,
     /// A shop's own template: its file name and text, read when the job was.
     File {
         name: String,
@@ -222,13 +244,14 @@ pub enum Template {
 
 impl Template {
     /// The built-in templates' names, as the job and the command line spell them.
-    pub const NAMES: [&'static str; 3] = ["customer", "archive", "sale"];
+    pub const NAMES: [&'static str; 4] = ["customer", "archive", "sale", "quote"];
 
     pub fn built_in(name: &str) -> Option<Template> {
         match name {
             "customer" => Some(Template::Customer),
             "archive" => Some(Template::Archive),
             "sale" => Some(Template::Sale),
+            "quote" => Some(Template::Quote),
             _ => None,
         }
     }
@@ -239,6 +262,7 @@ impl Template {
             Template::Customer => "customer",
             Template::Archive => "archive",
             Template::Sale => "sale",
+            Template::Quote => "quote",
             Template::File { name, .. } => name,
         }
     }
@@ -263,12 +287,15 @@ pub enum Block {
     Substitute,
     /// The parts to buy for the work done, priced where the job names a price list.
     PartsToBuy,
+    /// The options offered before the work, side by side, with the recommendation.
+    Options,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 12] = ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair", "substitute", "parts-to-buy"];
+    pub const NAMES: [&'static str; 13] =
+        ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair", "substitute", "parts-to-buy", "options"];
 
     pub fn named(name: &str) -> Option<Block> {
         Some(match name {
@@ -284,6 +311,7 @@ impl Block {
             "pair" => Block::Pair,
             "substitute" => Block::Substitute,
             "parts-to-buy" => Block::PartsToBuy,
+            "options" => Block::Options,
             _ => return None,
         })
     }
@@ -305,6 +333,7 @@ impl Block {
             Block::Pair => "pair",
             Block::Substitute => "substitute",
             Block::PartsToBuy => "parts-to-buy",
+            Block::Options => "options",
         }
     }
 }
@@ -414,6 +443,9 @@ pub struct Job {
     pub compensate: Vec<CompensateEntry>,
     /// The shop's price list, when the job names one.
     pub prices: Option<PriceList>,
+    /// The options offered before the work, in the job's order.
+    pub options: Vec<JobOption>,
+    pub quote: Quote,
     pub analysis: Analysis,
     pub template: Template,
     pub blocks: Option<Vec<Block>>,

@@ -23,6 +23,7 @@ pub const LIB_TYP: &str = include_str!("../../templates/lib.typ");
 pub const CUSTOMER_TYP: &str = include_str!("../../templates/customer.typ");
 pub const ARCHIVE_TYP: &str = include_str!("../../templates/archive.typ");
 pub const SALE_TYP: &str = include_str!("../../templates/sale.typ");
+pub const QUOTE_TYP: &str = include_str!("../../templates/quote.typ");
 
 #[derive(Debug)]
 pub enum ReportError {
@@ -54,6 +55,7 @@ pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Resu
         Template::Customer => ("customer.typ".to_string(), CUSTOMER_TYP.to_string()),
         Template::Archive => ("archive.typ".to_string(), ARCHIVE_TYP.to_string()),
         Template::Sale => ("sale.typ".to_string(), SALE_TYP.to_string()),
+        Template::Quote => ("quote.typ".to_string(), QUOTE_TYP.to_string()),
         // A shop template's text came in with the job: rendering reads nothing from disk.
         Template::File { name, text } => (std::path::Path::new(name).file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text.clone()),
     };

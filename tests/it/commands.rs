@@ -8,8 +8,14 @@ use crate::util::{job_from, root, Cli};
 use voicekeep::analysis;
 use voicekeep::analysis::compensate::AlternativeKind;
 
-pub const SAMPLES: [&str; 5] =
-    ["samples/two-way-recap.yaml", "samples/three-way-mid-table.yaml", "samples/repair-like-for-like.yaml", "samples/pair-recap.yaml", "samples/substitute-tweeter.yaml"];
+pub const SAMPLES: [&str; 6] = [
+    "samples/two-way-recap.yaml",
+    "samples/three-way-mid-table.yaml",
+    "samples/repair-like-for-like.yaml",
+    "samples/pair-recap.yaml",
+    "samples/substitute-tweeter.yaml",
+    "samples/quote-three-options.yaml",
+];
 
 #[test]
 fn every_sample_passes_check() {

@@ -9,7 +9,8 @@ use serde_json::Value;
 
 use crate::util::{root, Cli};
 
-const JOBS: [&str; 11] = [
+const JOBS: [&str; 12] = [
+    "samples/quote-three-options.yaml",
     "samples/substitute-tweeter.yaml",
     "samples/two-way-recap.yaml",
     "samples/pair-recap.yaml",

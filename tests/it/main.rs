@@ -7,6 +7,7 @@ mod commands;
 mod fixtures;
 mod golden;
 mod nodal;
+mod options;
 mod pair;
 mod parts;
 mod reference;

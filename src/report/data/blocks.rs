@@ -548,3 +548,62 @@ pub(super) fn parts_total(p: &crate::analysis::bom::PartsList) -> Option<String>
         n => format!("Total {t} {c} for the priced lines; {n} line{} not in the price list, to be priced by the shop.", if n == 1 { " is" } else { "s are" }),
     })
 }
+
+/// The options side by side: what each does to the drivers and the load, its verdicts, its
+/// parts and labour, and what it costs.
+pub(super) fn options(c: &Ctx) -> Option<OptionsData> {
+    let f = c.f;
+    if f.options.is_empty() {
+        return None;
+    }
+    let plain = c.audience.plain();
+    let net = &c.job.network;
+    let currency = c.job.prices.as_ref().map(|p| p.currency.clone()).unwrap_or_default();
+    let rows = f
+        .options
+        .iter()
+        .map(|o| {
+            let g = &o.findings;
+            let levels: Vec<String> = g
+                .levels
+                .iter()
+                .map(|l| if plain { format!("{}: {}", capitalise(&driver_words(net, &l.driver)), level_words(l.as_left_db)) } else { format!("{} {}", l.driver, db(l.as_left_db)) })
+                .collect();
+            let load = if plain { format!("lowest {}", ohm(g.loads.as_left.min_ohm)) } else { format!("min |Z| {}, {}", ohm(g.loads.as_left.min_ohm), g.loads.as_left.verdict) };
+            let limits = if o.verdicts_ok {
+                "all within limits".to_string()
+            } else {
+                format!("{} over its limit", join_and(&o.over.iter().map(|w| w.split(':').next().unwrap_or("").to_string()).collect::<Vec<_>>()))
+            };
+            let labour = o.labour_hours.map(|h| format!("{} h", trim_number(h, 3))).unwrap_or_else(|| "-".into());
+            let total = match o.total {
+                Some(t) => format!("{t} {currency}"),
+                None if g.parts.total.is_some() => "not all parts priced".into(),
+                None => "no price list".into(),
+            };
+            let mark = if f.recommended.as_ref().is_some_and(|r| r.option == o.name) { " (recommended)" } else { "" };
+            Row(vec![format!("{}{mark}", o.name), o.say.clone().unwrap_or_default(), levels.join("; "), load, limits, labour, total])
+        })
+        .collect();
+    let each = f
+        .options
+        .iter()
+        .map(|o| OptionPartsData {
+            name: o.name.clone(),
+            say: o.say.clone(),
+            parts: parts_to_buy(&o.findings.parts),
+            total: match (o.total, o.labour) {
+                (Some(t), Some(l)) => Some(format!("Labour {l} {currency}; total with parts {t} {currency}.")),
+                (Some(t), None) => Some(format!("Total {t} {currency}.")),
+                _ => parts_total(&o.findings.parts),
+            },
+        })
+        .collect();
+    Some(OptionsData {
+        basis: "each option's steps solved as its own as-left scenario against the original design, with its own compensating parts; the drivers' closeness is the RMS over each band of the level against the original design (acoustic where the job gives sensitivities), the verdicts those of the stress, load and substitute checks; prices from the shop's list, labour at the job's hourly rate".into(),
+        table: Table::new(&["Option", "What it is", "Each driver after the work", "Load", "Limits", "Labour", "Total"], rows),
+        each,
+        recommendation: f.recommended.as_ref().map(|r| r.reason.clone()),
+        recommended: f.recommended.as_ref().map(|r| r.option.clone()),
+    })
+}

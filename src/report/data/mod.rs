@@ -45,6 +45,7 @@ impl Audience {
         match t {
             Template::Customer => Audience::Customer,
             Template::Sale => Audience::Sale,
+            Template::Quote => Audience::Customer,
             Template::Archive | Template::File { .. } => Audience::Archive,
         }
     }
@@ -215,6 +216,27 @@ pub struct ReportData {
     /// The parts to buy for the work done, and their total where a price list priced them.
     pub parts_to_buy: Table,
     pub parts_total: Option<String>,
+    /// The options offered before the work, side by side; None when the job has none.
+    pub options: Option<OptionsData>,
+}
+
+/// The options side by side, each one's parts, and the recommendation.
+#[derive(Debug, Serialize)]
+pub struct OptionsData {
+    pub basis: String,
+    pub table: Table,
+    /// Per option: its name, its sentence, its parts and their total.
+    pub each: Vec<OptionPartsData>,
+    pub recommendation: Option<String>,
+    pub recommended: Option<String>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct OptionPartsData {
+    pub name: String,
+    pub say: Option<String>,
+    pub parts: Table,
+    pub total: Option<String>,
 }
 
 /// What every block builder reads.
@@ -281,6 +303,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Pair => ("pair", None, None),
         Block::Substitute => ("substitute", None, None),
         Block::PartsToBuy => ("parts-to-buy", None, None),
+        Block::Options => ("options", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -317,6 +340,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         substitutes: substitutes(&c),
         parts_to_buy: parts_to_buy(&f.parts),
         parts_total: parts_total(&f.parts),
+        options: options(&c),
     };
 
     trade_units(&mut data);
@@ -360,6 +384,16 @@ pub(super) fn trade_units(d: &mut ReportData) {
         &mut d.parts_to_buy,
     ] {
         table(tb);
+    }
+    if let Some(o) = &mut d.options {
+        o.basis = t(&o.basis);
+        table(&mut o.table);
+        if let Some(r) = &mut o.recommendation {
+            *r = t(r);
+        }
+        for e in &mut o.each {
+            table(&mut e.parts);
+        }
     }
     for x in &mut d.substitutes {
         x.sentence = t(&x.sentence);

@@ -10,6 +10,11 @@ use crate::model::{ChangeStep, Part, PartKind, Patch, Scenario};
 use crate::results::{hz, ohm};
 use crate::units::trim_number;
 
+/// A job of options with no work done yet: a quotation before the work.
+fn quoting(job: &crate::model::Job) -> bool {
+    job.changes.is_empty() && !job.options.is_empty()
+}
+
 pub(super) fn summary(c: &Ctx) -> Vec<String> {
     let (job, f) = (c.job, c.f);
     let net = &job.network;
@@ -61,7 +66,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             })
         };
         let kept: Vec<String> = flagged.iter().filter(|p| !touched(p)).map(|p| p.to_string()).collect();
-        if !kept.is_empty() {
+        if !kept.is_empty() && !quoting(job) {
             let (verb, them) = if kept.len() == 1 { ("was", "its") } else { ("were", "their") };
             out.push(format!("{} {verb} left in place: {them} effect is part of the figures after the work.", join_and(&kept)));
         }
@@ -75,6 +80,11 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
     // The worst point over each driver's whole passband, not a band mean, which can hide a
     // peak at the band's edge.
     let worst = fine.iter().map(|l| l.passband_worst_db.abs()).fold(0.0, f64::max);
+    if quoting(job) {
+        // Options and no work yet: nothing has been done, and there is no "after" to tell.
+        out.push("No work has been done yet: the options below are what the shop offers, each with what it would do and what it costs.".into());
+        return out;
+    }
     if !fine.is_empty() {
         let every = if faults.is_empty() { "every driver" } else { "every other driver" };
         let what = match (crate::analysis::level_flag(worst), plain) {

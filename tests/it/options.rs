@@ -1,0 +1,129 @@
+//! Options: each one's figures are those of a job whose `changes` are its steps, solved as any
+//! job is (the text of the option's steps moved into a job of its own, here); the
+//! recommendation follows its rule; prices and labour add up in exact hundredths.
+
+use serde_json::Value;
+
+use crate::util::{root, Cli};
+
+const SAMPLE: &str = "samples/quote-three-options.yaml";
+
+fn solve_text(text: &str, files: &[&str]) -> Value {
+    let mut cli = Cli::new().job(text);
+    for f in files {
+        cli = cli.file(f, &std::fs::read(root().join("samples").join(f)).unwrap());
+    }
+    let o = cli.args(["solve", "{job}", "--format", "json"]).run();
+    o.code(0);
+    serde_json::from_str(&o.stdout).unwrap()
+}
+
+/// The sample without its options, quote and prices, and each option's `changes` and
+/// `compensate` blocks moved to the top level (indent 4 -> 0), as a job of its own.
+fn as_jobs(text: &str) -> (String, Vec<(String, String)>) {
+    let lines: Vec<&str> = text.lines().collect();
+    let start = lines.iter().position(|l| l.starts_with("options:")).unwrap();
+    let end = start + 1 + lines[start + 1..].iter().position(|l| !l.is_empty() && !l.starts_with(' ') && !l.starts_with('#')).unwrap();
+    let mut options: Vec<(String, String)> = Vec::new();
+    let mut section = false;
+    for l in &lines[start + 1..end] {
+        if l.len() > 2 && l.starts_with("  ") && !l.starts_with("   ") {
+            options.push((l.trim().trim_end_matches(':').to_string(), String::new()));
+            continue;
+        }
+        if l.starts_with("    ") && !l.starts_with("     ") {
+            section = l.trim_start().starts_with("changes:") || l.trim_start().starts_with("compensate:");
+        }
+        if section {
+            let o = options.last_mut().unwrap();
+            o.1.push_str(l.get(4..).unwrap_or(""));
+            o.1.push('\n');
+        }
+    }
+    let mut base: Vec<&str> = lines[..start].to_vec();
+    let rest: Vec<&str> = lines[end..].to_vec();
+    // Drop the prices and quote sections: the job of an option is solved bare.
+    let mut skip = false;
+    for l in rest {
+        if !l.starts_with(' ') && !l.is_empty() {
+            skip = l.starts_with("prices:") || l.starts_with("quote:");
+        }
+        if !skip {
+            base.push(l);
+        }
+    }
+    (base.join("\n").replace("template: quote", "template: customer"), options)
+}
+
+#[test]
+fn each_option_is_the_job_whose_changes_are_its_steps() {
+    let text = std::fs::read_to_string(root().join(SAMPLE)).unwrap();
+    let all = solve_text(&text, &["northwater-prices.csv"]);
+    let (base, options) = as_jobs(&text);
+    assert_eq!(options.len(), 3);
+    let order: Vec<String> = all["option_order"].as_array().unwrap().iter().map(|v| v.as_str().unwrap().to_string()).collect();
+    assert_eq!(order, options.iter().map(|o| o.0.clone()).collect::<Vec<_>>(), "the job's order");
+    for (name, steps) in &options {
+        let alone = solve_text(&format!("{base}\n{steps}"), &[]);
+        let o = &all["options"][name];
+        assert_eq!(o["levels"], alone["levels"], "{name}: levels");
+        assert_eq!(o["load"], alone["load"]["as_left"], "{name}: load");
+        let stress: Vec<&Value> = alone["stress"].as_array().unwrap().iter().filter(|r| r["scenario"] == "as_left").collect();
+        assert_eq!(o["stress"].as_array().unwrap().iter().collect::<Vec<_>>(), stress, "{name}: stress");
+        assert_eq!(o["crossovers"], alone["crossovers"], "{name}: crossovers");
+    }
+}
+
+#[test]
+fn option_totals_are_the_list_prices_and_labour_in_hundredths() {
+    let text = std::fs::read_to_string(root().join(SAMPLE)).unwrap();
+    let j = solve_text(&text, &["northwater-prices.csv"]);
+    // northwater-prices.csv: 3.3 uF 100 V electrolytic 0.60, 10 uF 100 V electrolytic 0.75,
+    // 3.3 uF 250 V film 2.40, 10 uF 250 V film 4.85, 0.91 ohm 5 W 0.45; labour 48.00 an hour.
+    let want = [("like-for-like", 60 + 75 + 4800), ("film-matched", 240 + 485 + 45 + 7200), ("film-only", 240 + 485 + 4800)];
+    for (name, cents) in want {
+        assert_eq!(j["options"][name]["total"], format!("{}.{:02}", cents / 100, cents % 100), "{name}");
+    }
+    assert_eq!(j["options"]["film-matched"]["labour"], "72.00");
+}
+
+#[test]
+fn the_recommendation_is_the_closest_option_not_the_cheapest() {
+    let text = std::fs::read_to_string(root().join(SAMPLE)).unwrap();
+    // Make film-only the cheapest by far (no labour at all) and drop like-for-like: the rule
+    // must still choose film-matched, which keeps the tweeter closest to its design.
+    let a = text.find("  like-for-like:").unwrap();
+    let b = text.find("  film-matched:").unwrap();
+    let text = format!("{}{}", &text[..a], &text[b..])
+        .replace("Film capacitors alone. Longer life, but the tweeter plays a little louder than designed.\n    labour_hours: 1.0", "Film capacitors alone.\n    labour_hours: 0");
+    let j = solve_text(&text, &["northwater-prices.csv"]);
+    let total = |n: &str| j["options"][n]["total"].as_str().unwrap().parse::<f64>().unwrap();
+    assert!(total("film-only") < total("film-matched"), "the constructed case: film-only is the cheaper");
+    let score = |n: &str| j["options"][n]["score_db"].as_f64().unwrap();
+    assert!(score("film-matched") < score("film-only"));
+    assert_eq!(j["recommended"]["option"], "film-matched");
+    assert_eq!(j["recommended"]["named"], false);
+    // A job that names its choice gets it.
+    let named = text.replace("  labour_rate: 48.00", "  labour_rate: 48.00\n  recommend: film-only");
+    let j = solve_text(&named, &["northwater-prices.csv"]);
+    assert_eq!(j["recommended"]["option"], "film-only");
+    assert_eq!(j["recommended"]["named"], true);
+    // A name that is no option is a located error with its suggestion.
+    let bad = text.replace("  labour_rate: 48.00", "  labour_rate: 48.00\n  recommend: film-matchd");
+    let o = Cli::new().job(&bad).file("northwater-prices.csv", &std::fs::read(root().join("samples/northwater-prices.csv")).unwrap()).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("quote.recommend: there is no option \"film-matchd\"").stderr_has("did you mean `film-matched`?");
+}
+
+#[test]
+fn the_quote_renders_the_options_side_by_side_with_a_line_to_sign() {
+    let o = Cli::new().args(["report", SAMPLE, "--template", "quote", "-o", "{dir}/q.pdf"]).run();
+    o.code(0);
+    let out = std::process::Command::new("pdftotext").args(["-layout"]).arg(o.dir.join("q.pdf")).arg("-").output().unwrap();
+    let text = String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ");
+    for want in ["Quotation", "like-for-like (recommended)", "film-matched", "film-only", "Recommended: like-for-like", "signature", "49.35 EUR", "No work has been done yet"] {
+        assert!(text.contains(want), "{want}: {text}");
+    }
+    for jargon in ["|Z|", "EPDR", "ESR"] {
+        assert!(!text.contains(jargon), "{jargon} in the quote");
+    }
+}
