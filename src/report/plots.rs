@@ -352,20 +352,24 @@ fn set_change(job: &Job, set: &SetFindings, scenario: Scenario) -> Result<String
             let f = &c.findings;
             let s = &f.scenes[scenario];
             let Some(j) = s.driver_index(&d.name) else { continue };
-            let (a, b) = match (&f.scenes.as_designed.spl[di], &s.spl[j]) {
-                (Some(a), Some(b)) => (a, b),
-                _ => (&f.scenes.as_designed.db[di], &s.db[j]),
-            };
+            let (a, b) = compared(f, di, s, j);
             let pts = f.bands[di].idx.iter().map(|&i| (f.freqs[i], b[i] - a[i])).collect();
             curves.push(Curve { label: format!("{} cabinet {}", d.name, c.name), colour: colours[di], pattern: cabinet_pattern(k), points: pts });
         }
     }
-    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| *v > -12.0), 2.0);
     let title = format!("Each cabinet {} against the original design, over each driver's band", scenario.label());
+    difference_chart(&title, xr(first), curves)
+}
+
+/// A chart of level differences from the original design, 0 dB marked. Faults (tens of dB
+/// down) would flatten every other trace: the axis stops at -12 dB and breaks what falls
+/// below.
+fn difference_chart(title: &str, x: (f64, f64), curves: Vec<Curve>) -> Result<String, Box<dyn std::error::Error>> {
+    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| *v > -12.0), 2.0);
     log_chart(Chart {
-        title: &title,
+        title,
         y_label: "difference (dB)",
-        x: xr(first),
+        x,
         y: (lo.min(-1.0), hi.max(1.0)),
         curves,
         references: vec![Reference { at: 0.0, label: String::new() }],
@@ -373,6 +377,15 @@ fn set_change(job: &Job, set: &SetFindings, scenario: Scenario) -> Result<String
         band_labels: vec![],
         y_log: false,
     })
+}
+
+/// The design's and a scene's curves of driver `di` (index `k` in the scene) to compare:
+/// acoustic output where both know it, as the levels table compares, else voltage.
+fn compared<'a>(f: &'a Findings, di: usize, s: &'a crate::analysis::Scene, k: usize) -> (&'a [f64], &'a [f64]) {
+    match (&f.scenes.as_designed.spl[di], &s.spl[k]) {
+        (Some(a), Some(b)) => (a, b),
+        _ => (&f.scenes.as_designed.db[di], &s.db[k]),
+    }
 }
 
 /// Each cabinet's impedance magnitude as left, with the design's.
@@ -396,13 +409,18 @@ fn set_impedance(job: &Job, set: &SetFindings) -> Result<String, Box<dyn std::er
         pattern: Pattern::Long,
         points: first.freqs.iter().cloned().zip(first.scenes.as_designed.z.iter().map(log)).collect(),
     });
+    impedance_chart(job, "Input impedance magnitude at the amplifier terminals, each cabinet as left", xr(first), curves)
+}
+
+/// A log |Z| chart of `curves` with the 80 % floor of the rated impedance drawn in.
+fn impedance_chart(job: &Job, title: &str, x: (f64, f64), curves: Vec<Curve>) -> Result<String, Box<dyn std::error::Error>> {
     let rated = job.rated_impedance_ohm();
     let floor = crate::analysis::load::rated_floor(rated);
     let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.3);
     log_chart(Chart {
-        title: "Input impedance magnitude at the amplifier terminals, each cabinet as left",
+        title,
         y_label: "|Z| (Ω)",
-        x: xr(first),
+        x,
         y: (lo.min(floor.log10() - 0.1), hi),
         curves,
         references: vec![Reference {
@@ -481,30 +499,12 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
         let band = &f.bands[di];
         for s in [&f.scenes.as_found, &f.scenes.as_left] {
             let Some(k) = s.driver_index(&d.name) else { continue };
-            // Acoustic output where the design and the scenario both know it, as the levels
-            // table compares.
-            let (a, b) = match (&f.scenes.as_designed.spl[di], &s.spl[k]) {
-                (Some(a), Some(b)) => (a, b),
-                _ => (&f.scenes.as_designed.db[di], &s.db[k]),
-            };
+            let (a, b) = compared(f, di, s, k);
             let pts = band.idx.iter().map(|&i| (f.freqs[i], b[i] - a[i])).collect();
             curves.push(Curve { label: format!("{} {}", d.name, s.scenario.label()), colour: colours[di], pattern: pattern(s.scenario), points: pts });
         }
     }
-    // Faults (tens of dB down) would flatten every other trace: the axis stops at -12 dB and
-    // breaks what falls below.
-    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| *v > -12.0), 2.0);
-    log_chart(Chart {
-        title: "Level against the original design, over each driver's band",
-        y_label: "difference (dB)",
-        x: xr(f),
-        y: (lo.min(-1.0), hi.max(1.0)),
-        curves,
-        references: vec![Reference { at: 0.0, label: String::new() }],
-        bands: vec![],
-        band_labels: vec![],
-        y_log: false,
-    })
+    difference_chart("Level against the original design, over each driver's band", xr(f), curves)
 }
 
 /// One curve per scenario of a quantity of the input impedance.
@@ -524,23 +524,7 @@ fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
     // A log axis: the dips that matter to an amplifier (a few ohms) stay readable beside the
     // resonance peaks (tens of ohms).
     let curves = impedance_curves(f, "|Z|", NAVY, |z| z.norm().max(1e-3).log10());
-    let rated = job.rated_impedance_ohm();
-    let floor = crate::analysis::load::rated_floor(rated);
-    let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.3);
-    log_chart(Chart {
-        title: "Input impedance magnitude at the amplifier terminals",
-        y_label: "|Z| (Ω)",
-        x: xr(f),
-        y: (lo.min(floor.log10() - 0.1), hi),
-        curves,
-        references: vec![Reference {
-            at: floor.log10(),
-            label: format!("80 % of the rated {} Ω: {} Ω (IEC 60268-5)", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)),
-        }],
-        bands: vec![],
-        band_labels: vec![],
-        y_log: true,
-    })
+    impedance_chart(job, "Input impedance magnitude at the amplifier terminals", xr(f), curves)
 }
 
 fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
