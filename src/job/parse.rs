@@ -44,7 +44,8 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let options = top.get("options").map(|n| options(n, ctx)).unwrap_or_default();
     let (quote, quote_recommend_pos) = top.get("quote").map(|n| quote(n, ctx)).unwrap_or_default();
     let prices = top.get("prices").and_then(|n| prices(n, ctx));
-    let (template, blocks) = top.get("report").map(|n| report(n, ctx)).unwrap_or((RawTemplate::Customer, None));
+    let option_names: Vec<String> = options.iter().map(|o| o.name.clone()).collect();
+    let (template, blocks) = top.get("report").map(|n| report(n, &option_names, ctx)).unwrap_or((RawTemplate::Customer, None));
     Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, prices, options, quote, quote_recommend_pos, analysis, template, blocks })
 }
 
@@ -475,7 +476,7 @@ fn sweep(node: &Node, ctx: &mut Ctx) -> Option<Sweep> {
     Some(Sweep::Log { from, to, per_octave })
 }
 
-fn report(node: &Node, ctx: &mut Ctx) -> (RawTemplate, Option<Vec<Block>>) {
+fn report(node: &Node, options: &[String], ctx: &mut Ctx) -> (RawTemplate, Option<Vec<Block>>) {
     let Some(f) = ctx.fields(node, "report", &["template", "blocks"]) else { return (RawTemplate::Customer, None) };
     let template = match f.get("template") {
         None => RawTemplate::Customer,
@@ -518,10 +519,22 @@ fn report(node: &Node, ctx: &mut Ctx) -> (RawTemplate, Option<Vec<Block>>) {
                     out.push(b);
                 }
                 _ => {
-                    let Some(bf) = ctx.fields(item, &path, &["text", "plot"]) else { continue };
+                    let Some(bf) = ctx.fields(item, &path, &["text", "plot", "option"]) else { continue };
                     if let Some(t) = bf.get("text") {
                         if let Some(t) = ctx.text(t, &bf.at("text")) {
                             out.push(Block::Text(t));
+                        }
+                    } else if let Some(o) = bf.get("option") {
+                        // One option's results, by its name in `options`.
+                        if let Some(name) = ctx.text(o, &bf.at("option")) {
+                            if options.contains(&name) {
+                                out.push(Block::Option(name));
+                            } else {
+                                let hint = suggest(&name, options.iter().map(String::as_str))
+                                    .map(|s| format!("did you mean `{s}`?"))
+                                    .unwrap_or_else(|| "name one of the job's `options`".into());
+                                ctx.error(o.pos(), &bf.at("option"), format!("there is no option \"{name}\""), Some(hint));
+                            }
                         }
                     } else if let Some(p) = bf.get("plot") {
                         let opts: Vec<(&str, PlotKind)> = PlotKind::ALL.iter().map(|k| (k.name(), *k)).collect();

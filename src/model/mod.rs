@@ -289,6 +289,8 @@ pub enum Block {
     PartsToBuy,
     /// The options offered before the work, side by side, with the recommendation.
     Options,
+    /// One option's results, by its name.
+    Option(String),
     Plot(PlotKind),
 }
 
@@ -321,6 +323,7 @@ impl Block {
         match self {
             Block::Text(_) => "text",
             Block::Plot(_) => "plot",
+            Block::Option(_) => "option",
             Block::Levels => "levels",
             Block::Parts => "parts",
             Block::Compensation => "compensation",

@@ -127,3 +127,24 @@ fn the_quote_renders_the_options_side_by_side_with_a_line_to_sign() {
         assert!(!text.contains(jargon), "{jargon} in the quote");
     }
 }
+
+#[test]
+fn a_job_block_shows_one_option_with_what_it_was_computed_from() {
+    let text = std::fs::read_to_string(root().join(SAMPLE)).unwrap().replace("  template: quote", "  template: archive\n  blocks: [{ option: film-matched }]");
+    let prices = std::fs::read(root().join("samples/northwater-prices.csv")).unwrap();
+    let o = Cli::new().job(&text).file("northwater-prices.csv", &prices).args(["report", "{job}", "-o", "{dir}/o.pdf"]).run();
+    o.code(0);
+    let out = std::process::Command::new("pdftotext").arg(o.dir.join("o.pdf")).arg("-").output().unwrap();
+    let pdf = String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ");
+    for want in [
+        "Option: film-matched",
+        "Computed from the speaker as found (three bench readings) with this option's three steps: replace C1, replace C2, and insert R9; R9 solved for HF.",
+        "Total with parts 79.70 EUR",
+    ] {
+        assert!(pdf.to_lowercase().contains(&want.to_lowercase()), "{want}: {pdf}");
+    }
+    assert!(!pdf.contains("Option: film-only"), "only the named option");
+    let bad = text.replace("{ option: film-matched }", "{ option: film-mached }");
+    let o = Cli::new().job(&bad).file("northwater-prices.csv", &prices).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("report.blocks.option: there is no option \"film-mached\"").stderr_has("did you mean `film-matched`?");
+}

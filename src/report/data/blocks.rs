@@ -591,6 +591,8 @@ pub(super) fn options(c: &Ctx) -> Option<OptionsData> {
         .map(|o| OptionPartsData {
             name: o.name.clone(),
             say: o.say.clone(),
+            basis: option_basis(c, &o.name),
+            results: option_results(c, o),
             parts: parts_to_buy(&o.findings.parts),
             total: match (o.total, o.labour) {
                 (Some(t), Some(l)) => Some(format!("Labour {l} {currency}; total with parts {t} {currency}.")),
@@ -606,4 +608,50 @@ pub(super) fn options(c: &Ctx) -> Option<OptionsData> {
         recommendation: f.recommended.as_ref().map(|r| r.reason.clone()),
         recommended: f.recommended.as_ref().map(|r| r.option.clone()),
     })
+}
+
+/// What an option was computed from: the speaker as found and the option's steps.
+fn option_basis(c: &Ctx, name: &str) -> String {
+    let Some(o) = c.job.options.iter().find(|o| o.name == name) else { return String::new() };
+    let steps: Vec<String> = o
+        .changes
+        .iter()
+        .map(|ch| match &ch.step {
+            ChangeStep::Replace { target, .. } => format!("replace {target}"),
+            ChangeStep::Insert { part, .. } => format!("insert {}", part.name),
+            ChangeStep::Add { parts } => format!("add {}", parts.iter().map(|p| p.name.as_str()).collect::<Vec<_>>().join(", ")),
+            ChangeStep::Remove { target } => format!("remove {target}"),
+        })
+        .collect();
+    let solved: Vec<String> = o.compensate.iter().map(|e| format!("{} solved for {}", e.part, e.driver)).collect();
+    let solved = if solved.is_empty() { String::new() } else { format!("; {}", join_and(&solved)) };
+    format!(
+        "Computed from the speaker as found ({}) with this option's {} step{}: {}{solved}.",
+        if c.job.measured.is_empty() { "no bench readings, so as designed".to_string() } else { format!("{} bench readings", count_words(c.job.measured.len())) },
+        count_words(steps.len()),
+        if steps.len() == 1 { "" } else { "s" },
+        join_and(&steps)
+    )
+}
+
+/// An option's results as sentences: each driver, the load, the limits.
+fn option_results(c: &Ctx, o: &crate::analysis::options::OptionFindings) -> Vec<String> {
+    let g = &o.findings;
+    let net = &c.job.network;
+    let plain = c.audience.plain();
+    let mut out: Vec<String> = g.levels.iter().map(|l| format!("{} would play {} over its band.", capitalise(&driver_words(net, &l.driver)), level_words(l.as_left_db))).collect();
+    out.push(if plain {
+        format!("The lowest impedance the amplifier would see is {}.", ohm(g.loads.as_left.min_ohm))
+    } else {
+        format!("Load: min |Z| {} at {}, {} ({}).", ohm(g.loads.as_left.min_ohm), hz(Some(g.loads.as_left.min_at_hz)), g.loads.as_left.verdict, g.loads.as_left.reason)
+    });
+    if o.over.is_empty() {
+        out.push("Every part, driver and the load stay within their limits.".into());
+    } else {
+        out.extend(o.over.iter().map(|w| format!("Over its limit: {w}.")));
+    }
+    if !plain {
+        out.extend(g.compensation.warnings.iter().map(|w| format!("Warning: {}", w.message)));
+    }
+    out
 }

@@ -235,6 +235,10 @@ pub struct OptionsData {
 pub struct OptionPartsData {
     pub name: String,
     pub say: Option<String>,
+    /// What it was computed from, in a sentence.
+    pub basis: String,
+    /// Each driver against the original design, the load and the limits, as sentences.
+    pub results: Vec<String>,
     pub parts: Table,
     pub total: Option<String>,
 }
@@ -304,6 +308,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Substitute => ("substitute", None, None),
         Block::PartsToBuy => ("parts-to-buy", None, None),
         Block::Options => ("options", None, None),
+        Block::Option(name) => ("option", Some(name.clone()), None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -393,6 +398,9 @@ pub(super) fn trade_units(d: &mut ReportData) {
         }
         for e in &mut o.each {
             table(&mut e.parts);
+            for r in &mut e.results {
+                *r = t(r);
+            }
         }
     }
     for x in &mut d.substitutes {
