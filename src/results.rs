@@ -105,6 +105,9 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         out["options"] = Value::Object(options);
         out["option_order"] = json!(f.options.iter().map(|o| o.name.clone()).collect::<Vec<_>>());
         out["recommended"] = to_value(&f.recommended);
+        if let Some(c) = &f.chosen {
+            out["chosen"] = to_value(c);
+        }
     }
     if !f.substitutes.is_empty() {
         out["substitutes"] = json!(f.substitutes.iter().map(to_value).collect::<Vec<_>>());

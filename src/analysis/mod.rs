@@ -135,6 +135,8 @@ pub struct Findings {
     /// one recommended.
     pub options: Vec<options::OptionFindings>,
     pub recommended: Option<options::Recommendation>,
+    /// Which option the work done followed, when the job has both.
+    pub chosen: Option<options::Chosen>,
 }
 
 #[derive(Debug)]
@@ -204,6 +206,7 @@ pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, Anal
     if !job.options.is_empty() {
         f.options = options::analyse(job)?;
         f.recommended = options::recommend(job, &f.options);
+        f.chosen = options::chosen(job, &f, &f.options);
     }
     Ok(f)
 }
@@ -293,6 +296,7 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
         parts: bom::PartsList::default(),
         options: Vec::new(),
         recommended: None,
+        chosen: None,
     };
     findings.substitutes = substitute::check(job, &findings);
     findings.parts = bom::for_work(job, &[(&[], &findings.scenes.as_left.network, &findings.stress)]);

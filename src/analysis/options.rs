@@ -152,3 +152,51 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
     };
     Some(Recommendation { option: best.name.clone(), reason, named: false })
 }
+
+/// The option the work done followed, and whether it did what the quote said.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Chosen {
+    /// The option whose steps the job's `changes` are; None when they are none of them.
+    pub option: Option<String>,
+    /// The largest difference between a driver's level as left and the quoted one (dB).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub largest_difference_db: Option<f64>,
+    pub sentence: String,
+}
+
+/// A step as text without where it was written, to compare steps written in two places.
+fn step_text(c: &crate::model::Change) -> String {
+    let t = format!("{:?}", c.step);
+    // Drop every `pos: Pos { .. }`.
+    let mut out = String::with_capacity(t.len());
+    let mut rest = t.as_str();
+    while let Some(i) = rest.find("pos: Pos {") {
+        out.push_str(&rest[..i]);
+        rest = rest[i..].split_once('}').map(|(_, r)| r).unwrap_or("");
+    }
+    out.push_str(rest);
+    out
+}
+
+/// Which option the work done is, and how its levels compare with what was quoted.
+pub fn chosen(job: &Job, f: &Findings, options: &[OptionFindings]) -> Option<Chosen> {
+    if job.changes.is_empty() || options.is_empty() {
+        return None;
+    }
+    let done: Vec<String> = job.changes.iter().map(step_text).collect();
+    let which = job.options.iter().find(|o| o.changes.iter().map(step_text).collect::<Vec<_>>() == done);
+    let Some(o) = which.and_then(|w| options.iter().find(|x| x.name == w.name)) else {
+        return Some(Chosen {
+            option: None,
+            largest_difference_db: None,
+            sentence: "The work done is none of the quoted options as written: its figures stand on their own.".into(),
+        });
+    };
+    let diff = f.levels.iter().filter_map(|l| o.findings.levels.iter().find(|q| q.driver == l.driver).map(|q| (l.as_left_db - q.as_left_db).abs())).fold(0.0, f64::max);
+    let sentence = if diff < 0.05 {
+        format!("The work done is the quoted option {}, and it does what the quotation said: every driver within {diff:.2} dB of the quoted figures.", o.name)
+    } else {
+        format!("The work done is the quoted option {}, but a driver ends {diff:.2} dB from the quoted figures: the readings or the parts fitted differ from those quoted.", o.name)
+    };
+    Some(Chosen { option: Some(o.name.clone()), largest_difference_db: Some(diff), sentence })
+}

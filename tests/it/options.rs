@@ -148,3 +148,20 @@ fn a_job_block_shows_one_option_with_what_it_was_computed_from() {
     let o = Cli::new().job(&bad).file("northwater-prices.csv", &prices).args(["check", "{job}"]).run();
     o.code(1).stderr_has("report.blocks.option: there is no option \"film-mached\"").stderr_has("did you mean `film-matched`?");
 }
+
+#[test]
+fn after_the_work_the_report_says_which_option_was_done_and_that_it_did_what_was_quoted() {
+    let text = std::fs::read_to_string(root().join(SAMPLE)).unwrap();
+    let (_, options) = as_jobs(&text);
+    let (_, steps) = options.iter().find(|o| o.0 == "film-matched").unwrap();
+    // The work done: film-matched's steps (and its compensate entry) at the top level.
+    let done = text.replace("options:                            # offered before the work, in this order", &format!("{steps}\noptions:"));
+    let j = solve_text(&done, &["northwater-prices.csv"]);
+    assert_eq!(j["chosen"]["option"], "film-matched");
+    assert!(j["chosen"]["largest_difference_db"].as_f64().unwrap() < 1e-9, "the same steps on the same speaker");
+    assert!(j["chosen"]["sentence"].as_str().unwrap().contains("does what the quotation said"));
+    // Work that is none of the options is said to be none of them.
+    let other = done.replacen("with: { value: 3.3 uF, esr: 0.012 ohm", "with: { value: 3.9 uF, esr: 0.012 ohm", 1);
+    let j = solve_text(&other, &["northwater-prices.csv"]);
+    assert!(j["chosen"]["option"].is_null());
+}

@@ -348,6 +348,9 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         options: options(&c),
     };
 
+    if let Some(ch) = &f.chosen {
+        data.summary.push(ch.sentence.clone());
+    }
     trade_units(&mut data);
     data
 }
