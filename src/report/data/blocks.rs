@@ -152,7 +152,6 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
         let mut explained = false;
         for fit in &f.compensation.fits {
             let who = driver_words(net, &fit.driver);
-            let place = part_place(net, &fit.part);
             if fit.fault {
                 notes.push(format!("{} could not be fitted: {who} plays far below its design whatever its value, which is a fault in the wiring or the driver.", fit.part));
             } else if fit.cannot_raise {
@@ -160,8 +159,6 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
             } else if fit.is_none() {
                 notes.push(format!("{} was not needed: {who} matches its original level without it.", fit.part));
             } else {
-                let rating = rating_of(&fit.part).map(|(w, _)| format!(", rated {} W,", trim_number(w, 3))).unwrap_or_default();
-                let how = if fit.shunt { format!("across {who}") } else { format!("in {place}") };
                 let substituted = f.substitutes.iter().any(|x| x.driver == fit.driver);
                 let why = if explained {
                     ""
@@ -171,13 +168,24 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
                     ": the new parts lose less energy than the old ones did"
                 };
                 explained = true;
+                // Parts fitted jointly for one driver (an L-pad) share one correction, said once
+                // with all of them.
+                let joint: Vec<&crate::analysis::compensate::Fit> = f.compensation.fits.iter().filter(|x| x.driver == fit.driver && !x.is_none() && !x.fault).collect();
+                if joint.first().is_some_and(|x| x.part != fit.part) {
+                    continue;
+                }
+                let describe = |x: &crate::analysis::compensate::Fit| {
+                    let rating = rating_of(&x.part).map(|(w, _)| format!(", rated {} W,", trim_number(w, 3))).unwrap_or_default();
+                    let how = if x.shunt { format!("across {who}") } else { format!("in {}", part_place(net, &x.part)) };
+                    format!("{}, {} {} resistor{rating} {how}", x.part, crate::units::a_or_an(x.fitted_ohm), ohm(x.fitted_ohm))
+                };
+                let names: Vec<String> = joint.iter().map(|x| x.part.clone()).collect();
+                let (verb, parts) =
+                    if joint.len() > 1 { ("bring", format!("Together, {}", join_and(&joint.iter().map(|x| describe(x)).collect::<Vec<_>>()))) } else { ("brings", describe(fit)) };
                 notes.push(format!(
-                    "Without {}, {who} would have played {:.2} dB louder than designed{why}. {}, {} {} resistor{rating} {how}, brings it back to within {:.2} dB of the original at every frequency of its band.",
-                    fit.part,
+                    "Without {}, {who} would have played {:.2} dB louder than designed{why}. {parts}, {verb} it back to within {:.2} dB of the original at every frequency of its band.",
+                    join_and(&names),
                     fit.excess_db.max(0.0),
-                    fit.part,
-                    crate::units::a_or_an(fit.fitted_ohm),
-                    ohm(fit.fitted_ohm),
                     fit.worst_db.abs()
                 ));
             }
@@ -571,7 +579,7 @@ pub(super) fn options(c: &Ctx) -> Option<OptionsData> {
                 .collect();
             let load = if plain { format!("lowest {}", ohm(g.loads.as_left.min_ohm)) } else { format!("min |Z| {}, {}", ohm(g.loads.as_left.min_ohm), g.loads.as_left.verdict) };
             let limits = if o.verdicts_ok {
-                "all within limits".to_string()
+                "none over its limit".to_string()
             } else {
                 format!("{} over its limit", join_and(&o.over.iter().map(|w| w.split(':').next().unwrap_or("").to_string()).collect::<Vec<_>>()))
             };
@@ -601,8 +609,13 @@ pub(super) fn options(c: &Ctx) -> Option<OptionsData> {
             },
         })
         .collect();
+    // A job of one cabinet whose speaker lists several serials is priced for one of them.
+    let serials = c.job.info.serials.len();
+    let per =
+        if serials > 1 && c.job.cabinets.is_empty() { format!(" Prices and labour are for one cabinet; the job lists {} serials.", count_words(serials)) } else { String::new() };
     Some(OptionsData {
-        basis: "each option's steps solved as its own as-left scenario against the original design, with its own compensating parts; the drivers' closeness is the RMS over each band of the level against the original design (acoustic where the job gives sensitivities), the verdicts those of the stress, load and substitute checks; prices from the shop's list, labour at the job's hourly rate".into(),
+        basis: format!("each option's steps solved as its own as-left scenario against the original design, with its own compensating parts; the drivers' closeness is the RMS over each band of the level against the original design (acoustic where the job gives sensitivities), the verdicts those of the stress, load and substitute checks; prices from the shop's list, labour at the job's hourly rate.{per}"),
+        per_cabinet: (!per.is_empty()).then(|| per.trim().to_string()),
         table: Table::new(&["Option", "What it is", "Each driver after the work", "Load", "Limits", "Labour", "Total"], rows),
         each,
         recommendation: f.recommended.as_ref().map(|r| r.reason.clone()),

@@ -224,6 +224,8 @@ pub struct ReportData {
 #[derive(Debug, Serialize)]
 pub struct OptionsData {
     pub basis: String,
+    /// Said where prices are for one cabinet of several.
+    pub per_cabinet: Option<String>,
     pub table: Table,
     /// Per option: its name, its sentence, its parts and their total.
     pub each: Vec<OptionPartsData>,
@@ -350,6 +352,12 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
 
     if let Some(ch) = &f.chosen {
         data.summary.push(ch.sentence.clone());
+    }
+    // A quotation before any work: the speaker "after the work" is the speaker as it is now.
+    if job.changes.is_empty() && !job.options.is_empty() {
+        for h in &mut data.levels.table.header {
+            *h = h.replace("After the work", "Now, before any work").replace("Before the work", "From the readings");
+        }
     }
     trade_units(&mut data);
     data

@@ -73,7 +73,11 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
     }
     if c.audience == Audience::Archive {
         let n = job.changes.len();
-        out.push(capitalise(&format!("{} change step{} {} recorded (listed below).", count_words(n), if n == 1 { "" } else { "s" }, if n == 1 { "was" } else { "were" })));
+        if n == 0 {
+            out.push("No change steps were recorded.".into());
+        } else {
+            out.push(capitalise(&format!("{} change step{} {} recorded (listed below).", count_words(n), if n == 1 { "" } else { "s" }, if n == 1 { "was" } else { "were" })));
+        }
     }
     let faults: Vec<String> = f.levels.iter().filter(|l| l.as_left_fault).map(|l| driver_words(net, &l.driver)).collect();
     let fine: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| !l.as_left_fault).collect();
