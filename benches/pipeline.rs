@@ -45,8 +45,8 @@ fn report(cr: &mut Criterion) {
     g.sample_size(10);
     g.bench_function("two-way demo, job to PDF (customer template)", |b| {
         b.iter(|| {
-            let f = analysis::analyse(&demo).expect("analyse");
-            voicekeep::report::render(&demo, &f, &demo.template).expect("render")
+            let o = analysis::analyse_job(&demo, &analysis::Quiet).expect("analyse");
+            voicekeep::report::render_outcome(&demo, &o, &demo.template).expect("render")
         })
     });
     g.finish();

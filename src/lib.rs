@@ -3,8 +3,8 @@
 //! reproducible service report.
 //!
 //! The pipeline, each stage a plain function from one owned type to the next:
-//! job file --[`job::load`]--> [`model::Job`] --[`analysis::analyse`]--> [`analysis::Findings`]
-//! --[`report::render`]--> PDF bytes --[`report::write_atomically`]--> file.
+//! job file --[`job::load`]--> [`model::Job`] --[`analysis::analyse_job`]--> [`analysis::Outcome`]
+//! --[`report::render_outcome`]--> PDF bytes --[`report::write_atomically`]--> file.
 
 pub mod analysis;
 pub mod cli;

@@ -16,7 +16,7 @@ use typst_as_lib::TypstEngine;
 use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
-use crate::analysis::{Findings, Outcome};
+use crate::analysis::Outcome;
 use crate::model::{Job, Template};
 
 pub const LIB_TYP: &str = include_str!("../../templates/lib.typ");
@@ -44,12 +44,8 @@ impl fmt::Display for ReportError {
 
 impl std::error::Error for ReportError {}
 
-/// Renders the report to PDF bytes. The same job and findings always give the same bytes.
-pub fn render(job: &Job, f: &Findings, template: &Template) -> Result<Vec<u8>, ReportError> {
-    render_outcome(job, &Outcome::One(Box::new(f.clone())), template)
-}
-
-/// Renders the report of a job of one cabinet or several.
+/// Renders the report of a job of one cabinet or several to PDF bytes. The same job and
+/// findings always give the same bytes.
 pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Result<Vec<u8>, ReportError> {
     let (main_name, main_text) = match template {
         Template::Customer => ("customer.typ".to_string(), CUSTOMER_TYP.to_string()),
