@@ -5,6 +5,7 @@ use serde::Serialize;
 use serde_json::{json, Map, Value};
 use std::fmt::Write;
 
+use crate::analysis::options::{Chosen, OptionFindings, Recommendation};
 use crate::analysis::pair::SetFindings;
 use crate::analysis::{Findings, Outcome};
 use crate::model::{Job, Scenario};
@@ -76,39 +77,10 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "load": load,
         "rated_impedance_basis": job.rated_impedance_basis(),
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
+        "power_range": to_value(&f.power),
     });
     parts_json(&mut out, &f.parts);
-    if !f.options.is_empty() {
-        let mut options = Map::new();
-        for o in &f.options {
-            let g = &o.findings;
-            let mut v = json!({
-                "say": o.say,
-                "levels": g.levels.iter().map(to_value).collect::<Vec<_>>(),
-                "crossovers": g.crossovers.iter().map(to_value).collect::<Vec<_>>(),
-                "load": to_value(&g.loads.as_left),
-                "stress": g.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft).map(to_value).collect::<Vec<_>>(),
-                "driver_power": g.stress.drivers.iter().filter(|r| r.scenario == Scenario::AsLeft).map(to_value).collect::<Vec<_>>(),
-                "compensation": g.compensation.fits.iter().map(to_value).collect::<Vec<_>>(),
-                "warnings": g.compensation.warnings.iter().map(to_value).collect::<Vec<_>>(),
-                "substitutes": g.substitutes.iter().map(to_value).collect::<Vec<_>>(),
-                "score_db": o.score_db,
-                "verdicts_ok": o.verdicts_ok,
-                "over": o.over,
-                "labour_hours": o.labour_hours,
-                "labour": o.labour,
-                "total": o.total,
-            });
-            parts_json(&mut v, &g.parts);
-            options.insert(o.name.clone(), v);
-        }
-        out["options"] = Value::Object(options);
-        out["option_order"] = json!(f.options.iter().map(|o| o.name.clone()).collect::<Vec<_>>());
-        out["recommended"] = to_value(&f.recommended);
-        if let Some(c) = &f.chosen {
-            out["chosen"] = to_value(c);
-        }
-    }
+    options_json(&mut out, &f.options, &f.recommended, &f.chosen);
     if !f.substitutes.is_empty() {
         out["substitutes"] = json!(f.substitutes.iter().map(to_value).collect::<Vec<_>>());
     }
@@ -123,6 +95,58 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         out["acoustic_sum_db"] = Value::Object(m);
     }
     out
+}
+
+/// One option's results from one cabinet's findings.
+fn option_findings_json(g: &Findings) -> Value {
+    json!({
+        "levels": g.levels.iter().map(to_value).collect::<Vec<_>>(),
+        "crossovers": g.crossovers.iter().map(to_value).collect::<Vec<_>>(),
+        "load": to_value(&g.loads.as_left),
+        "stress": g.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft).map(to_value).collect::<Vec<_>>(),
+        "driver_power": g.stress.drivers.iter().filter(|r| r.scenario == Scenario::AsLeft).map(to_value).collect::<Vec<_>>(),
+        "compensation": g.compensation.fits.iter().map(to_value).collect::<Vec<_>>(),
+        "warnings": g.compensation.warnings.iter().map(to_value).collect::<Vec<_>>(),
+        "substitutes": g.substitutes.iter().map(to_value).collect::<Vec<_>>(),
+    })
+}
+
+/// `options.<name>`, `option_order`, `recommended` and `chosen`. An option of a pair or set
+/// holds its first cabinet's results at its top, as the job's results do, with
+/// `cabinets.<name>` and `pair_match`; its parts are the whole job's.
+fn options_json(out: &mut Value, list: &[OptionFindings], recommended: &Option<Recommendation>, chosen: &Option<Chosen>) {
+    if list.is_empty() {
+        return;
+    }
+    let mut options = Map::new();
+    for o in list {
+        let mut v = option_findings_json(&o.findings);
+        v["say"] = json!(o.say);
+        v["score_db"] = json!(o.score_db);
+        v["verdicts_ok"] = json!(o.verdicts_ok);
+        v["over"] = json!(o.over);
+        v["to_check"] = json!(o.to_check);
+        v["labour_hours"] = json!(o.labour_hours);
+        v["labour"] = to_value(&o.labour);
+        v["total"] = to_value(&o.total);
+        if let Some(set) = &o.set {
+            let mut cabinets = Map::new();
+            for c in &set.cabinets {
+                cabinets.insert(c.name.clone(), option_findings_json(&c.findings));
+            }
+            v["cabinet"] = json!(set.cabinets.first().map(|c| c.name.clone()));
+            v["cabinets"] = Value::Object(cabinets);
+            v["pair_match"] = json!(set.matching.iter().map(to_value).collect::<Vec<_>>());
+        }
+        parts_json(&mut v, &o.parts);
+        options.insert(o.name.clone(), v);
+    }
+    out["options"] = Value::Object(options);
+    out["option_order"] = json!(list.iter().map(|o| o.name.clone()).collect::<Vec<_>>());
+    out["recommended"] = to_value(recommended);
+    if let Some(c) = chosen {
+        out["chosen"] = to_value(c);
+    }
 }
 
 /// The parts to buy: `parts[]`, with `currency` and `parts_total` when a price list priced them.
@@ -185,6 +209,7 @@ pub fn set_json(set: &SetFindings) -> Value {
     out["pair_compensation"] = json!(set.compensation.iter().map(to_value).collect::<Vec<_>>());
     // The parts for the whole job, every cabinet's, at the top.
     parts_json(&mut out, &set.parts);
+    options_json(&mut out, &set.options, &set.recommended, &set.chosen);
     out
 }
 
@@ -205,6 +230,10 @@ fn set_text(job: &Job, set: &SetFindings) -> String {
     let mut parts = String::new();
     parts_text(&mut parts, &set.parts);
     s.push_str(&parts.replacen("PARTS TO BUY (the work done)", "PARTS TO BUY (the work done, every cabinet)", 1));
+    options_text(&mut s, &set.options, &set.recommended, set.parts.currency.as_ref());
+    if let Some(c) = &set.chosen {
+        let _ = writeln!(s, "  {}", c.sentence);
+    }
     let _ = writeln!(s);
     for c in &set.cabinets {
         let _ = writeln!(s, "==== CABINET {} ====", c.name);
@@ -319,30 +348,39 @@ pub fn text(job: &Job, f: &Findings) -> String {
     health_text(&mut s, job, f);
     substitute_text(&mut s, f);
     parts_text(&mut s, &f.parts);
-    options_text(&mut s, f);
+    options_text(&mut s, &f.options, &f.recommended, f.parts.currency.as_ref());
     s
 }
 
-/// Each option's outcome side by side, and the recommendation.
-fn options_text(s: &mut String, f: &Findings) {
-    if f.options.is_empty() {
+/// Each option's outcome side by side, and the recommendation; in a pair or set, each
+/// cabinet's levels and load.
+fn options_text(s: &mut String, list: &[OptionFindings], recommended: &Option<Recommendation>, currency: Option<&String>) {
+    if list.is_empty() {
         return;
     }
     let _ = writeln!(s);
     let _ = writeln!(s, "OPTIONS (each solved as its own as-left scenario against as designed)");
-    for o in &f.options {
-        let g = &o.findings;
-        let levels: Vec<String> = g.levels.iter().map(|l| format!("{} {}", l.driver, db(l.as_left_db))).collect();
-        let price = match (o.total, f.parts.currency.as_ref().or(g.parts.currency.as_ref())) {
+    for o in list {
+        let price = match (o.total, currency.or(o.parts.currency.as_ref())) {
             (Some(t), Some(c)) => format!("; total {t} {c}"),
             _ => String::new(),
         };
-        let _ = writeln!(s, "  {}: {}; RMS {:.2} dB; min |Z| {}, load {}{price}", o.name, levels.join(", "), o.score_db, ohm(g.loads.as_left.min_ohm), g.loads.as_left.verdict);
+        let each = o.each();
+        let _ = write!(s, "  {}: RMS {:.2} dB{price}", o.name, o.score_db);
+        for (name, g) in &each {
+            let levels: Vec<String> = g.levels.iter().map(|l| format!("{} {}", l.driver, db(l.as_left_db))).collect();
+            let who = if name.is_empty() { String::new() } else { format!("cabinet {name}: ") };
+            let _ = write!(s, "\n    {who}{}; min |Z| {}, load {}", levels.join(", "), ohm(g.loads.as_left.min_ohm), g.loads.as_left.verdict);
+        }
+        let _ = writeln!(s);
         for w in &o.over {
             let _ = writeln!(s, "    over: {w}");
         }
+        for w in &o.to_check {
+            let _ = writeln!(s, "    check: {w}");
+        }
     }
-    if let Some(r) = &f.recommended {
+    if let Some(r) = recommended {
         let _ = writeln!(s, "  {}", r.reason);
     }
 }

@@ -10,6 +10,7 @@ pub mod health;
 pub mod levels;
 pub mod load;
 pub mod options;
+pub mod power;
 pub mod pair;
 pub mod programme;
 pub mod scene;
@@ -24,9 +25,10 @@ use crate::engine::SolveError;
 use crate::model::{Job, Scenario};
 
 /// A verdict on a figure: within its limit, worth a look, or beyond it.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Default, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Verdict {
+    #[default]
     Ok,
     Check,
     Over,
@@ -137,6 +139,8 @@ pub struct Findings {
     pub recommended: Option<options::Recommendation>,
     /// Which option the work done followed, when the job has both.
     pub chosen: Option<options::Chosen>,
+    /// The largest amplifier power the speaker as left suits.
+    pub power: power::PowerRange,
 }
 
 #[derive(Debug)]
@@ -194,7 +198,26 @@ pub fn analyse_job(job: &Job, progress: &dyn Progress) -> Result<Outcome, Analys
     if job.cabinets.is_empty() {
         analyse_with(job, progress).map(|f| Outcome::One(Box::new(f)))
     } else {
-        pair::analyse_set(job, progress).map(|s| Outcome::Set(Box::new(s)))
+        // A quotation (options, no work done): nothing has been done yet, and each cabinet's
+        // own steps belong to every option, so the speaker "now" is as found.
+        let quote = job.changes.is_empty() && !job.options.is_empty();
+        let now = if quote {
+            let mut j = job.clone();
+            for c in &mut j.cabinets {
+                c.changes.clear();
+            }
+            j
+        } else {
+            job.clone()
+        };
+        let mut s = pair::analyse_set(&now, progress)?;
+        if !job.options.is_empty() {
+            s.options = options::analyse(job)?;
+            s.recommended = options::recommend(job, &s.options);
+            let done: Vec<(&str, &Findings)> = s.cabinets.iter().map(|c| (c.name.as_str(), &c.findings)).collect();
+            s.chosen = options::chosen(job, &done, &s.options);
+        }
+        Ok(Outcome::Set(Box::new(s)))
     }
 }
 
@@ -206,7 +229,7 @@ pub fn analyse_with(job: &Job, progress: &dyn Progress) -> Result<Findings, Anal
     if !job.options.is_empty() {
         f.options = options::analyse(job)?;
         f.recommended = options::recommend(job, &f.options);
-        f.chosen = options::chosen(job, &f, &f.options);
+        f.chosen = options::chosen(job, &[("", &f)], &f.options);
     }
     Ok(f)
 }
@@ -297,7 +320,9 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
         options: Vec::new(),
         recommended: None,
         chosen: None,
+        power: power::PowerRange::default(),
     };
+    findings.power = power::power_range(amp, &findings);
     findings.substitutes = substitute::check(job, &findings);
     findings.parts = bom::for_work(job, &[(&[], &findings.scenes.as_left.network, &findings.stress)]);
     Ok(findings)

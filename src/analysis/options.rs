@@ -4,6 +4,7 @@
 //! original design with no verdict over, unless the job names one.
 
 use crate::analysis::bom::PartsList;
+use crate::analysis::pair::{analyse_set, SetFindings};
 use crate::analysis::{analyse_with, AnalysisError, Findings, Quiet, Verdict};
 use crate::model::{Job, JobOption, Scenario};
 use crate::money::Money;
@@ -12,7 +13,12 @@ use crate::money::Money;
 pub struct OptionFindings {
     pub name: String,
     pub say: Option<String>,
+    /// The option's findings; in a pair or set, its first cabinet's.
     pub findings: Box<Findings>,
+    /// In a pair or set, every cabinet's findings and how they match.
+    pub set: Option<Box<SetFindings>>,
+    /// The parts to buy for the whole job (every cabinet's).
+    pub parts: PartsList,
     pub labour_hours: Option<f64>,
     /// Labour at the job's hourly rate, in hundredths.
     pub labour: Option<Money>,
@@ -21,10 +27,14 @@ pub struct OptionFindings {
     /// RMS over the drivers of each driver's RMS deviation from the original design over its
     /// band (dB; acoustic where known).
     pub score_db: f64,
-    /// No stress, driver power, load or substitute verdict is over.
+    /// Every stress, driver power, load, substitute (and, in a set, match) verdict is ok, or
+    /// "check" where the original design's is too.
     pub verdicts_ok: bool,
     /// The verdicts that are over, in words.
     pub over: Vec<String>,
+    /// The verdicts that are "check" (neither ok nor over) where the original design's are
+    /// not, in words.
+    pub to_check: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -36,7 +46,9 @@ pub struct Recommendation {
     pub named: bool,
 }
 
-/// The job with an option's steps as its work.
+/// The job with an option's steps as its work: they take the place of the job's common
+/// `changes`; in a pair or set each cabinet's own steps (a driver replaced in one cabinet)
+/// still follow them.
 pub fn job_of(job: &Job, o: &JobOption) -> Job {
     let mut j = job.clone();
     j.changes = o.changes.clone();
@@ -46,8 +58,10 @@ pub fn job_of(job: &Job, o: &JobOption) -> Job {
     j
 }
 
-fn score(f: &Findings) -> f64 {
-    let per: Vec<f64> = f
+/// Each driver's RMS deviation from the original design over its band (dB; acoustic where
+/// known).
+fn driver_scores(f: &Findings) -> Vec<f64> {
+    f
         .bands
         .iter()
         .enumerate()
@@ -61,25 +75,61 @@ fn score(f: &Findings) -> f64 {
             let n = band.idx.len().max(1) as f64;
             Some((band.idx.iter().map(|&i| (b[i] - a[i]).powi(2)).sum::<f64>() / n).sqrt())
         })
-        .collect();
+        .collect()
+}
+
+/// The RMS of the drivers' deviations, over every driver of every cabinet.
+fn score(each: &[&Findings]) -> f64 {
+    let per: Vec<f64> = each.iter().flat_map(|f| driver_scores(f)).collect();
     (per.iter().map(|x| x * x).sum::<f64>() / per.len().max(1) as f64).sqrt()
 }
 
-fn over(f: &Findings) -> Vec<String> {
+/// The as-left stress, driver power, load and substitute verdicts that are `v`, each as
+/// "what: why". A "check" the original design has as well (the same part's full-level test
+/// tone, the design's own impedance dip) is the speaker's, not the option's, and is left out,
+/// as is a full-level test tone's caution on a new part (a bench matter, said in the stress
+/// table): an option's verdicts are ok when it makes nothing worse for use than the design.
+fn verdicts(f: &Findings, v: Verdict) -> Vec<String> {
+    let inherited = |scenario_verdict: Option<Verdict>| v == Verdict::Check && scenario_verdict == Some(Verdict::Check);
+    let design_part = |part: &str| f.stress.rows.iter().find(|r| r.scenario == Scenario::AsDesigned && r.part == part).map(|r| r.verdict);
+    let design_driver = |driver: &str| f.stress.drivers.iter().find(|d| d.scenario == Scenario::AsDesigned && d.driver == driver).map(|d| d.verdict);
     let mut out = Vec::new();
-    for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.verdict == Verdict::Over) {
+    // A full-level test tone's caution is the bench's, not the option's.
+    let counts = |bench_only: bool| !(v == Verdict::Check && bench_only);
+    for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft && r.verdict == v && counts(r.bench_only) && !inherited(design_part(&r.part))) {
         out.push(format!("{}: {}", r.part, r.reason));
     }
-    for d in f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft && d.verdict == Verdict::Over) {
+    for d in f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft && d.verdict == v && counts(d.bench_only) && !inherited(design_driver(&d.driver))) {
         out.push(format!("{}: {}", d.driver, d.reason));
     }
-    if f.loads.as_left.verdict == Verdict::Over {
+    if f.loads.as_left.verdict == v && !inherited(Some(f.loads.as_designed.verdict)) {
         out.push(format!("load: {}", f.loads.as_left.reason));
     }
     for s in &f.substitutes {
-        for c in s.checks.iter().filter(|c| c.verdict == Verdict::Over) {
+        for c in s.checks.iter().filter(|c| c.verdict == v) {
             out.push(format!("{} {}: {}", s.driver, c.check, c.reason));
         }
+    }
+    out
+}
+
+/// What is over its limit in a pair or set: each cabinet's, said of its cabinet, and the
+/// drivers whose cabinets no longer match.
+fn set_verdicts(set: &SetFindings, v: Verdict) -> Vec<String> {
+    let mut out = Vec::new();
+    for c in &set.cabinets {
+        out.extend(verdicts(&c.findings, v).into_iter().map(|w| match w.split_once(": ") {
+            Some((what, why)) => format!("{what} in cabinet {}: {why}", c.name),
+            None => format!("{w} in cabinet {}", c.name),
+        }));
+    }
+    for m in set.matching.iter().filter(|m| m.verdict == v && v == Verdict::Over) {
+        out.push(format!(
+            "{} match between cabinets: {:.2} dB apart, over the {} dB tolerance",
+            m.driver,
+            m.as_left_db,
+            crate::units::trim_number(m.tolerance_db, 3)
+        ));
     }
     out
 }
@@ -88,7 +138,21 @@ pub fn analyse(job: &Job) -> Result<Vec<OptionFindings>, AnalysisError> {
     job.options
         .iter()
         .map(|o| {
-            let f = analyse_with(&job_of(job, o), &Quiet)?;
+            let j = job_of(job, o);
+            let (f, set, parts, score_db, [over, to_check]) = if job.cabinets.is_empty() {
+                let f = analyse_with(&j, &Quiet)?;
+                let (parts, score, v) = (f.parts.clone(), score(&[&f]), [verdicts(&f, Verdict::Over), verdicts(&f, Verdict::Check)]);
+                (f, None, parts, score, v)
+            } else {
+                let s = analyse_set(&j, &Quiet)?;
+                let score = score(&s.cabinets.iter().map(|c| &c.findings).collect::<Vec<_>>());
+                let (parts, v) = (s.parts.clone(), [set_verdicts(&s, Verdict::Over), set_verdicts(&s, Verdict::Check)]);
+                match s.cabinets.first().map(|c| c.findings.clone()) {
+                    Some(first) => (first, Some(Box::new(s)), parts, score, v),
+                    // A set always has a cabinet; were it empty, the job's own steps stand.
+                    None => (analyse_with(&j, &Quiet)?, None, parts, score, v),
+                }
+            };
             let labour = match (o.labour_hours, job.quote.labour_rate) {
                 // Hours to hundredths of an hour, then exact: rate x hours, rounded half up to
                 // the hundredth.
@@ -98,19 +162,21 @@ pub fn analyse(job: &Job) -> Result<Vec<OptionFindings>, AnalysisError> {
                 }
                 _ => None,
             };
-            let parts_total = priced_total(&f.parts);
+            let parts_total = priced_total(&parts);
             let total = match (parts_total, labour, o.labour_hours) {
                 (Some(p), Some(l), _) => p.plus(l),
                 (Some(p), None, None) => Some(p),
                 _ => None,
             };
-            let over = over(&f);
             Ok(OptionFindings {
                 name: o.name.clone(),
                 say: o.say.clone(),
-                score_db: score(&f),
-                verdicts_ok: over.is_empty(),
+                score_db,
+                set,
+                parts,
+                verdicts_ok: over.is_empty() && to_check.is_empty(),
                 over,
+                to_check,
                 labour_hours: o.labour_hours,
                 labour,
                 total,
@@ -134,21 +200,43 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
             named: true,
         });
     }
-    let ok: Vec<&OptionFindings> = options.iter().filter(|o| o.verdicts_ok).collect();
-    let pool = if ok.is_empty() { options.iter().collect() } else { ok };
+    // The closest of those with every verdict ok; failing that, of those with none over;
+    // failing that, of all, and the sentence says which.
+    let all_ok: Vec<&OptionFindings> = options.iter().filter(|o| o.verdicts_ok).collect();
+    let none_over: Vec<&OptionFindings> = options.iter().filter(|o| o.over.is_empty()).collect();
+    let (pool, tier) = if !all_ok.is_empty() {
+        (all_ok, 0)
+    } else if !none_over.is_empty() {
+        (none_over, 1)
+    } else {
+        (options.iter().collect(), 2)
+    };
     let best = pool.iter().min_by(|a, b| a.score_db.total_cmp(&b.score_db))?;
     let others: Vec<String> = options.iter().filter(|o| o.name != best.name).map(|o| format!("{} {:.2} dB", o.name, o.score_db)).collect();
     let against = if others.is_empty() { String::new() } else { format!(" (against {})", others.join(", ")) };
-    let reason = if options.iter().any(|o| o.verdicts_ok) {
-        format!(
-            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with no part, driver or load over its limit.",
+    let what = |list: &[String]| {
+        let names: Vec<&str> = list.iter().map(|w| w.split(':').next().unwrap_or("")).collect();
+        match names.split_last() {
+            Some((last, [])) => last.to_string(),
+            Some((last, rest)) => format!("{} and {last}", rest.join(", ")),
+            None => String::new(),
+        }
+    };
+    let reason = match tier {
+        0 => format!(
+            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with every part, driver and the load within their limits.",
             best.name, best.score_db
-        )
-    } else {
-        format!(
+        ),
+        1 => format!(
+            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with nothing over its limit; no option is free of new cautions, and this one leaves {} to check.",
+            best.name,
+            best.score_db,
+            what(&best.to_check)
+        ),
+        _ => format!(
             "No option keeps every part, driver and load within its limits; {} keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}.",
             best.name, best.score_db
-        )
+        ),
     };
     Some(Recommendation { option: best.name.clone(), reason, named: false })
 }
@@ -178,8 +266,19 @@ fn step_text(c: &crate::model::Change) -> String {
     out
 }
 
-/// Which option the work done is, and how its levels compare with what was quoted.
-pub fn chosen(job: &Job, f: &Findings, options: &[OptionFindings]) -> Option<Chosen> {
+impl OptionFindings {
+    /// Each cabinet's findings with its name; one cabinet's is named "".
+    pub fn each(&self) -> Vec<(&str, &Findings)> {
+        match &self.set {
+            Some(s) => s.cabinets.iter().map(|c| (c.name.as_str(), &c.findings)).collect(),
+            None => vec![("", &*self.findings)],
+        }
+    }
+}
+
+/// Which option the work done is, and how its levels compare with what was quoted; `done` is
+/// `cabinets` is each cabinet's findings for the work done, with its name ("" for a job of one cabinet).
+pub fn chosen(job: &Job, cabinets: &[(&str, &Findings)], options: &[OptionFindings]) -> Option<Chosen> {
     if job.changes.is_empty() || options.is_empty() {
         return None;
     }
@@ -192,7 +291,12 @@ pub fn chosen(job: &Job, f: &Findings, options: &[OptionFindings]) -> Option<Cho
             sentence: "The work done is none of the quoted options as written: its figures stand on their own.".into(),
         });
     };
-    let diff = f.levels.iter().filter_map(|l| o.findings.levels.iter().find(|q| q.driver == l.driver).map(|q| (l.as_left_db - q.as_left_db).abs())).fold(0.0, f64::max);
+    let quoted = o.each();
+    let diff = cabinets
+        .iter()
+        .filter_map(|(name, f)| quoted.iter().find(|(n, _)| n == name).map(|(_, q)| (f, q)))
+        .flat_map(|(f, q)| f.levels.iter().filter_map(|l| q.levels.iter().find(|x| x.driver == l.driver).map(|x| (l.as_left_db - x.as_left_db).abs())))
+        .fold(0.0, f64::max);
     let sentence = if diff < 0.05 {
         format!("The work done is the quoted option {}, and it does what the quotation said: every driver within {diff:.2} dB of the quoted figures.", o.name)
     } else {

@@ -97,6 +97,10 @@ pub struct SetFindings {
     pub tolerance_db: f64,
     /// The parts to buy for every cabinet's work.
     pub parts: crate::analysis::bom::PartsList,
+    /// The options offered before the work, each solved for every cabinet.
+    pub options: Vec<crate::analysis::options::OptionFindings>,
+    pub recommended: Option<crate::analysis::options::Recommendation>,
+    pub chosen: Option<crate::analysis::options::Chosen>,
 }
 
 /// The band-mean deviation from its reference of the driver a compensate entry names, in the
@@ -229,12 +233,13 @@ pub fn analyse_set(job: &Job, progress: &dyn Progress) -> Result<SetFindings, An
         let f = &mut c.findings;
         let scenes: Vec<&crate::analysis::Scene> = f.scenes.iter().collect();
         f.stress = crate::analysis::stress::stress(&c.job.amplifier, c.job.analysis.programme, &f.grid, &scenes, &floors);
+        f.power = crate::analysis::power::power_range(&c.job.amplifier, f);
     }
 
     let matching = matching(job, &cabinets, tol);
     let each: Vec<_> = job.cabinets.iter().zip(&cabinets).map(|(own, c)| (own.changes.as_slice(), &c.findings.scenes.as_left.network, &c.findings.stress)).collect();
     let parts = crate::analysis::bom::for_work(job, &each);
-    Ok(SetFindings { cabinets, matching, compensation, tolerance_db: tol, parts })
+    Ok(SetFindings { cabinets, matching, compensation, tolerance_db: tol, parts, options: Vec::new(), recommended: None, chosen: None })
 }
 
 /// The median of a few numbers.

@@ -43,6 +43,10 @@ pub struct StressRow {
     pub rating_chosen: bool,
     pub verdict: Verdict,
     pub reason: String,
+    /// The verdict is "check" only for a full-level sine on the bench (a test-tone caution),
+    /// not for programme.
+    #[serde(skip)]
+    pub bench_only: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -56,6 +60,9 @@ pub struct DriverPower {
     pub rated_w: Option<f64>,
     pub verdict: Verdict,
     pub reason: String,
+    /// As [`StressRow::bench_only`].
+    #[serde(skip)]
+    pub bench_only: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -115,7 +122,8 @@ fn driver_power(s: &Scene, d: &Driver, x: &Figures) -> DriverPower {
         Some(r) => (Verdict::Ok, format!("{} W of programme against {} {} W rating", w(prog), a_or_an(r), w(r))),
         None => (Verdict::Ok, "no power rating on record for this driver".to_string()),
     };
-    DriverPower { scenario: s.scenario, driver: d.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason }
+    let bench_only = verdict == Verdict::Check;
+    DriverPower { scenario: s.scenario, driver: d.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason, bench_only }
 }
 
 /// A resistor's rating (the job's, or one chosen from its programme dissipation, at least
@@ -143,10 +151,13 @@ fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures, floor: Op
             Some(r) if RESISTOR_MARGIN * prog > r => {
                 (Verdict::Check, format!("{} W on programme leaves less than the 2x margin under its {} W rating (common practice)", w(prog), w(r)))
             }
-            Some(r) if sine.0 > r => (
-                Verdict::Check,
-                format!("a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low", hz(Some(sine.1)), part.name, w(sine.0), a_or_an(r), w(r)),
-            ),
+            Some(r) if sine.0 > r => {
+                row.bench_only = true;
+                (
+                    Verdict::Check,
+                    format!("a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low", hz(Some(sine.1)), part.name, w(sine.0), a_or_an(r), w(r)),
+                )
+            }
             Some(r) => (Verdict::Ok, format!("{} W on programme, {} W with a full-level sine, in {} {} W part", trim_number(prog, 2), trim_number(sine.0, 2), a_or_an(r), w(r))),
         }
     };
@@ -224,6 +235,7 @@ pub fn stress(amp: &Amplifier, programme_kind: Programme, grid: &StressGrid, sce
                 rating_chosen: false,
                 verdict: Verdict::Ok,
                 reason: String::new(),
+                bench_only: false,
             };
             match (part.kind, &el.model) {
                 (PartKind::Resistor, ElementModel::Resistor { r }) => resistor(&mut row, part, *r, &x, floors.get(&part.name).copied()),

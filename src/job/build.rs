@@ -69,14 +69,6 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         })
         .collect();
     let options_whole = ctx.diags.len() == before_options;
-    if let Some(first) = options.first().filter(|_| !cabinets.is_empty()) {
-        ctx.error(
-            first.pos,
-            &format!("options.{}", first.name),
-            "options are not yet solved for a pair or set of cabinets",
-            Some("quote the options in a job for one cabinet; the pair's work done goes in this job's `changes`".into()),
-        );
-    }
     if let (Some(name), Some(pos)) = (&raw.quote.recommend, raw.quote_recommend_pos) {
         if !options.iter().any(|o| &o.name == name) {
             let hint = match suggest(name, options.iter().map(|o| o.name.as_str())) {
@@ -95,7 +87,16 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         checks::connections(&network, if steps_whole { Some((&measured, &changes)) } else { None }, ctx);
         if steps_whole && options_whole {
             for o in options.iter().filter(|o| !o.changes.is_empty()) {
+                let before = ctx.diags.len();
                 checks::cabinet_steps(&network, &measured, &o.changes, 0, &format!("options.{}.changes", o.name), ctx);
+                // In a pair or set, each cabinet's own steps follow the option's in its place.
+                if ctx.diags.len() == before {
+                    for c in cabinets.iter().filter(|c| !c.changes.is_empty()) {
+                        let m: Vec<Reading> = measured.iter().chain(&c.measured).cloned().collect();
+                        let ch: Vec<Change> = o.changes.iter().chain(&c.changes).cloned().collect();
+                        checks::cabinet_steps(&network, &m, &ch, o.changes.len(), &format!("cabinets.{}.changes (after options.{}.changes)", c.name, o.name), ctx);
+                    }
+                }
             }
         }
         if steps_whole {

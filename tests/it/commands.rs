@@ -8,13 +8,14 @@ use crate::util::{job_from, root, Cli};
 use voicekeep::analysis;
 use voicekeep::analysis::compensate::AlternativeKind;
 
-pub const SAMPLES: [&str; 6] = [
+pub const SAMPLES: [&str; 7] = [
     "samples/two-way-recap.yaml",
     "samples/three-way-mid-table.yaml",
     "samples/repair-like-for-like.yaml",
     "samples/pair-recap.yaml",
     "samples/substitute-tweeter.yaml",
     "samples/quote-three-options.yaml",
+    "samples/pair-quote.yaml",
 ];
 
 #[test]

@@ -9,8 +9,9 @@ use serde_json::Value;
 
 use crate::util::{root, Cli};
 
-const JOBS: [&str; 12] = [
+const JOBS: [&str; 13] = [
     "samples/quote-three-options.yaml",
+    "samples/pair-quote.yaml",
     "samples/substitute-tweeter.yaml",
     "samples/two-way-recap.yaml",
     "samples/pair-recap.yaml",

@@ -165,3 +165,96 @@ fn after_the_work_the_report_says_which_option_was_done_and_that_it_did_what_was
     let j = solve_text(&other, &["northwater-prices.csv"]);
     assert!(j["chosen"]["option"].is_null());
 }
+
+const PAIR: &str = "samples/pair-quote.yaml";
+
+/// A price string ("12.40") as whole hundredths, read without floating point.
+fn cents(s: &Value) -> i64 {
+    let s = s.as_str().unwrap_or_else(|| panic!("not a price: {s}"));
+    let (units, hundredths) = s.split_once('.').unwrap();
+    units.parse::<i64>().unwrap() * 100 + hundredths.parse::<i64>().unwrap()
+}
+
+#[test]
+fn a_pair_option_is_the_pair_job_whose_common_changes_are_its_steps() {
+    let text = std::fs::read_to_string(root().join(PAIR)).unwrap();
+    let all = solve_text(&text, &["kestrel-prices.csv"]);
+    let (base, options) = as_jobs(&text);
+    assert_eq!(options.len(), 2);
+    for (name, steps) in &options {
+        // The option's steps as the pair's common changes; the second cabinet's own R1
+        // replacement still follows them.
+        let alone = solve_text(&format!("{base}\n{steps}"), &[]);
+        let o = &all["options"][name];
+        for cab in ["KB-5204", "KB-5205"] {
+            let (q, a) = (&o["cabinets"][cab], &alone["cabinets"][cab]);
+            assert_eq!(q["levels"], a["levels"], "{name} {cab}: levels");
+            assert_eq!(q["load"], a["load"]["as_left"], "{name} {cab}: load");
+            let stress: Vec<&Value> = a["stress"].as_array().unwrap().iter().filter(|r| r["scenario"] == "as_left").collect();
+            assert_eq!(q["stress"].as_array().unwrap().iter().collect::<Vec<_>>(), stress, "{name} {cab}: stress");
+        }
+        assert_eq!(o["pair_match"], alone["pair_match"], "{name}: pair match");
+        assert_eq!(o["levels"], alone["cabinets"]["KB-5204"]["levels"], "{name}: the top is the first cabinet");
+    }
+}
+
+#[test]
+fn a_pair_option_buys_parts_for_both_cabinets_and_labour_for_the_job() {
+    let text = std::fs::read_to_string(root().join(PAIR)).unwrap();
+    let j = solve_text(&text, &["kestrel-prices.csv"]);
+    let o = &j["options"]["like-for-like"];
+    let line = |o: &Value, value: &str| o["parts"].as_array().unwrap().iter().find(|l| l["value"] == value).cloned().unwrap_or_else(|| panic!("{value}: {}", o["parts"]));
+    // Two capacitors of each value (one per cabinet) and the one cabinet's pad resistor.
+    assert_eq!(line(o, "3.3 uF")["quantity"], 2);
+    assert_eq!(line(o, "10 uF")["quantity"], 2);
+    assert_eq!(line(o, "2.2 ohm")["quantity"], 1);
+    // kestrel-prices.csv: 3.3 uF 100 V electrolytic 0.85, 10 uF 100 V electrolytic 1.10,
+    // 2.2 ohm 10 W cement 0.90; labour 2.0 h at 52.00 for the whole job.
+    assert_eq!(cents(&o["total"]), 2 * 85 + 2 * 110 + 90 + 10400);
+    // film-matched: whatever R9 was fitted, the total is its lines' prices and 2.5 h.
+    let f = &j["options"]["film-matched"];
+    let lines: i64 = f["parts"].as_array().unwrap().iter().map(|l| cents(&l["price"])).sum();
+    assert_eq!(cents(&f["total"]), lines + 13000);
+    assert_eq!(line(f, "3.3 uF")["quantity"], 2);
+    assert!(j["recommended"]["reason"].as_str().unwrap().starts_with("Recommended: "), "{}", j["recommended"]);
+}
+
+#[test]
+fn a_pair_quote_renders_both_cabinets_options_with_a_line_to_sign() {
+    let o = Cli::new().args(["report", PAIR, "-o", "{dir}/q.pdf"]).run();
+    o.code(0);
+    let out = std::process::Command::new("pdftotext").args(["-layout"]).arg(o.dir.join("q.pdf")).arg("-").output().unwrap();
+    let text = String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ");
+    for want in ["Quotation", "like-for-like", "film-matched", "signature", "Parts are counted and prices given for both cabinets"] {
+        assert!(text.contains(want), "{want}: {text}");
+    }
+    for jargon in ["|Z|", "EPDR", "ESR"] {
+        assert!(!text.contains(jargon), "{jargon} in the quote");
+    }
+}
+
+#[test]
+fn an_option_with_a_new_caution_yields_to_one_whose_every_verdict_is_ok() {
+    let text = std::fs::read_to_string(root().join(SAMPLE)).unwrap();
+    // like-for-like's C1 peaks near 38.3 V (the stress table): a 45 V part is above 80 % of
+    // its rating (a "check", common practice) though not over it; the original's is 100 V.
+    let ll = "with: { value: 3.3 uF, esr: 0.9 ohm, rating: 100 V, type: bipolar electrolytic }";
+    assert!(text.contains(ll));
+    let checked = text.replacen(ll, &ll.replace("100 V", "45 V"), 1);
+    let j = solve_text(&checked, &["northwater-prices.csv"]);
+    assert_eq!(j["options"]["like-for-like"]["verdicts_ok"], false);
+    assert!(j["options"]["like-for-like"]["to_check"][0].as_str().unwrap().starts_with("C1: peaks at"), "{}", j["options"]["like-for-like"]["to_check"]);
+    assert_eq!(j["recommended"]["option"], "film-matched", "the closest with every verdict ok");
+    // Every option with that caution: the closest of those with none over, and it says what
+    // is left to check.
+    let film = "with: { value: 3.3 uF, esr: 0.012 ohm, rating: 250 V, type: polypropylene film }";
+    let all = checked.replace(film, &film.replace("250 V", "45 V"));
+    let j = solve_text(&all, &["northwater-prices.csv"]);
+    assert_eq!(j["recommended"]["option"], "like-for-like");
+    assert!(j["recommended"]["reason"].as_str().unwrap().contains("leaves C1 to check"), "{}", j["recommended"]["reason"]);
+    // One over its rating is passed over for the others.
+    let over = text.replacen(ll, &ll.replace("100 V", "30 V"), 1);
+    let j = solve_text(&over, &["northwater-prices.csv"]);
+    assert!(!j["options"]["like-for-like"]["over"].as_array().unwrap().is_empty());
+    assert_eq!(j["recommended"]["option"], "film-matched");
+}

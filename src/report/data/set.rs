@@ -51,7 +51,7 @@ fn rows_eq(a: &[Row], b: &[Row]) -> bool {
 
 /// Sentences of several cabinets as one list: those every cabinet says once, in the first
 /// cabinet's order; the rest said of their cabinet.
-fn merge_sentences(names: &[String], lists: Vec<Vec<String>>) -> Vec<String> {
+pub(super) fn merge_sentences(names: &[String], lists: Vec<Vec<String>>) -> Vec<String> {
     let shared = |s: &String| lists.iter().all(|l| l.contains(s));
     let mut out: Vec<String> = Vec::new();
     if let Some(first) = lists.first() {
@@ -171,6 +171,14 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
         }
     }
     data.pair = Some(pair);
+    // The options, each solved for every cabinet.
+    if let Some(first) = set.cabinets.first() {
+        let c = super::Ctx { job: &first.job, f: &first.findings, audience: data.audience };
+        data.options = super::blocks::options_of(&c, &set.options, set.recommended.as_ref());
+    }
+    if let Some(ch) = &set.chosen {
+        data.summary.push(ch.sentence.clone());
+    }
     super::trade_units(&mut data);
     data
 }
@@ -213,6 +221,13 @@ fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
             })
             .collect();
         out.push(capitalise(&format!("As they came in, {}.", join_and(&each))));
+    }
+    // Before any work (a quotation) the match as left is the match as found, said above.
+    if job.changes.is_empty() && !job.options.is_empty() {
+        if found_apart.is_empty() {
+            out.push(format!("As they came in, {} matched: every driver within {tol} dB.", cabinets_words(n)));
+        }
+        return out;
     }
     if apart.is_empty() {
         let how = if n == 2 { format!("every driver within {tol} dB of its partner in the other cabinet") } else { format!("every driver within {tol} dB of the set's middle") };
