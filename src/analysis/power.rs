@@ -20,9 +20,11 @@ pub struct PowerRange {
     /// when no part or driver has a rating on record.
     pub max_w: Option<f64>,
     pub into_ohm: f64,
-    /// The part or driver that reaches its limit first.
+    /// The part or driver that reaches its limit first, and which limit, in words.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub limited_by: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub limit: Option<String>,
     /// Parts and drivers with no rating on record, which bound nothing.
     pub unrated: Vec<String>,
     /// The load the amplifier sees as left, and its verdict.
@@ -45,18 +47,19 @@ fn power_at(job_w: f64, at_job: f64, limit: f64, square: bool) -> Option<f64> {
 
 pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
     let p = amp.power_w;
-    let mut limits: Vec<(f64, String)> = Vec::new();
+    let mut limits: Vec<(f64, String, String)> = Vec::new();
+    let t = |v: f64| trim_number(v, 3);
     let mut unrated = Vec::new();
     for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft) {
         let limit = match r.kind {
             // A resistor not fitted (0 ohm link or open) dissipates nothing.
             PartKind::Resistor if r.programme_w <= 0.0 => continue,
-            PartKind::Resistor => r.rating_w.map(|w| power_at(p, r.programme_w, w, false)),
-            PartKind::Capacitor => r.rating_v.map(|v| r.peak_v.and_then(|pk| power_at(p, pk, v, true))),
-            PartKind::Inductor => r.rating_a.map(|a| r.rms_a.and_then(|i| power_at(p, i, a, true))),
+            PartKind::Resistor => r.rating_w.map(|w| power_at(p, r.programme_w, w, false).map(|x| (x, format!("its programme dissipation reaches its {} W rating", t(w))))),
+            PartKind::Capacitor => r.rating_v.map(|v| r.peak_v.and_then(|pk| power_at(p, pk, v, true)).map(|x| (x, format!("its peak voltage reaches its {} V rating", t(v))))),
+            PartKind::Inductor => r.rating_a.map(|a| r.rms_a.and_then(|i| power_at(p, i, a, true)).map(|x| (x, format!("its current reaches its {} A rating", t(a))))),
         };
         match limit {
-            Some(Some(w)) => limits.push((w, r.part.clone())),
+            Some(Some((w, why))) => limits.push((w, r.part.clone(), why)),
             Some(None) => {}
             // An inductor's current rating is rarely on record; it is named with the others.
             None => unrated.push(r.part.clone()),
@@ -64,7 +67,7 @@ pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
     }
     for d in f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft) {
         match d.rated_w {
-            Some(w) => limits.extend(power_at(p, d.programme_w, w, false).map(|x| (x, d.driver.clone()))),
+            Some(w) => limits.extend(power_at(p, d.programme_w, w, false).map(|x| (x, d.driver.clone(), format!("its programme power reaches its {} W rating", t(w))))),
             None => unrated.push(d.driver.clone()),
         }
     }
@@ -75,6 +78,7 @@ pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
     PowerRange {
         max_w: first.as_ref().map(|x| x.0),
         into_ohm: amp.into_ohm,
+        limit: first.as_ref().map(|x| x.2.clone()),
         limited_by: first.map(|x| x.1),
         unrated,
         min_ohm: load.min_ohm,

@@ -113,8 +113,33 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
     if let Some(a) = &raw.analysis {
         checks::coverage(&network, &all_changes, &compensate, &a.sweep, ctx);
     }
+    // The shop's settings file fills what the job leaves out: its name, address and contact,
+    // its warranty terms and its hourly rate.
+    let mut info = raw.info.unwrap_or_default();
+    let mut quote = raw.quote;
+    let mut service = raw.service;
+    if let Some(r) = &raw.shop_settings {
+        if let Some((file, text)) = ctx.read_file(r) {
+            if let Some(s) = super::service::settings(&text, &file, r.pos, &r.field, ctx) {
+                let fill = |mine: &mut String, theirs: Option<String>| {
+                    if mine.is_empty() {
+                        *mine = theirs.unwrap_or_default();
+                    }
+                };
+                fill(&mut info.shop_name, s.name);
+                fill(&mut info.shop_address, s.address);
+                fill(&mut info.shop_contact, s.contact);
+                if service.warranty.is_none() {
+                    service.warranty = s.warranty;
+                }
+                if quote.labour_rate.is_none() {
+                    quote.labour_rate = s.labour_rate;
+                }
+            }
+        }
+    }
     Some(Job {
-        info: raw.info.unwrap_or_default(),
+        info,
         amplifier: raw.amplifier?,
         network,
         measured,
@@ -123,10 +148,11 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         compensate,
         prices: raw.prices.as_ref().and_then(|(r, currency)| ctx.price_list(r, currency)),
         options,
-        quote: raw.quote,
+        quote,
         analysis: raw.analysis?,
         template,
         blocks: raw.blocks,
+        service,
         inputs: Vec::new(),
     })
 }

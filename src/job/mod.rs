@@ -19,6 +19,7 @@ pub mod fields;
 pub mod parse;
 pub mod raw;
 pub mod reader;
+pub mod service;
 pub mod tables;
 pub mod yaml;
 

@@ -12,7 +12,7 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
-const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report"];
+const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service"];
 
 pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let mut top = ctx.fields(root, "", JOB_KEYS)?;
@@ -28,7 +28,8 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
         ),
         Some(_) => {}
     }
-    let info = top.get("job").and_then(|n| info(n, ctx));
+    let mut shop_settings = None;
+    let info = top.get("job").and_then(|n| info(n, &mut shop_settings, ctx));
     if top.get("job").is_none() {
         ctx.error(top.pos, "job", "missing `job` (number, date, technician, shop, customer, speaker)", Some("`voicekeep new` prints a starter job".into()));
     }
@@ -46,7 +47,26 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let prices = top.get("prices").and_then(|n| prices(n, ctx));
     let option_names: Vec<String> = options.iter().map(|o| o.name.clone()).collect();
     let (template, blocks) = top.get("report").map(|n| report(n, &option_names, ctx)).unwrap_or((RawTemplate::Customer, None));
-    Some(RawJob { info, amplifier, network, network_whole, measured, changes, cabinets, compensate, prices, options, quote, quote_recommend_pos, analysis, template, blocks })
+    let service = top.get("service").map(|n| super::service::service(n, ctx)).unwrap_or_default();
+    Some(RawJob {
+        info,
+        amplifier,
+        network,
+        network_whole,
+        measured,
+        changes,
+        cabinets,
+        compensate,
+        prices,
+        options,
+        quote,
+        quote_recommend_pos,
+        analysis,
+        template,
+        blocks,
+        service,
+        shop_settings,
+    })
 }
 
 /// The change steps as written: each one action, its parts read; what they name is found
@@ -229,7 +249,7 @@ fn compensate(node: &Node, field: &str, ctx: &mut Ctx) -> Vec<RawCompensate> {
     out
 }
 
-fn info(node: &Node, ctx: &mut Ctx) -> Option<JobInfo> {
+fn info(node: &Node, settings: &mut Option<TableRef>, ctx: &mut Ctx) -> Option<JobInfo> {
     let f = ctx.fields(node, "job", &["number", "date", "work", "technician", "shop", "customer", "speaker", "notes"])?;
     let mut info = JobInfo { rated_range: (20.0, 20_000.0), ..Default::default() };
     if let Some(n) = ctx.req(&f, "number", "the shop's job number") {
@@ -253,7 +273,8 @@ fn info(node: &Node, ctx: &mut Ctx) -> Option<JobInfo> {
     info.technician = ctx.opt_text(&f, "technician").unwrap_or_default();
     info.notes = ctx.opt_text(&f, "notes").unwrap_or_default();
     if let Some(n) = f.get("shop") {
-        if let Some(s) = ctx.fields(n, "job.shop", &["name", "address", "contact"]) {
+        if let Some(s) = ctx.fields(n, "job.shop", &["name", "address", "contact", "settings"]) {
+            *settings = s.get("settings").and_then(|n| fields::table_ref(n, "job.shop.settings", ctx));
             info.shop_name = ctx.opt_text(&s, "name").unwrap_or_default();
             info.shop_address = ctx.opt_text(&s, "address").unwrap_or_default();
             info.shop_contact = ctx.opt_text(&s, "contact").unwrap_or_default();

@@ -138,4 +138,7 @@ pub struct RawJob<'n> {
     pub analysis: Option<Analysis>,
     pub template: RawTemplate,
     pub blocks: Option<Vec<Block>>,
+    pub service: crate::model::service::Service,
+    /// The shop settings file `job.shop.settings` names.
+    pub shop_settings: Option<TableRef>,
 }

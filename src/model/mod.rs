@@ -3,6 +3,7 @@
 //! reads files.
 
 mod driver;
+pub mod service;
 mod network;
 mod part;
 mod steps;
@@ -291,13 +292,35 @@ pub enum Block {
     Options,
     /// One option's results, by its name.
     Option(String),
+    /// The service record: dates, complaint, finding, labour, warranty, inspection.
+    Service,
+    /// What is original and what was replaced, with the date.
+    History,
+    /// The largest amplifier power the speaker suits.
+    Power,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 13] =
-        ["levels", "parts", "compensation", "stress", "load", "tolerance", "health", "safety", "appendix", "pair", "substitute", "parts-to-buy", "options"];
+    pub const NAMES: [&'static str; 16] = [
+        "levels",
+        "parts",
+        "compensation",
+        "stress",
+        "load",
+        "tolerance",
+        "health",
+        "safety",
+        "appendix",
+        "pair",
+        "substitute",
+        "parts-to-buy",
+        "options",
+        "service",
+        "history",
+        "power",
+    ];
 
     pub fn named(name: &str) -> Option<Block> {
         Some(match name {
@@ -314,6 +337,9 @@ impl Block {
             "substitute" => Block::Substitute,
             "parts-to-buy" => Block::PartsToBuy,
             "options" => Block::Options,
+            "service" => Block::Service,
+            "history" => Block::History,
+            "power" => Block::Power,
             _ => return None,
         })
     }
@@ -337,6 +363,9 @@ impl Block {
             Block::Substitute => "substitute",
             Block::PartsToBuy => "parts-to-buy",
             Block::Options => "options",
+            Block::Service => "service",
+            Block::History => "history",
+            Block::Power => "power",
         }
     }
 }
@@ -452,6 +481,9 @@ pub struct Job {
     pub analysis: Analysis,
     pub template: Template,
     pub blocks: Option<Vec<Block>>,
+    /// The service record's own fields (dates, complaint, inspection, ...); empty when the
+    /// job gives none.
+    pub service: service::Service,
     /// The job file first, then every table it read, in order.
     pub inputs: Vec<InputFile>,
 }

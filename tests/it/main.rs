@@ -11,6 +11,7 @@ mod options;
 mod pair;
 mod parts;
 mod reference;
+mod service;
 mod report;
 mod substitute;
 mod util;

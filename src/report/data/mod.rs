@@ -15,6 +15,7 @@
 mod blocks;
 mod set;
 mod story;
+mod service;
 mod words;
 
 use serde::Serialize;
@@ -218,6 +219,13 @@ pub struct ReportData {
     pub parts_total: Option<String>,
     /// The options offered before the work, side by side; None when the job has none.
     pub options: Option<OptionsData>,
+    /// The service record (dates, complaint, inspection, sign-off); None when the job has
+    /// no `service` section.
+    pub service: Option<service::ServiceData>,
+    /// What is original and what was replaced, with the date.
+    pub history: Table,
+    /// The largest amplifier power the speaker as left suits, with its assumptions.
+    pub power: String,
 }
 
 /// The options side by side, each one's parts, and the recommendation.
@@ -311,6 +319,9 @@ fn block_data(b: &Block) -> BlockData {
         Block::PartsToBuy => ("parts-to-buy", None, None),
         Block::Options => ("options", None, None),
         Block::Option(name) => ("option", Some(name.clone()), None),
+        Block::Service => ("service", None, None),
+        Block::History => ("history", None, None),
+        Block::Power => ("power", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -348,6 +359,9 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         parts_to_buy: parts_to_buy(&f.parts),
         parts_total: parts_total(&f.parts),
         options: options(&c),
+        service: service::service(&c),
+        history: service::history(&c),
+        power: service::power(&c),
     };
 
     if let Some(ch) = &f.chosen {
@@ -378,6 +392,7 @@ pub(super) fn trade_units(d: &mut ReportData) {
         }
     };
     d.drive = t(&d.drive);
+    d.power = t(&d.power);
     d.job.speaker.rated_impedance = t(&d.job.speaker.rated_impedance);
     for s in d.summary.iter_mut().chain(&mut d.work).chain(&mut d.safety).chain(&mut d.compensation.notes).chain(&mut d.compensation.warnings).chain(&mut d.load.sentences) {
         *s = t(s);
@@ -398,6 +413,7 @@ pub(super) fn trade_units(d: &mut ReportData) {
         &mut d.load.table,
         &mut d.health,
         &mut d.parts_to_buy,
+        &mut d.history,
     ] {
         table(tb);
     }

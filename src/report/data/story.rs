@@ -217,11 +217,17 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
     let over = over_as_left(f);
     if c.audience.plain() {
         s.push("These figures are calculated from the parts' values and readings; the shop confirms them by measurement.".to_string());
-        s.push(format!(
-            "Amplifier: use one of up to {} W into {} ohm, the power these figures assume. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.",
-            trim_number(a.power_w, 3),
-            trim_number(a.into_ohm, 3)
-        ));
+        // The buyer's amplifier is not the one the shop's figures assumed: the sheet gives the
+        // largest power the parts suit instead.
+        s.push(if c.audience == super::Audience::Sale {
+            "Amplifier: keep within the amplifier power given above. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
+        } else {
+            format!(
+                "Amplifier: use one of up to {} W into {} ohm, the power these figures assume. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.",
+                trim_number(a.power_w, 3),
+                trim_number(a.into_ohm, 3)
+            )
+        });
         s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
             Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
             None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),

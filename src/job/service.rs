@@ -1,0 +1,128 @@
+//! The `service` section: intake and closing, the customer's complaint and the finding,
+//! labour, warranty, a condition grade, and the inspection checklist; and the shop settings
+//! file a job may name in `job.shop.settings`.
+
+use crate::diag::suggest;
+use crate::job::reader::{map_entries, Ctx};
+use crate::job::yaml::Node;
+use crate::model::service::{InspectionItem, InspectionResult, Service, ShopSettings, DEFAULT_INSPECTION};
+use crate::model::Date;
+
+const SERVICE_KEYS: &[&str] = &["received", "returned", "complaint", "finding", "labour_hours", "warranty", "condition", "inspection"];
+
+/// An ISO date at `key`, or None with a located error.
+fn date(ctx: &mut Ctx, node: &Node, path: &str) -> Option<Date> {
+    let t = ctx.text(node, path)?;
+    let d = Date::parse_iso(&t);
+    if d.is_none() {
+        ctx.error(node.pos(), path, format!("expected an ISO date such as 2026-11-28, found \"{t}\""), None);
+    }
+    d
+}
+
+pub(crate) fn service(node: &Node, ctx: &mut Ctx) -> Service {
+    let Some(f) = ctx.fields(node, "service", SERVICE_KEYS) else { return Service::default() };
+    let mut s = Service {
+        given: true,
+        received: f.get("received").and_then(|n| date(ctx, n, &f.at("received"))),
+        returned: f.get("returned").and_then(|n| date(ctx, n, &f.at("returned"))),
+        complaint: ctx.opt_text(&f, "complaint"),
+        finding: ctx.opt_text(&f, "finding"),
+        warranty: ctx.opt_text(&f, "warranty"),
+        condition: ctx.opt_text(&f, "condition"),
+        ..Default::default()
+    };
+    if let (Some(a), Some(b), Some(n)) = (s.received, s.returned, f.get("returned")) {
+        if (b.year, b.month, b.day) < (a.year, a.month, a.day) {
+            ctx.error(n.pos(), &f.at("returned"), format!("the speaker went back ({b}) before it came in ({a})"), Some("`received` is the day it came in, `returned` the day it left".into()));
+        }
+    }
+    if let Some(n) = f.get("labour_hours") {
+        match ctx.bare_number(n, &f.at("labour_hours")) {
+            Some(h) if (0.0..=200.0).contains(&h) => s.labour_hours = Some(h),
+            Some(_) => ctx.error(n.pos(), &f.at("labour_hours"), "labour hours must be from 0 to 200", Some("hours at the bench, such as 1.5".into())),
+            None => {}
+        }
+    }
+    if let Some(n) = f.get("inspection") {
+        s.inspection = inspection(n, &f.at("inspection"), ctx);
+    }
+    s
+}
+
+/// The checklist: every default item, in its order, with what the job says of it ("not
+/// checked" when it says nothing), then the shop's own items in the job's order.
+fn inspection(node: &Node, path: &str, ctx: &mut Ctx) -> Vec<InspectionItem> {
+    let results: Vec<(&str, InspectionResult)> = InspectionResult::ALL.to_vec();
+    let mut given: Vec<InspectionItem> = Vec::new();
+    for (k, v) in map_entries(node, path, ctx) {
+        let field = format!("{path}.{}", k.name);
+        let default = DEFAULT_INSPECTION.iter().find(|(key, _)| *key == k.name);
+        // A near miss of a default item is a slip, not the shop's own item.
+        if default.is_none() {
+            if let Some(s) = suggest(&k.name, DEFAULT_INSPECTION.iter().map(|(key, _)| *key)) {
+                ctx.error(k.pos, &field, format!("\"{}\" is not an inspection item", k.name), Some(format!("did you mean `{s}`? a shop's own item may have any other name")));
+                continue;
+            }
+        }
+        let (result, note) = match v {
+            Node::Scalar { .. } => (ctx.choice(v, &field, &results), None),
+            _ => {
+                let Some(g) = ctx.fields(v, &field, &["result", "note"]) else { continue };
+                let result = ctx.req(&g, "result", "pass, fail, fixed or not checked").and_then(|n| ctx.choice(n, &g.at("result"), &results));
+                (result, ctx.opt_text(&g, "note"))
+            }
+        };
+        let Some(result) = result else { continue };
+        let item = default.map(|(_, words)| words.to_string()).unwrap_or_else(|| k.name.clone());
+        given.push(InspectionItem { key: k.name.clone(), item, result, note });
+    }
+    let mut out: Vec<InspectionItem> = DEFAULT_INSPECTION
+        .iter()
+        .map(|(key, words)| {
+            given.iter().find(|g| g.key == *key).cloned().unwrap_or(InspectionItem { key: key.to_string(), item: words.to_string(), result: InspectionResult::NotChecked, note: None })
+        })
+        .collect();
+    out.extend(given.into_iter().filter(|g| !DEFAULT_INSPECTION.iter().any(|(key, _)| *key == g.key)));
+    out
+}
+
+/// A shop settings file as read: its fields, each checked like the job's, with problems
+/// reported at the job's `settings` line naming the file's own line and column.
+pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str, ctx: &mut Ctx) -> Option<ShopSettings> {
+    let root = match crate::job::yaml::parse(text) {
+        Ok(r) => r,
+        Err(e) => {
+            ctx.error(at, field, format!("{file} line {}, column {}: YAML syntax: {}", e.pos.line, e.pos.col, e.message), Some("check indentation (spaces, not tabs), colons and brackets".into()));
+            return None;
+        }
+    };
+    // The file's problems are gathered apart, then reported at the job's line with the file's
+    // own place in the message.
+    let mut inner = Ctx::new(ctx.files);
+    let s = (|| {
+        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate"])?;
+        let labour_rate = f.get("labour_rate").and_then(|n| {
+            let t = inner.text(n, "labour_rate")?;
+            let m = crate::money::Money::parse(&t);
+            if m.is_none() {
+                inner.error(n.pos(), "labour_rate", format!("\"{t}\" is not a price"), Some("a number with a point and at most two decimals, such as 42.50".into()));
+            }
+            m
+        });
+        Some(ShopSettings {
+            name: inner.opt_text(&f, "name"),
+            address: inner.opt_text(&f, "address"),
+            contact: inner.opt_text(&f, "contact"),
+            warranty: inner.opt_text(&f, "warranty"),
+            labour_rate,
+        })
+    })();
+    let ok = inner.diags.is_empty();
+    for d in inner.diags {
+        let place = format!("{file} line {}, column {}", d.pos.line, d.pos.col);
+        let what = if d.field.is_empty() { String::new() } else { format!(" ({})", d.field) };
+        ctx.error(at, field, format!("{place}{what}: {}", d.message), d.hint);
+    }
+    s.filter(|_| ok)
+}

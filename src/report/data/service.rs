@@ -1,0 +1,194 @@
+//! The service record's blocks: intake and closing, the inspection, the history of the parts
+//! (what is original and what was replaced) with the condition grade for a buyer, the
+//! largest amplifier power the speaker suits, and the technician's sign-off.
+
+use serde::Serialize;
+
+use super::story::with_article;
+use super::words::{capitalise, driver_words, kind_noun, part_place};
+use super::{Audience, Ctx, Row, Table};
+use crate::model::{ChangeStep, Patch};
+use crate::units::{ohm, trim_number};
+
+#[derive(Debug, Serialize)]
+pub struct ServiceData {
+    /// Two columns: what, and the record of it.
+    pub record: Table,
+    pub inspection: Table,
+    /// "11 items: 8 pass, 1 fixed, 2 not checked".
+    pub inspection_summary: String,
+    /// The shop's condition grade, for a buyer.
+    pub condition: Option<String>,
+    /// The technician who signs the record.
+    pub technician: String,
+}
+
+/// The record block, or None when the job has no `service` section.
+pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
+    let s = &c.job.service;
+    if !s.given {
+        return None;
+    }
+    let mut rows: Vec<Row> = Vec::new();
+    let mut row = |a: &str, b: String| rows.push(Row(vec![a.to_string(), b]));
+    let sale = c.audience == Audience::Sale;
+    match (s.received, s.returned) {
+        (Some(a), Some(b)) => row("In the shop", format!("{a} to {b}")),
+        (Some(a), None) => row("Came in", a.to_string()),
+        (None, Some(b)) => row("Went back", b.to_string()),
+        (None, None) => {}
+    }
+    // The customer's own words and the shop's finding may speak of the owner: never on the
+    // sale sheet.
+    if !sale {
+        if let Some(t) = &s.complaint {
+            row(if c.audience.plain() { "What you told us" } else { "Complaint (customer's words)" }, t.clone());
+        }
+        if let Some(t) = &s.finding {
+            row(if c.audience.plain() { "What we found" } else { "Finding" }, t.clone());
+        }
+        if let Some(h) = s.labour_hours {
+            let cost = c.job.quote.labour_rate.map(|rate| {
+                let centi_hours = (h * 100.0).round() as i64;
+                let m = crate::money::Money((rate.0 * centi_hours + 50).div_euclid(100));
+                let currency = c.job.prices.as_ref().map(|p| format!(" {}", p.currency)).unwrap_or_default();
+                format!(" at {rate}{currency} an hour: {m}{currency}")
+            });
+            row("Labour", format!("{} h{}", trim_number(h, 3), cost.unwrap_or_default()));
+        }
+        if let Some(t) = &s.warranty {
+            row("Warranty", t.clone());
+        }
+    }
+    if let Some(t) = &s.condition {
+        row("Condition", t.clone());
+    }
+    let inspection = Table::new(
+        &["Item", "Result", "Note"],
+        s.inspection.iter().map(|i| Row(vec![i.item.clone(), i.result.words().to_string(), i.note.clone().unwrap_or_default()])).collect(),
+    );
+    let count = |r: crate::model::service::InspectionResult| s.inspection.iter().filter(|i| i.result == r).count();
+    use crate::model::service::InspectionResult as R;
+    let parts: Vec<String> = [R::Pass, R::Fixed, R::Fail, R::NotChecked].iter().filter(|r| count(**r) > 0).map(|r| format!("{} {}", count(*r), r.words())).collect();
+    let inspection_summary = if s.inspection.is_empty() { String::new() } else { format!("{} items: {}.", s.inspection.len(), parts.join(", ")) };
+    Some(ServiceData {
+        record: Table::new(&["", ""], rows),
+        inspection,
+        inspection_summary,
+        condition: s.condition.clone(),
+        technician: c.job.info.technician.clone(),
+    })
+}
+
+/// What is original and what was replaced, part by part (drivers too), with the date the
+/// work was finished; for the buyer and the archive.
+pub(super) fn history(c: &Ctx) -> Table {
+    let job = c.job;
+    let (found, left) = (&c.f.scenes.as_found.network, &c.f.scenes.as_left.network);
+    let when = job.service.returned.unwrap_or(job.info.date).to_string();
+    let plain = c.audience.plain();
+    let mut rows: Vec<Row> = Vec::new();
+    let touched = |name: &str| {
+        job.changes.iter().any(|ch| match &ch.step {
+            ChangeStep::Replace { target, .. } | ChangeStep::Remove { target } => target == name,
+            _ => false,
+        })
+    };
+    let what_part = |net: &crate::model::Network, name: &str| match net.part(name) {
+        Some(p) => format!("{name}, {} in {}", with_article(kind_noun(p.kind)), part_place(net, name)),
+        None => capitalise(&driver_words(net, name)),
+    };
+    let now_part = |name: &str| match left.part(name) {
+        Some(p) if plain => super::words::fitted_words(c, p),
+        Some(p) => super::part_text(p),
+        None => String::new(),
+    };
+    for p in &job.network.parts {
+        if !touched(&p.name) {
+            rows.push(Row(vec![what_part(found, &p.name), "original".into(), String::new()]));
+        }
+    }
+    for d in &job.network.drivers {
+        if !touched(&d.name) {
+            rows.push(Row(vec![what_part(found, &d.name), "original".into(), String::new()]));
+        }
+    }
+    for ch in &job.changes {
+        match &ch.step {
+            ChangeStep::Replace { target, with } => {
+                let now = match with {
+                    Patch::Driver(p) => p.note.clone().unwrap_or_else(|| "a replacement driver".into()),
+                    Patch::Part(_) => now_part(target),
+                };
+                rows.push(Row(vec![what_part(found, target), format!("replaced {when}"), now]));
+            }
+            ChangeStep::Remove { target } => rows.push(Row(vec![what_part(found, target), format!("removed {when}"), String::new()])),
+            ChangeStep::Insert { part, .. } => rows.push(Row(vec![what_part(left, &part.name), format!("added {when}"), now_part(&part.name)])),
+            ChangeStep::Add { parts } => {
+                for p in parts {
+                    rows.push(Row(vec![what_part(left, &p.name), format!("added {when}"), now_part(&p.name)]));
+                }
+            }
+        }
+    }
+    Table::new(&["Part", "State", "Now"], rows)
+}
+
+/// The largest amplifier power the speaker as left suits, with its assumptions.
+pub(super) fn power(c: &Ctx) -> String {
+    let p = &c.f.power;
+    let net = &c.f.scenes.as_left.network;
+    let into = trim_number(p.into_ohm, 3);
+    let Some(max) = p.max_w else {
+        return "No part or driver has a power rating on record, so no largest amplifier power can be given from these figures; ask the shop.".into();
+    };
+    let who = p.limited_by.clone().unwrap_or_default();
+    let limit = p.limit.clone().unwrap_or_default();
+    if c.audience.plain() {
+        // Rounded down to two significant figures: the sheet never promises more.
+        let nice = round_down_2(max);
+        let whose = match net.part(&who) {
+            Some(part) => format!("{who}, {} in {},", with_article(kind_noun(part.kind)), part_place(net, &who)),
+            None => driver_words(net, &who),
+        };
+        let unrated: Vec<String> = p.unrated.iter().filter(|n| net.driver(n).is_some()).map(|n| driver_words(net, n)).collect();
+        let caveat = match unrated.len() {
+            0 => String::new(),
+            1 => format!(" {} has no power rating on record and is not counted.", capitalise(&unrated[0])),
+            _ => format!(" {} have no power rating on record and are not counted.", capitalise(&super::words::join_and(&unrated))),
+        };
+        format!(
+            "Amplifier power: with the parts as fitted, every part and driver stays within its rating on music with an amplifier of up to {} W per channel into {into} ohm; above that, {whose} is the first to reach its limit. This assumes music at one eighth of the amplifier's full power on average, as the stress figures do, and an amplifier that is not driven into clipping; the ratings are for heat, and a driver's cone travel at low frequencies can set a lower limit, so the drivers' makers' ratings come first.{caveat}",
+            trim_number(nice, 3)
+        )
+    } else {
+        format!(
+            "Largest amplifier power: {} W into {into} ohm, where {who} reaches its limit ({limit}); load as left: min |Z| {}, {}. Basis: {}.",
+            trim_number(max, 3),
+            ohm(p.min_ohm),
+            p.load_verdict,
+            p.basis
+        )
+    }
+}
+
+/// `v` rounded down to two significant figures (437.9 -> 430, 95.4 -> 95).
+fn round_down_2(v: f64) -> f64 {
+    if v <= 0.0 || !v.is_finite() {
+        return 0.0;
+    }
+    let step = 10f64.powf(v.log10().floor() - 1.0);
+    (v / step + 1e-9).floor() * step
+}
+
+#[cfg(test)]
+mod tests {
+    use super::round_down_2;
+
+    #[test]
+    fn rounds_down_to_two_figures() {
+        assert_eq!(round_down_2(437.86), 430.0);
+        assert_eq!(round_down_2(95.4), 95.0);
+        assert_eq!(round_down_2(1200.0), 1200.0);
+    }
+}
