@@ -142,6 +142,12 @@ fn effect(reading: &Reading, amp: &Amplifier, freqs: &[f64], bands: &[Band], des
 /// What one part's reading shows, as sentences.
 fn findings(p: &Part, m: &PartPatch) -> Vec<String> {
     let mut out = Vec::new();
+    // Open or shorted on the meter: said in words, not as a value's drift.
+    match m.fault {
+        Some(crate::model::Fault::Open) => return vec!["it reads open (no continuity across it) and must be replaced".into()],
+        Some(crate::model::Fault::Shorted) => return vec!["it reads shorted (no resistance across it) and must be replaced".into()],
+        None => {}
+    }
     if let Some(v) = m.value {
         if let Some(g) = gross(p, v) {
             out.push(g);

@@ -25,6 +25,12 @@ pub struct PowerRange {
     pub limited_by: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub limit: Option<String>,
+    /// The largest amplifier power at which even a full-level sine (a steady tone at the
+    /// worst frequency) keeps every part and driver within its rating: the cautious end of
+    /// the range.
+    pub sine_max_w: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sine_limited_by: Option<String>,
     /// Parts and drivers with no rating on record, which bound nothing.
     pub unrated: Vec<String>,
     /// The load the amplifier sees as left, and its verdict.
@@ -48,6 +54,9 @@ fn power_at(job_w: f64, at_job: f64, limit: f64, square: bool) -> Option<f64> {
 pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
     let p = amp.power_w;
     let mut limits: Vec<(f64, String, String)> = Vec::new();
+    // With a full-level sine: a resistor's and a driver's sine power against their ratings;
+    // a capacitor's and an inductor's limits are already at full sine.
+    let mut sine: Vec<(f64, String)> = Vec::new();
     let t = |v: f64| trim_number(v, 3);
     let mut unrated = Vec::new();
     for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft) {
@@ -58,6 +67,11 @@ pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
             PartKind::Capacitor => r.rating_v.map(|v| r.peak_v.and_then(|pk| power_at(p, pk, v, true)).map(|x| (x, format!("its peak voltage reaches its {} V rating", t(v))))),
             PartKind::Inductor => r.rating_a.map(|a| r.rms_a.and_then(|i| power_at(p, i, a, true)).map(|x| (x, format!("its current reaches its {} A rating", t(a))))),
         };
+        let at_sine = match r.kind {
+            PartKind::Resistor => r.rating_w.and_then(|w| power_at(p, r.sine_w, w, false)),
+            _ => limit.clone().flatten().map(|x| x.0),
+        };
+        sine.extend(at_sine.map(|w| (w, r.part.clone())));
         match limit {
             Some(Some((w, why))) => limits.push((w, r.part.clone(), why)),
             Some(None) => {}
@@ -67,11 +81,15 @@ pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
     }
     for d in f.stress.drivers.iter().filter(|d| d.scenario == Scenario::AsLeft) {
         match d.rated_w {
-            Some(w) => limits.extend(power_at(p, d.programme_w, w, false).map(|x| (x, d.driver.clone(), format!("its programme power reaches its {} W rating", t(w))))),
+            Some(w) => {
+                limits.extend(power_at(p, d.programme_w, w, false).map(|x| (x, d.driver.clone(), format!("its programme power reaches its {} W rating", t(w)))));
+                sine.extend(power_at(p, d.sine_w, w, false).map(|x| (x, d.driver.clone())));
+            }
             None => unrated.push(d.driver.clone()),
         }
     }
     let first = limits.iter().min_by(|a, b| a.0.total_cmp(&b.0)).cloned();
+    let sine_first = sine.iter().min_by(|a, b| a.0.total_cmp(&b.0)).cloned();
     let load = &f.loads.as_left;
     let share = trim_number(100.0 * amp.programme_power_w() / amp.power_w, 3);
     let unrated_text = if unrated.is_empty() { String::new() } else { format!("; with no rating on record, {} bound nothing", unrated.join(", ")) };
@@ -80,6 +98,8 @@ pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
         into_ohm: amp.into_ohm,
         limit: first.as_ref().map(|x| x.2.clone()),
         limited_by: first.map(|x| x.1),
+        sine_max_w: sine_first.as_ref().map(|x| x.0),
+        sine_limited_by: sine_first.map(|x| x.1),
         unrated,
         min_ohm: load.min_ohm,
         load_verdict: load.verdict,

@@ -108,8 +108,14 @@ impl Figures {
     }
 }
 
+/// Watts as a sentence prints them; a figure too small to matter (a part left open, a
+/// driver cut off) is "under 0.001", never a row of zeros.
 fn w(v: f64) -> String {
-    trim_number(v, 3)
+    if v > 0.0 && v < 0.001 {
+        "under 0.001".into()
+    } else {
+        trim_number(v, 3)
+    }
 }
 
 fn driver_power(s: &Scene, d: &Driver, x: &Figures) -> DriverPower {
@@ -292,5 +298,12 @@ mod tests {
         assert_eq!(choose_rating(2.6), 10.0);
         assert_eq!(choose_rating(5.0), 10.0);
         assert_eq!(choose_rating(5.01), 15.0);
+    }
+
+    #[test]
+    fn a_vanishing_figure_reads_as_under_a_milliwatt() {
+        assert_eq!(w(7.2e-22), "under 0.001");
+        assert_eq!(w(0.0), "0");
+        assert_eq!(w(0.00276), "0.00276");
     }
 }

@@ -13,9 +13,9 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
-const READING_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "at"];
+const READING_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "at", "open", "shorted"];
 const READING_DRIVER_KEYS: &[&str] = &["resistance", "re", "le", "fs", "qms", "qes", "at"];
-const REPLACE_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core"];
+const REPLACE_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core", "section", "maker", "part_number", "supplier", "lot"];
 const REPLACE_DRIVER_KEYS: &[&str] = &["model", "sensitivity", "response", "rated_power", "note"];
 
 pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
@@ -135,6 +135,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
                 if quote.labour_rate.is_none() {
                     quote.labour_rate = s.labour_rate;
                 }
+                quote.currency = s.currency;
             }
         }
     }
@@ -284,7 +285,11 @@ fn measured(entries: &[Entry], net: &Network, field: &str, ctx: &mut Ctx) -> Vec
         let (k, v) = (e.key, e.node);
         let path = format!("{field}.{}", k.name);
         let patch = match find_target(net, &[], &k.name, k.pos, &path, ctx) {
-            Some(Target::Part(p)) => ctx.fields(v, &path, READING_PART_KEYS).and_then(|f| part_fields(&f, p.kind, ctx, false)).map(Patch::Part),
+            Some(Target::Part(p)) => ctx.fields(v, &path, READING_PART_KEYS).and_then(|f| match fault(&f, ctx) {
+                Ok(Some(fault)) => Some(Patch::Part(PartPatch { fault: Some(fault), ..Default::default() })),
+                Ok(None) => part_fields(&f, p.kind, ctx, false).map(Patch::Part),
+                Err(()) => None,
+            }),
             Some(Target::Driver(d)) => ctx.fields(v, &path, READING_DRIVER_KEYS).and_then(|f| driver_reading(&f, d, ctx)).map(Patch::Driver),
             None => None,
         };
@@ -293,6 +298,38 @@ fn measured(entries: &[Entry], net: &Network, field: &str, ctx: &mut Ctx) -> Vec
         }
     }
     out
+}
+
+/// A reading of `open: true` or `shorted: true` in place of a value; Err when it is written
+/// wrongly (reported).
+fn fault(f: &Fields, ctx: &mut Ctx) -> Result<Option<Fault>, ()> {
+    let mut found = None;
+    for (key, fault) in [("open", Fault::Open), ("shorted", Fault::Shorted)] {
+        let Some(n) = f.get(key) else { continue };
+        match ctx.choice(n, &f.at(key), &[("true", true), ("false", false)]) {
+            Some(true) => {
+                if found.is_some() {
+                    ctx.error(n.pos(), &f.at(key), "a part cannot read both open and shorted", Some("keep the one the meter showed".into()));
+                    return Err(());
+                }
+                found = Some(fault);
+            }
+            Some(false) => {}
+            None => return Err(()),
+        }
+    }
+    if let Some(fault) = found {
+        if let Some(k) = ["value", "esr", "tan_delta", "dcr"].into_iter().find(|k| f.get(k).is_some()) {
+            ctx.error(
+                f.get(k).map(|n| n.pos()).unwrap_or(f.pos),
+                &f.at(k),
+                format!("a part that reads {} has no `{k}` reading", fault.name()),
+                Some(format!("write `{}: true` alone, or the values the meter read", fault.name())),
+            );
+            return Err(());
+        }
+    }
+    Ok(found)
 }
 
 /// A replacement's fields, read against what it replaces.

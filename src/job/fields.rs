@@ -7,7 +7,8 @@ use crate::job::yaml::{Key, Node};
 use crate::model::{Part, PartKind, PartPatch, Rating, Resonance, Role, VoiceCoilInductance};
 use crate::units::{trim_number, Quantity};
 
-pub(crate) const PART_KEYS: &[&str] = &["kind", "between", "value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core"];
+pub(crate) const PART_KEYS: &[&str] =
+    &["kind", "between", "value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core", "section", "markings", "maker", "part_number", "supplier", "lot"];
 pub(crate) const DRIVER_KEYS: &[&str] = &["role", "between", "model", "rated_power", "sensitivity", "response", "polarity", "note"];
 pub(crate) const MODEL_KEYS: &[&str] = &["resistance", "re", "le", "leach", "fs", "qms", "qes", "qts", "table"];
 
@@ -49,6 +50,8 @@ pub(crate) fn part(key: &Key, node: &Node, path: &str, ctx: &mut Ctx) -> Option<
     part.tolerance = patch.tolerance;
     part.rating = patch.rating.unwrap_or(Rating::None);
     part.type_text = patch.type_text;
+    part.section = patch.section;
+    part.provenance = patch.provenance;
     Some(part)
 }
 
@@ -61,6 +64,15 @@ pub(crate) fn part_fields(f: &Fields, kind: PartKind, ctx: &mut Ctx, allow_auto:
     };
     let mut p = PartPatch::default();
     let mut ok = true;
+    // The shop's record of the part: where it sits, and where it came from.
+    p.section = ctx.opt_text(f, "section");
+    p.provenance = crate::model::Provenance {
+        maker: ctx.opt_text(f, "maker"),
+        part_number: ctx.opt_text(f, "part_number"),
+        supplier: ctx.opt_text(f, "supplier"),
+        lot: ctx.opt_text(f, "lot"),
+        markings: ctx.opt_text(f, "markings"),
+    };
     if let Some(n) = f.get("value") {
         if n.as_scalar() == Some("auto") {
             if allow_auto && kind == PartKind::Resistor {

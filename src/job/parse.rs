@@ -201,7 +201,7 @@ fn quote(node: &Node, ctx: &mut Ctx) -> (Quote, Option<crate::diag::Pos>) {
         m
     });
     let recommend = ctx.opt_text(&f, "recommend");
-    (Quote { labour_rate, recommend }, f.get("recommend").map(|n| n.pos()))
+    (Quote { labour_rate, recommend, currency: None }, f.get("recommend").map(|n| n.pos()))
 }
 
 /// The price list section: the file and its currency.

@@ -101,7 +101,7 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
     // own place in the message.
     let mut inner = Ctx::new(ctx.files);
     let s = (|| {
-        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate"])?;
+        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency"])?;
         let labour_rate = f.get("labour_rate").and_then(|n| {
             let t = inner.text(n, "labour_rate")?;
             let m = crate::money::Money::parse(&t);
@@ -116,6 +116,7 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
             contact: inner.opt_text(&f, "contact"),
             warranty: inner.opt_text(&f, "warranty"),
             labour_rate,
+            currency: inner.opt_text(&f, "currency"),
         })
     })();
     let ok = inner.diags.is_empty();

@@ -107,7 +107,8 @@ impl Ctx<'_> {
                 Some((r.name.clone(), text))
             }
             Err(e) => {
-                self.error(r.pos, &r.field, format!("cannot read table file \"{}\": {}", e.file, e.reason), Some("table paths are relative to the job file's folder".into()));
+                let what = if r.field.ends_with("settings") { "settings file" } else { "table file" };
+                self.error(r.pos, &r.field, format!("cannot read {what} \"{}\": {}", e.file, e.reason), Some("paths are relative to the job file's folder".into()));
                 None
             }
         }

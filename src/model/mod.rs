@@ -192,6 +192,8 @@ pub struct JobOption {
 pub struct Quote {
     pub labour_rate: Option<crate::money::Money>,
     pub recommend: Option<String>,
+    /// The currency of the hourly rate when no price list gives one (the shop settings').
+    pub currency: Option<String>,
 }
 
 /// One line of a shop's price list: a stock item and its unit price.

@@ -21,6 +21,71 @@ impl PartKind {
     }
 }
 
+/// A bench reading that found a part open or shorted rather than a value.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Fault {
+    Open,
+    Shorted,
+}
+
+impl Fault {
+    /// An open part is solved as one whose series loss is this large (ohm), a shorted one as
+    /// a link of [`Fault::SHORT_OHM`]: finite, so no figure becomes infinite or undefined.
+    pub const OPEN_OHM: f64 = 1e12;
+    pub const SHORT_OHM: f64 = 1e-3;
+
+    pub fn name(self) -> &'static str {
+        match self {
+            Fault::Open => "open",
+            Fault::Shorted => "shorted",
+        }
+    }
+}
+
+/// Where a part came from, as the shop records it: for a fitted part its maker, part
+/// number, supplier and lot or date code; for an original part its markings.
+#[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
+pub struct Provenance {
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub maker: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub part_number: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub supplier: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lot: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub markings: Option<String>,
+}
+
+impl Provenance {
+    pub fn is_empty(&self) -> bool {
+        *self == Provenance::default()
+    }
+
+    /// "maker Ardent, part no. MKP-33, from Lindell Supply, lot 2641", or "".
+    pub fn text(&self) -> String {
+        let mut out = Vec::new();
+        if let Some(m) = &self.maker {
+            out.push(format!("maker {m}"));
+        }
+        if let Some(p) = &self.part_number {
+            out.push(format!("part no. {p}"));
+        }
+        if let Some(s) = &self.supplier {
+            out.push(format!("from {s}"));
+        }
+        if let Some(l) = &self.lot {
+            out.push(format!("lot {l}"));
+        }
+        if let Some(m) = &self.markings {
+            out.push(format!("marked \"{m}\""));
+        }
+        out.join(", ")
+    }
+}
+
 /// A part's power or voltage rating as written in the job.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Rating {
@@ -50,13 +115,35 @@ pub struct Part {
     pub rating: Rating,
     /// Free text: electrolytic, polypropylene film, air core ...
     pub type_text: Option<String>,
+    /// Open or shorted, as a bench reading found it.
+    pub fault: Option<Fault>,
+    /// Where it sits, in the shop's words ("tweeter filter, second section"), used in place
+    /// of node names.
+    pub section: Option<String>,
+    pub provenance: Provenance,
     pub pos: Pos,
 }
 
 impl Part {
     /// A part with no loss, tolerance, rating or type yet.
     pub fn new(name: &str, kind: PartKind, between: [String; 2], value: f64, pos: Pos) -> Part {
-        Part { name: name.into(), kind, between, value, auto_value: false, esr: 0.0, tan_delta: None, dcr: 0.0, tolerance: None, rating: Rating::None, type_text: None, pos }
+        Part {
+            name: name.into(),
+            kind,
+            between,
+            value,
+            auto_value: false,
+            esr: 0.0,
+            tan_delta: None,
+            dcr: 0.0,
+            tolerance: None,
+            rating: Rating::None,
+            type_text: None,
+            fault: None,
+            section: None,
+            provenance: Provenance::default(),
+            pos,
+        }
     }
 }
 
@@ -72,11 +159,39 @@ pub struct PartPatch {
     pub rating: Option<Rating>,
     pub type_text: Option<String>,
     pub at_hz: Option<f64>,
+    /// A reading of open or shorted in place of a value.
+    pub fault: Option<Fault>,
+    pub section: Option<String>,
+    pub provenance: Provenance,
 }
 
 impl PartPatch {
     /// Applies a bench reading: only the measured fields change.
     pub fn apply_reading(&self, p: &mut Part) {
+        if let Some(f) = self.fault {
+            p.fault = Some(f);
+            match (f, p.kind) {
+                (Fault::Open, PartKind::Resistor) => p.value = Fault::OPEN_OHM,
+                (Fault::Open, PartKind::Capacitor) => {
+                    p.esr = Fault::OPEN_OHM;
+                    p.tan_delta = None;
+                }
+                (Fault::Open, PartKind::Inductor) => p.dcr = Fault::OPEN_OHM,
+                (Fault::Shorted, PartKind::Resistor) => p.value = Fault::SHORT_OHM,
+                // A short across a capacitor: a reactance far below a milliohm in the audio
+                // band, in series with the short's resistance.
+                (Fault::Shorted, PartKind::Capacitor) => {
+                    p.value = 1e3;
+                    p.esr = Fault::SHORT_OHM;
+                    p.tan_delta = None;
+                }
+                (Fault::Shorted, PartKind::Inductor) => {
+                    p.value = 1e-12;
+                    p.dcr = Fault::SHORT_OHM;
+                }
+            }
+            return;
+        }
         if let Some(v) = self.value {
             p.value = v;
         }
@@ -106,6 +221,12 @@ impl PartPatch {
         }
         if let Some(v) = self.value {
             p.value = v;
+        }
+        // A new part: not the old one's fault, its own provenance, the same place.
+        p.fault = None;
+        p.provenance = self.provenance.clone();
+        if let Some(s) = &self.section {
+            p.section = Some(s.clone());
         }
         p.auto_value = self.auto_value;
         if p.kind == PartKind::Capacitor {

@@ -90,4 +90,5 @@ pub struct ShopSettings {
     pub contact: Option<String>,
     pub warranty: Option<String>,
     pub labour_rate: Option<crate::money::Money>,
+    pub currency: Option<String>,
 }

@@ -194,6 +194,11 @@ fn the_sale_sheet_never_shows_the_previous_owner() {
         for field in [&job.info.customer_name, &job.info.customer_reference] {
             assert!(!field.is_empty() && !text.contains(field.as_str()), "{sample}: \"{field}\" on the sale sheet");
         }
+        // The customer's complaint and the shop's finding are theirs, not a buyer's.
+        for field in [&job.service.complaint, &job.service.finding].into_iter().flatten() {
+            let words: String = field.split_whitespace().take(6).collect::<Vec<_>>().join(" ");
+            assert!(!text.contains(&words), "{sample}: \"{words}\" on the sale sheet");
+        }
         assert!(!text.contains("Customer") && !text.contains("Bench notes"), "{sample}");
         // Nothing is attached to the sale sheet: not the job file, which names the owner, nor
         // the shop's results.

@@ -24,13 +24,29 @@ fn at_power(text: &str, w: f64) -> String {
     text.replace("power: 60 W", &format!("power: {w} W"))
 }
 
+/// Whether a full-level sine puts any as-left part or driver past its rating, read from the
+/// figures solve prints at that power.
+fn sine_past(j: &Value) -> bool {
+    let num = |v: &Value, k: &str| v[k].as_f64();
+    let parts = j["stress"].as_array().unwrap().iter().filter(|r| r["scenario"] == "as_left").any(|r| {
+        let past = |fig: &str, rating: &str| matches!((num(r, fig), num(r, rating)), (Some(a), Some(b)) if a > b);
+        past("sine_w", "rating_w") || past("peak_v", "rating_v") || past("rms_a", "rating_a")
+    });
+    let drivers = j["driver_power"].as_array().unwrap().iter().filter(|r| r["scenario"] == "as_left").any(|r| matches!((num(r, "sine_w"), num(r, "rated_w")), (Some(a), Some(b)) if a > b));
+    parts || drivers
+}
+
 /// The largest power with nothing over, by bisection on the verdicts.
 fn bisect(text: &str) -> f64 {
-    let (mut lo, mut hi) = (1.0, 20_000.0);
-    assert!(!any_over(&solve(&at_power(text, lo))) && any_over(&solve(&at_power(text, hi))), "the bracket holds the limit");
+    bisect_on(text, any_over)
+}
+
+fn bisect_on(text: &str, past: fn(&Value) -> bool) -> f64 {
+    let (mut lo, mut hi) = (0.01, 20_000.0);
+    assert!(!past(&solve(&at_power(text, lo))) && past(&solve(&at_power(text, hi))), "the bracket holds the limit");
     while hi / lo > 1.002 {
         let mid = (lo * hi).sqrt();
-        if any_over(&solve(&at_power(text, mid))) {
+        if past(&solve(&at_power(text, mid))) {
             hi = mid;
         } else {
             lo = mid;
@@ -50,6 +66,10 @@ fn the_largest_amplifier_power_is_where_a_bisection_on_the_verdicts_finds_the_fi
     let found = bisect(&fixed);
     let max = want["max_w"].as_f64().unwrap();
     assert!((found / max - 1.0).abs() < 0.003, "bisection {found} W against {max} W");
+    // The cautious end: a full-level sine within every rating.
+    let sine = bisect_on(&fixed, sine_past);
+    let want_sine = want["sine_max_w"].as_f64().unwrap();
+    assert!(sine < max && (sine / want_sine - 1.0).abs() < 0.003, "sine bisection {sine} W against {want_sine} W");
     // A lower rating on the part that limits it lowers the power; on a part far from its
     // limit it changes nothing.
     let limited = want["limited_by"].as_str().unwrap().to_string();
@@ -63,4 +83,137 @@ fn the_largest_amplifier_power_is_where_a_bisection_on_the_verdicts_finds_the_fi
     assert!(p["max_w"].as_f64().unwrap() < max);
     let found = bisect(&fixed.replacen("rating: 250 V", "rating: 63 V", 1));
     assert!((found / p["max_w"].as_f64().unwrap() - 1.0).abs() < 0.003, "bisection {found} W against {p}");
+}
+
+/// A report's text as pdftotext lays it out.
+fn pdf_text(pdf: &std::path::Path, layout: bool) -> String {
+    let mut cmd = std::process::Command::new("pdftotext");
+    if layout {
+        cmd.arg("-layout");
+    }
+    let out = cmd.arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+#[test]
+fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as_before() {
+    // tests/golden/text/*.customer.txt: `pdftotext -layout` of the customer report made by
+    // voicekeep at commit 5be4e4a, before the service record existed. (The sale sheet and the
+    // archive gained the largest amplifier power for every job, as the service record asks.)
+    for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
+        let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
+        o.code(0);
+        let want = std::fs::read_to_string(root().join(format!("tests/golden/text/{s}.customer.txt"))).unwrap();
+        assert_eq!(pdf_text(&o.dir.join("r.pdf"), true), want, "{s}: the customer report changed");
+    }
+}
+
+const REPAIR: &str = "samples/repair-like-for-like.yaml";
+
+fn render(sample: &str, template: &str) -> (std::path::PathBuf, String) {
+    let o = Cli::new().args(["report", sample, "--template", template, "-o", "{dir}/out.pdf"]).run();
+    o.code(0);
+    let pdf = o.dir.join("out.pdf");
+    let text = pdf_text(&pdf, false).split_whitespace().collect::<Vec<_>>().join(" ");
+    (pdf, text)
+}
+
+#[test]
+fn every_service_field_reaches_the_templates_that_show_it() {
+    // The values as written in samples/repair-like-for-like.yaml and harrowby-shop.yaml.
+    let everywhere = ["2026-10-06 to 2026-10-15", "Very good: the veneer has two light marks on the top; grille as new", "one crimp on the tweeter lead re-made", "crossover board mounting", "12 items: 8 pass, 3 fixed, 1 not checked."];
+    let owner = [
+        "No treble from the left speaker since a party",
+        "The tweeter's padding resistor had burnt open",
+        "Twelve months on the parts fitted and the work done",
+        // 1.5 h at the settings file's 44.00 an hour: 66.00, in its currency.
+        "1.5 h at 44.00 EUR an hour: 66.00 EUR",
+        "Work done and checked by M. Okafor.",
+    ];
+    let archive_only = ["maker Corran Resistors, part no. CW10-1R5J, from Easterfold Components, lot 2634", "removed: marked \"1R5 J 5W\"", "removed: marked \"0.82"];
+    let (_, customer) = render(REPAIR, "customer");
+    let (_, archive) = render(REPAIR, "archive");
+    let (_, sale) = render(REPAIR, "sale");
+    for want in everywhere {
+        for (name, text) in [("customer", &customer), ("archive", &archive), ("sale", &sale)] {
+            assert!(text.contains(want), "{name}: {want}");
+        }
+    }
+    for want in owner {
+        assert!(customer.contains(want) && archive.contains(want), "{want}");
+        assert!(!sale.contains(want), "sale: {want}");
+    }
+    for want in archive_only {
+        assert!(archive.contains(want), "archive: {want}");
+    }
+    // The shop's settings file fills the shop's name and address, and is kept with the record.
+    assert!(customer.contains("Harrowby Speaker Clinic") && customer.contains("22 Mill Row, Easterfold"));
+    assert!(archive.contains("harrowby-shop.yaml"), "the settings file is listed with its SHA-256");
+    // The section label stands where the topology's words would.
+    assert!(customer.contains("R1, a resistor in the tweeter's padding"), "{customer}");
+    // A part read open is said so in words, not as a drift in per cent.
+    assert!(archive.contains("It reads open (no continuity across it) and must be replaced."), "{archive}");
+    assert!(!archive.contains("99900"));
+}
+
+#[test]
+fn the_inspection_lists_every_default_item_and_refuses_a_slip() {
+    let text = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let with = format!("{text}\nservice:\n  inspection:\n    surrounds: pass\n    \"tweeter lens\": {{ result: fail, note: cracked }}\n");
+    let j = Cli::new().job(&with).args(["report", "{job}", "--template", "archive", "-o", "{dir}/a.pdf"]).run();
+    j.code(0);
+    let t = pdf_text(&j.dir.join("a.pdf"), true).split_whitespace().collect::<Vec<_>>().join(" ");
+    // Eleven default items (surrounds to grille), then the shop's own.
+    for item in ["Driver surrounds pass", "Driver spiders not checked", "Voice-coil rub not checked", "Grille not checked", "tweeter lens fail cracked", "12 items: 1 pass, 1 fail, 10 not checked."] {
+        assert!(t.contains(item), "{item}: {t}");
+    }
+    let slip = format!("{text}\nservice:\n  inspection:\n    surounds: pass\n");
+    Cli::new().job(&slip).args(["check", "{job}"]).run().code(1).stderr_has("service.inspection.surounds: \"surounds\" is not an inspection item").stderr_has("did you mean `surrounds`?");
+    let bad = format!("{text}\nservice:\n  inspection:\n    surrounds: passed\n");
+    Cli::new().job(&bad).args(["check", "{job}"]).run().code(1).stderr_has("service.inspection.surrounds: unknown choice \"passed\"").stderr_has("did you mean `pass`?");
+    let dates = format!("{text}\nservice:\n  received: 2026-11-20\n  returned: 2026-11-02\n");
+    Cli::new().job(&dates).args(["check", "{job}"]).run().code(1).stderr_has("service.returned: the speaker went back (2026-11-02) before it came in (2026-11-20)");
+}
+
+#[test]
+fn a_shop_settings_file_fills_what_the_job_leaves_and_its_mistakes_are_located() {
+    let text = std::fs::read_to_string(root().join(REPAIR)).unwrap();
+    let settings = std::fs::read(root().join("samples/harrowby-shop.yaml")).unwrap();
+    // The job's own name wins over the file's.
+    let own = text.replace("shop: { settings: harrowby-shop.yaml }", "shop: { name: Harrowby Annexe, settings: harrowby-shop.yaml }");
+    let o = Cli::new().job(&own).file("harrowby-shop.yaml", &settings).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run();
+    o.code(0);
+    let t = pdf_text(&o.dir.join("r.pdf"), false);
+    assert!(t.contains("Harrowby Annexe") && t.contains("22 Mill Row, Easterfold"));
+    // A mistake inside the settings file names the file, its line and column, and the field.
+    let broken = String::from_utf8(settings).unwrap().replace("labour_rate: 44.00", "labour_rate: 44,5");
+    let o = Cli::new().job(&text).file("harrowby-shop.yaml", broken.as_bytes()).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("job.shop.settings: harrowby-shop.yaml line 7, column 14 (labour_rate): \"44,5\" is not a price");
+    let o = Cli::new().job(&text).file("harrowby-shop.yaml", b"name: X\nwaranty: none\n").args(["check", "{job}"]).run();
+    o.code(1).stderr_has("harrowby-shop.yaml line 2, column 1").stderr_has("did you mean `warranty`?");
+    Cli::new().job(&text).args(["check", "{job}"]).run().code(1).stderr_has("job.shop.settings: cannot read settings file").stderr_has("harrowby-shop.yaml");
+}
+
+#[test]
+fn open_and_shorted_readings_are_words_and_refuse_a_value_beside_them() {
+    let text = std::fs::read_to_string(root().join(REPAIR)).unwrap();
+    let settings = std::fs::read(root().join("samples/harrowby-shop.yaml")).unwrap();
+    let solve = |t: &str| {
+        let o = Cli::new().job(t).file("harrowby-shop.yaml", &settings).args(["solve", "{job}", "--format", "json"]).run();
+        o.code(0);
+        serde_json::from_str::<Value>(&o.stdout).unwrap()
+    };
+    let j = solve(&text);
+    let r1 = j["health"].as_array().unwrap().iter().find(|h| h["part"] == "R1").unwrap();
+    assert_eq!(r1["message"], "It reads open (no continuity across it) and must be replaced.");
+    // Open: the tweeter gets nothing through it (more than 40 dB down: a fault).
+    assert!(j["levels"][0]["as_found_db"].as_f64().unwrap() < -40.0, "{}", j["levels"][0]);
+    let shorted = text.replace("R1: { open: true }", "R1: { shorted: true }");
+    let j = solve(&shorted);
+    let r1 = j["health"].as_array().unwrap().iter().find(|h| h["part"] == "R1").unwrap();
+    assert_eq!(r1["message"], "It reads shorted (no resistance across it) and must be replaced.");
+    // A shorted 1.5 ohm pad: the tweeter plays louder as found than designed.
+    assert!(j["levels"][0]["as_found_db"].as_f64().unwrap() > 0.5, "{}", j["levels"][0]);
+    let both = text.replace("R1: { open: true }", "R1: { open: true, value: 1.5 kohm }");
+    Cli::new().job(&both).file("harrowby-shop.yaml", &settings).args(["check", "{job}"]).run().code(1).stderr_has("measured.R1.value: a part that reads open has no `value` reading");
 }

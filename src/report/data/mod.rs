@@ -270,6 +270,11 @@ pub(crate) fn quantity(kind: PartKind) -> Quantity {
 
 /// "3.3 uF, ESR 0.9 ohm" - a part's value and loss as a technician writes them.
 pub fn part_text(p: &Part) -> String {
+    match p.fault {
+        Some(crate::model::Fault::Open) => return "open (no continuity)".into(),
+        Some(crate::model::Fault::Shorted) => return "shorted".into(),
+        None => {}
+    }
     let v = if p.auto_value && p.value == 0.0 {
         "auto".to_string()
     } else if p.value.is_infinite() {

@@ -51,7 +51,7 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
             let cost = c.job.quote.labour_rate.map(|rate| {
                 let centi_hours = (h * 100.0).round() as i64;
                 let m = crate::money::Money((rate.0 * centi_hours + 50).div_euclid(100));
-                let currency = c.job.prices.as_ref().map(|p| format!(" {}", p.currency)).unwrap_or_default();
+                let currency = c.job.prices.as_ref().map(|p| p.currency.clone()).or_else(|| c.job.quote.currency.clone()).map(|c| format!(" {c}")).unwrap_or_default();
                 format!(" at {rate}{currency} an hour: {m}{currency}")
             });
             row("Labour", format!("{} h{}", trim_number(h, 3), cost.unwrap_or_default()));
@@ -85,9 +85,31 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
 pub(super) fn history(c: &Ctx) -> Table {
     let job = c.job;
     let (found, left) = (&c.f.scenes.as_found.network, &c.f.scenes.as_left.network);
-    let when = job.service.returned.unwrap_or(job.info.date).to_string();
+    // The work is on record by the report's date.
+    let when = job.info.date.to_string();
     let plain = c.audience.plain();
+    // The archive keeps where each part came from: a fitted part's maker, part number,
+    // supplier and lot, an original's markings.
+    let record = c.audience == Audience::Archive;
+    let design = &job.network;
+    let marks = |name: &str| design.part(name).map(|p| p.provenance.text()).unwrap_or_default();
+    let fitted = |name: &str| left.part(name).map(|p| p.provenance.text()).unwrap_or_default();
+    let replaced_record = |name: &str| {
+        let (a, b) = (fitted(name), marks(name));
+        match (a.is_empty(), b.is_empty()) {
+            (true, true) => String::new(),
+            (false, true) => format!("fitted: {a}"),
+            (true, false) => format!("removed: {b}"),
+            (false, false) => format!("fitted: {a}; removed: {b}"),
+        }
+    };
     let mut rows: Vec<Row> = Vec::new();
+    let mut push = |mut cells: Vec<String>, extra: String| {
+        if record {
+            cells.push(extra);
+        }
+        rows.push(Row(cells));
+    };
     let touched = |name: &str| {
         job.changes.iter().any(|ch| match &ch.step {
             ChangeStep::Replace { target, .. } | ChangeStep::Remove { target } => target == name,
@@ -105,12 +127,12 @@ pub(super) fn history(c: &Ctx) -> Table {
     };
     for p in &job.network.parts {
         if !touched(&p.name) {
-            rows.push(Row(vec![what_part(found, &p.name), "original".into(), String::new()]));
+            push(vec![what_part(found, &p.name), "original".into(), String::new()], marks(&p.name));
         }
     }
     for d in &job.network.drivers {
         if !touched(&d.name) {
-            rows.push(Row(vec![what_part(found, &d.name), "original".into(), String::new()]));
+            push(vec![what_part(found, &d.name), "original".into(), String::new()], String::new());
         }
     }
     for ch in &job.changes {
@@ -120,18 +142,22 @@ pub(super) fn history(c: &Ctx) -> Table {
                     Patch::Driver(p) => p.note.clone().unwrap_or_else(|| "a replacement driver".into()),
                     Patch::Part(_) => now_part(target),
                 };
-                rows.push(Row(vec![what_part(found, target), format!("replaced {when}"), now]));
+                push(vec![what_part(found, target), format!("replaced {when}"), now], replaced_record(target));
             }
-            ChangeStep::Remove { target } => rows.push(Row(vec![what_part(found, target), format!("removed {when}"), String::new()])),
-            ChangeStep::Insert { part, .. } => rows.push(Row(vec![what_part(left, &part.name), format!("added {when}"), now_part(&part.name)])),
+            ChangeStep::Remove { target } => push(vec![what_part(found, target), format!("removed {when}"), String::new()], marks(target)),
+            ChangeStep::Insert { part, .. } => push(vec![what_part(left, &part.name), format!("added {when}"), now_part(&part.name)], fitted(&part.name)),
             ChangeStep::Add { parts } => {
                 for p in parts {
-                    rows.push(Row(vec![what_part(left, &p.name), format!("added {when}"), now_part(&p.name)]));
+                    push(vec![what_part(left, &p.name), format!("added {when}"), now_part(&p.name)], fitted(&p.name));
                 }
             }
         }
     }
-    Table::new(&["Part", "State", "Now"], rows)
+    if record {
+        Table::new(&["Part", "State", "Now", "Record"], rows)
+    } else {
+        Table::new(&["Part", "State", "Now"], rows)
+    }
 }
 
 /// The largest amplifier power the speaker as left suits, with its assumptions.
@@ -157,14 +183,23 @@ pub(super) fn power(c: &Ctx) -> String {
             1 => format!(" {} has no power rating on record and is not counted.", capitalise(&unrated[0])),
             _ => format!(" {} have no power rating on record and are not counted.", capitalise(&super::words::join_and(&unrated))),
         };
+        let sine = p.sine_max_w.map(round_down_2).filter(|s| *s < nice);
+        let cautious = match sine {
+            Some(s) => format!("An amplifier of up to {} W per channel into {into} ohm keeps every part and driver within its rating even at full volume on a steady tone. ", trim_number(s, 3)),
+            None => String::new(),
+        };
         format!(
-            "Amplifier power: with the parts as fitted, every part and driver stays within its rating on music with an amplifier of up to {} W per channel into {into} ohm; above that, {whose} is the first to reach its limit. This assumes music at one eighth of the amplifier's full power on average, as the stress figures do, and an amplifier that is not driven into clipping; the ratings are for heat, and a driver's cone travel at low frequencies can set a lower limit, so the drivers' makers' ratings come first.{caveat}",
+            "Amplifier power: {cautious}On music played without clipping, an amplifier of up to {} W per channel stays within the ratings; above that, {whose} is the first to reach its limit. This assumes music at one eighth of the amplifier's full power on average, as the stress figures do; the ratings are for heat, and a driver's cone travel at low frequencies can set a lower limit, so the drivers' makers' ratings come first.{caveat}",
             trim_number(nice, 3)
         )
     } else {
         format!(
-            "Largest amplifier power: {} W into {into} ohm, where {who} reaches its limit ({limit}); load as left: min |Z| {}, {}. Basis: {}.",
+            "Largest amplifier power: {} W into {into} ohm on programme, where {who} reaches its limit ({limit}); {}; load as left: min |Z| {}, {}. Basis: {}.",
             trim_number(max, 3),
+            match (p.sine_max_w, &p.sine_limited_by) {
+                (Some(s), Some(w)) => format!("with a full-level sine, {} W, where {w} reaches its rating", trim_number(s, 3)),
+                _ => "no limit with a full-level sine from the ratings on record".into(),
+            },
             ohm(p.min_ohm),
             p.load_verdict,
             p.basis

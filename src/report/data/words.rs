@@ -17,6 +17,10 @@ pub(super) fn driver_words(net: &Network, name: &str) -> String {
 /// Where a part sits, in words a customer reads: the filter of the driver whose section
 /// holds it (never node names).
 pub(super) fn part_place(net: &Network, part: &str) -> String {
+    // The shop's own label for where it sits comes first.
+    if let Some(s) = net.part(part).and_then(|p| p.section.clone()) {
+        return s;
+    }
     let owners: Vec<&str> = net.drivers.iter().filter(|d| net.section(&d.name).contains(&part)).map(|d| d.name.as_str()).collect();
     match owners.as_slice() {
         [one] => match net.driver(one).map(|d| d.role) {
