@@ -61,8 +61,7 @@ pub fn job_of(job: &Job, o: &JobOption) -> Job {
 /// Each driver's RMS deviation from the original design over its band (dB; acoustic where
 /// known).
 fn driver_scores(f: &Findings) -> Vec<f64> {
-    f
-        .bands
+    f.bands
         .iter()
         .enumerate()
         .filter_map(|(di, band)| {
@@ -124,12 +123,7 @@ fn set_verdicts(set: &SetFindings, v: Verdict) -> Vec<String> {
         }));
     }
     for m in set.matching.iter().filter(|m| m.verdict == v && v == Verdict::Over) {
-        out.push(format!(
-            "{} match between cabinets: {:.2} dB apart, over the {} dB tolerance",
-            m.driver,
-            m.as_left_db,
-            crate::units::trim_number(m.tolerance_db, 3)
-        ));
+        out.push(format!("{} match between cabinets: {:.2} dB apart, over the {} dB tolerance", m.driver, m.as_left_db, crate::units::trim_number(m.tolerance_db, 3)));
     }
     out
 }

@@ -161,7 +161,14 @@ fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures, floor: Op
                 row.bench_only = true;
                 (
                     Verdict::Check,
-                    format!("a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low", hz(Some(sine.1)), part.name, w(sine.0), a_or_an(r), w(r)),
+                    format!(
+                        "a full-level test tone near {} overheats {} ({} W in {} {} W part): keep bench test levels low",
+                        hz(Some(sine.1)),
+                        part.name,
+                        w(sine.0),
+                        a_or_an(r),
+                        w(r)
+                    ),
                 )
             }
             Some(r) => (Verdict::Ok, format!("{} W on programme, {} W with a full-level sine, in {} {} W part", trim_number(prog, 2), trim_number(sine.0, 2), a_or_an(r), w(r))),

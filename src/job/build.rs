@@ -437,8 +437,8 @@ fn changes(raw: &[RawChange], net: &Network, prior: &[Change], field: &str, ctx:
                 };
                 let mut part = part.clone();
                 part.between = [node.clone(), next_to.clone()];
-                added.push(part.clone());
-                ChangeStep::Insert { part, node, next_to }
+                added.push((*part).clone());
+                ChangeStep::Insert { part: *part, node, next_to }
             }
         };
         out.push(Change { number: c.number, step, pos: c.pos });

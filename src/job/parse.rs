@@ -12,7 +12,8 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
-const JOB_KEYS: &[&str] = &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service"];
+const JOB_KEYS: &[&str] =
+    &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service"];
 
 pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let mut top = ctx.fields(root, "", JOB_KEYS)?;
@@ -121,7 +122,7 @@ fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>>
                     ctx.error(n.pos(), &f.at(verb), "insert one part per step", None);
                     continue;
                 } else if let Some(part) = parts.pop() {
-                    RawStep::Insert { part }
+                    RawStep::Insert { part: Box::new(part) }
                 } else {
                     continue;
                 }

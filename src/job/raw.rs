@@ -73,7 +73,7 @@ pub enum RawStep<'n> {
     },
     /// `insert:` one part whose `between` is a node and a part or driver, in either order.
     Insert {
-        part: Part,
+        part: Box<Part>,
     },
 }
 

@@ -34,7 +34,12 @@ pub(crate) fn service(node: &Node, ctx: &mut Ctx) -> Service {
     };
     if let (Some(a), Some(b), Some(n)) = (s.received, s.returned, f.get("returned")) {
         if (b.year, b.month, b.day) < (a.year, a.month, a.day) {
-            ctx.error(n.pos(), &f.at("returned"), format!("the speaker went back ({b}) before it came in ({a})"), Some("`received` is the day it came in, `returned` the day it left".into()));
+            ctx.error(
+                n.pos(),
+                &f.at("returned"),
+                format!("the speaker went back ({b}) before it came in ({a})"),
+                Some("`received` is the day it came in, `returned` the day it left".into()),
+            );
         }
     }
     if let Some(n) = f.get("labour_hours") {
@@ -80,7 +85,12 @@ fn inspection(node: &Node, path: &str, ctx: &mut Ctx) -> Vec<InspectionItem> {
     let mut out: Vec<InspectionItem> = DEFAULT_INSPECTION
         .iter()
         .map(|(key, words)| {
-            given.iter().find(|g| g.key == *key).cloned().unwrap_or(InspectionItem { key: key.to_string(), item: words.to_string(), result: InspectionResult::NotChecked, note: None })
+            given.iter().find(|g| g.key == *key).cloned().unwrap_or(InspectionItem {
+                key: key.to_string(),
+                item: words.to_string(),
+                result: InspectionResult::NotChecked,
+                note: None,
+            })
         })
         .collect();
     out.extend(given.into_iter().filter(|g| !DEFAULT_INSPECTION.iter().any(|(key, _)| *key == g.key)));
@@ -93,7 +103,12 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
     let root = match crate::job::yaml::parse(text) {
         Ok(r) => r,
         Err(e) => {
-            ctx.error(at, field, format!("{file} line {}, column {}: YAML syntax: {}", e.pos.line, e.pos.col, e.message), Some("check indentation (spaces, not tabs), colons and brackets".into()));
+            ctx.error(
+                at,
+                field,
+                format!("{file} line {}, column {}: YAML syntax: {}", e.pos.line, e.pos.col, e.message),
+                Some("check indentation (spaces, not tabs), colons and brackets".into()),
+            );
             return None;
         }
     };

@@ -3,9 +3,9 @@
 //! reads files.
 
 mod driver;
-pub mod service;
 mod network;
 mod part;
+pub mod service;
 mod steps;
 
 pub use driver::*;

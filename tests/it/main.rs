@@ -11,7 +11,7 @@ mod options;
 mod pair;
 mod parts;
 mod reference;
-mod service;
 mod report;
+mod service;
 mod substitute;
 mod util;

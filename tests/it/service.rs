@@ -32,7 +32,8 @@ fn sine_past(j: &Value) -> bool {
         let past = |fig: &str, rating: &str| matches!((num(r, fig), num(r, rating)), (Some(a), Some(b)) if a > b);
         past("sine_w", "rating_w") || past("peak_v", "rating_v") || past("rms_a", "rating_a")
     });
-    let drivers = j["driver_power"].as_array().unwrap().iter().filter(|r| r["scenario"] == "as_left").any(|r| matches!((num(r, "sine_w"), num(r, "rated_w")), (Some(a), Some(b)) if a > b));
+    let drivers =
+        j["driver_power"].as_array().unwrap().iter().filter(|r| r["scenario"] == "as_left").any(|r| matches!((num(r, "sine_w"), num(r, "rated_w")), (Some(a), Some(b)) if a > b));
     parts || drivers
 }
 
@@ -121,7 +122,13 @@ fn render(sample: &str, template: &str) -> (std::path::PathBuf, String) {
 #[test]
 fn every_service_field_reaches_the_templates_that_show_it() {
     // The values as written in samples/repair-like-for-like.yaml and harrowby-shop.yaml.
-    let everywhere = ["2026-10-06 to 2026-10-15", "Very good: the veneer has two light marks on the top; grille as new", "one crimp on the tweeter lead re-made", "crossover board mounting", "12 items: 8 pass, 3 fixed, 1 not checked."];
+    let everywhere = [
+        "2026-10-06 to 2026-10-15",
+        "Very good: the veneer has two light marks on the top; grille as new",
+        "one crimp on the tweeter lead re-made",
+        "crossover board mounting",
+        "12 items: 8 pass, 3 fixed, 1 not checked.",
+    ];
     let owner = [
         "No treble from the left speaker since a party",
         "The tweeter's padding resistor had burnt open",
@@ -164,11 +171,24 @@ fn the_inspection_lists_every_default_item_and_refuses_a_slip() {
     j.code(0);
     let t = pdf_text(&j.dir.join("a.pdf"), true).split_whitespace().collect::<Vec<_>>().join(" ");
     // Eleven default items (surrounds to grille), then the shop's own.
-    for item in ["Driver surrounds pass", "Driver spiders not checked", "Voice-coil rub not checked", "Grille not checked", "tweeter lens fail cracked", "12 items: 1 pass, 1 fail, 10 not checked."] {
+    for item in [
+        "Driver surrounds pass",
+        "Driver spiders not checked",
+        "Voice-coil rub not checked",
+        "Grille not checked",
+        "tweeter lens fail cracked",
+        "12 items: 1 pass, 1 fail, 10 not checked.",
+    ] {
         assert!(t.contains(item), "{item}: {t}");
     }
     let slip = format!("{text}\nservice:\n  inspection:\n    surounds: pass\n");
-    Cli::new().job(&slip).args(["check", "{job}"]).run().code(1).stderr_has("service.inspection.surounds: \"surounds\" is not an inspection item").stderr_has("did you mean `surrounds`?");
+    Cli::new()
+        .job(&slip)
+        .args(["check", "{job}"])
+        .run()
+        .code(1)
+        .stderr_has("service.inspection.surounds: \"surounds\" is not an inspection item")
+        .stderr_has("did you mean `surrounds`?");
     let bad = format!("{text}\nservice:\n  inspection:\n    surrounds: passed\n");
     Cli::new().job(&bad).args(["check", "{job}"]).run().code(1).stderr_has("service.inspection.surrounds: unknown choice \"passed\"").stderr_has("did you mean `pass`?");
     let dates = format!("{text}\nservice:\n  received: 2026-11-20\n  returned: 2026-11-02\n");
@@ -215,5 +235,11 @@ fn open_and_shorted_readings_are_words_and_refuse_a_value_beside_them() {
     // A shorted 1.5 ohm pad: the tweeter plays louder as found than designed.
     assert!(j["levels"][0]["as_found_db"].as_f64().unwrap() > 0.5, "{}", j["levels"][0]);
     let both = text.replace("R1: { open: true }", "R1: { open: true, value: 1.5 kohm }");
-    Cli::new().job(&both).file("harrowby-shop.yaml", &settings).args(["check", "{job}"]).run().code(1).stderr_has("measured.R1.value: a part that reads open has no `value` reading");
+    Cli::new()
+        .job(&both)
+        .file("harrowby-shop.yaml", &settings)
+        .args(["check", "{job}"])
+        .run()
+        .code(1)
+        .stderr_has("measured.R1.value: a part that reads open has no `value` reading");
 }

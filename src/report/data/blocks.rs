@@ -641,7 +641,10 @@ pub(super) fn options_of(c: &Ctx, list: &[OptionFindings], recommended: Option<&
     let serials = c.job.info.serials.len();
     let cabinets = list.first().and_then(|o| o.set.as_ref()).map(|s| s.cabinets.len());
     let per = match cabinets {
-        Some(n) => format!(" Parts are counted and prices given for {}; labour is for the whole job.", if n == 2 { "both cabinets".to_string() } else { format!("all {} cabinets", count_words(n)) }),
+        Some(n) => format!(
+            " Parts are counted and prices given for {}; labour is for the whole job.",
+            if n == 2 { "both cabinets".to_string() } else { format!("all {} cabinets", count_words(n)) }
+        ),
         None if serials > 1 => format!(" Prices and labour are for one cabinet; the job lists {} serials.", count_words(serials)),
         None => String::new(),
     };

@@ -13,9 +13,9 @@
 //! | `words.rs` | how a customer reads a driver, a part, a level |
 
 mod blocks;
+mod service;
 mod set;
 mod story;
-mod service;
 mod words;
 
 use serde::Serialize;

@@ -63,21 +63,13 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
     if let Some(t) = &s.condition {
         row("Condition", t.clone());
     }
-    let inspection = Table::new(
-        &["Item", "Result", "Note"],
-        s.inspection.iter().map(|i| Row(vec![i.item.clone(), i.result.words().to_string(), i.note.clone().unwrap_or_default()])).collect(),
-    );
+    let inspection =
+        Table::new(&["Item", "Result", "Note"], s.inspection.iter().map(|i| Row(vec![i.item.clone(), i.result.words().to_string(), i.note.clone().unwrap_or_default()])).collect());
     let count = |r: crate::model::service::InspectionResult| s.inspection.iter().filter(|i| i.result == r).count();
     use crate::model::service::InspectionResult as R;
     let parts: Vec<String> = [R::Pass, R::Fixed, R::Fail, R::NotChecked].iter().filter(|r| count(**r) > 0).map(|r| format!("{} {}", count(*r), r.words())).collect();
     let inspection_summary = if s.inspection.is_empty() { String::new() } else { format!("{} items: {}.", s.inspection.len(), parts.join(", ")) };
-    Some(ServiceData {
-        record: Table::new(&["", ""], rows),
-        inspection,
-        inspection_summary,
-        condition: s.condition.clone(),
-        technician: c.job.info.technician.clone(),
-    })
+    Some(ServiceData { record: Table::new(&["", ""], rows), inspection, inspection_summary, condition: s.condition.clone(), technician: c.job.info.technician.clone() })
 }
 
 /// What is original and what was replaced, part by part (drivers too), with the date the
@@ -185,7 +177,10 @@ pub(super) fn power(c: &Ctx) -> String {
         };
         let sine = p.sine_max_w.map(round_down_2).filter(|s| *s < nice);
         let cautious = match sine {
-            Some(s) => format!("An amplifier of up to {} W per channel into {into} ohm keeps every part and driver within its rating even at full volume on a steady tone. ", trim_number(s, 3)),
+            Some(s) => format!(
+                "An amplifier of up to {} W per channel into {into} ohm keeps every part and driver within its rating even at full volume on a steady tone. ",
+                trim_number(s, 3)
+            ),
             None => String::new(),
         };
         format!(

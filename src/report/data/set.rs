@@ -91,10 +91,19 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     let names: Vec<String> = set.cabinets.iter().map(|c| c.name.clone()).collect();
     let mut each: Vec<ReportData> = set.cabinets.iter().map(|c| build(&c.job, &c.findings, template, plots)).collect();
     // The largest amplifier power is the least of any cabinet's.
-    let least = set.cabinets.iter().enumerate().min_by(|a, b| a.1.findings.power.max_w.unwrap_or(f64::INFINITY).total_cmp(&b.1.findings.power.max_w.unwrap_or(f64::INFINITY))).map(|(i, _)| i);
+    let least = set
+        .cabinets
+        .iter()
+        .enumerate()
+        .min_by(|a, b| a.1.findings.power.max_w.unwrap_or(f64::INFINITY).total_cmp(&b.1.findings.power.max_w.unwrap_or(f64::INFINITY)))
+        .map(|(i, _)| i);
     let power = least.map(|i| {
         let p = each[i].power.clone();
-        if set.cabinets.len() > 1 { format!("{p} (Cabinet {}, the least of the cabinets.)", names[i]) } else { p }
+        if set.cabinets.len() > 1 {
+            format!("{p} (Cabinet {}, the least of the cabinets.)", names[i])
+        } else {
+            p
+        }
     });
     let mut data = each.remove(0);
     if let Some(p) = power {
