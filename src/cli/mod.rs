@@ -351,7 +351,18 @@ fn starter(name: &str, sample: &str) -> String {
         "# voicekeep starter job, from the {name} example. Fill in the job block, then replace the\n# network, readings and changes with your speaker's; `voicekeep check` lists every problem.\n# Values are \"number unit\" (3.3 uF, 0.27 mH, 2.2 ohm) or the RKM code printed on parts (2R2, 4u7).\n"
     );
     let mut skipping = false;
+    let mut in_photos = false;
     for line in sample.lines().skip_while(|l| l.starts_with('#') || l.trim().is_empty()) {
+        // A sample's photographs are files beside it: a starter shows the form instead.
+        if line.starts_with("  photos:") {
+            out.push_str("  # photos:                        # JPEG or PNG files beside the job\n  #   - { file: before.jpg, caption: the board as it came in, taken: before }\n");
+            in_photos = true;
+            continue;
+        }
+        if in_photos && line.starts_with("    ") {
+            continue;
+        }
+        in_photos = false;
         if line.starts_with("job:") {
             out.push_str(STARTER_JOB);
             skipping = true;

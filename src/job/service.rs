@@ -5,10 +5,10 @@
 use crate::diag::suggest;
 use crate::job::reader::{map_entries, Ctx};
 use crate::job::yaml::Node;
-use crate::model::service::{InspectionItem, InspectionResult, Service, ShopSettings, DEFAULT_INSPECTION};
+use crate::model::service::{InspectionItem, InspectionResult, Photo, Service, ShopSettings, Taken, DEFAULT_INSPECTION, MAX_PHOTO_BYTES};
 use crate::model::Date;
 
-const SERVICE_KEYS: &[&str] = &["received", "returned", "complaint", "finding", "labour_hours", "warranty", "condition", "inspection"];
+const SERVICE_KEYS: &[&str] = &["received", "returned", "complaint", "finding", "labour_hours", "warranty", "condition", "inspection", "photos"];
 
 /// An ISO date at `key`, or None with a located error.
 fn date(ctx: &mut Ctx, node: &Node, path: &str) -> Option<Date> {
@@ -52,7 +52,54 @@ pub(crate) fn service(node: &Node, ctx: &mut Ctx) -> Service {
     if let Some(n) = f.get("inspection") {
         s.inspection = inspection(n, &f.at("inspection"), ctx);
     }
+    if let Some(n) = f.get("photos") {
+        s.photos = photos(n, &f.at("photos"), ctx);
+    }
     s
+}
+
+/// The photographs: each `{ file, caption, taken: before | after, customer: true | false }`,
+/// read whole and checked to be a JPEG or PNG image.
+fn photos(node: &Node, path: &str, ctx: &mut Ctx) -> Vec<Photo> {
+    let Node::Seq { items, .. } = node else {
+        ctx.error(
+            node.pos(),
+            path,
+            format!("expected a list of photographs, found {}", node.kind_name()),
+            Some("write `- { file: before.jpg, caption: ..., taken: before }` for each".into()),
+        );
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    for (i, item) in items.iter().enumerate() {
+        let field = format!("{path}[{}]", i + 1);
+        let Some(g) = ctx.fields(item, &field, &["file", "caption", "taken", "customer"]) else { continue };
+        let file = ctx.req(&g, "file", "the image file, JPEG or PNG, beside the job").and_then(|n| crate::job::fields::table_ref(n, &g.at("file"), ctx));
+        let caption = ctx.req(&g, "caption", "what the photograph shows").and_then(|n| ctx.text(n, &g.at("caption")));
+        let taken = ctx.req(&g, "taken", "before or after the work").and_then(|n| ctx.choice(n, &g.at("taken"), &[("before", Taken::Before), ("after", Taken::After)]));
+        let customer = match g.get("customer") {
+            Some(n) => ctx.choice(n, &g.at("customer"), &[("true", true), ("false", false)]),
+            None => Some(false),
+        };
+        let (Some(file), Some(caption), Some(taken), Some(customer)) = (file, caption, taken, customer) else { continue };
+        let Some(bytes) = ctx.read_bytes(&file, "photograph") else { continue };
+        let image = bytes.starts_with(&[0xFF, 0xD8, 0xFF]) || bytes.starts_with(&[0x89, b'P', b'N', b'G', 0x0D, 0x0A, 0x1A, 0x0A]);
+        if !image {
+            ctx.error(file.pos, &file.field, format!("\"{}\" is not a JPEG or PNG image", file.name), Some("save the photograph as JPEG (.jpg) or PNG (.png)".into()));
+            continue;
+        }
+        if bytes.len() > MAX_PHOTO_BYTES {
+            ctx.error(
+                file.pos,
+                &file.field,
+                format!("\"{}\" is {} MB, above the {} MB a photograph may be", file.name, bytes.len() / (1024 * 1024), MAX_PHOTO_BYTES / (1024 * 1024)),
+                Some("save a smaller copy for the record".into()),
+            );
+            continue;
+        }
+        out.push(Photo { file: file.name, caption, taken, customer });
+    }
+    out
 }
 
 /// The checklist: every default item, in its order, with what the job says of it ("not

@@ -114,6 +114,23 @@ impl Ctx<'_> {
         }
     }
 
+    /// Reads a binary file the job names (a photograph) and records it for the report, byte
+    /// for byte.
+    pub(crate) fn read_bytes(&mut self, r: &TableRef, what: &str) -> Option<Vec<u8>> {
+        match self.files.read(&r.name) {
+            Ok(bytes) => {
+                if !self.inputs.iter().any(|f| f.name == r.name) {
+                    self.inputs.push(InputFile { name: r.name.clone(), bytes: bytes.clone() });
+                }
+                Some(bytes)
+            }
+            Err(e) => {
+                self.error(r.pos, &r.field, format!("cannot read {what} \"{}\": {}", e.file, e.reason), Some("paths are relative to the job file's folder".into()));
+                None
+            }
+        }
+    }
+
     /// A table of three numeric columns (comma, tab or space separated; `#` comments).
     fn table(&mut self, r: &TableRef, min_rows: usize) -> Option<(String, [Vec<f64>; 3])> {
         let (node, path) = (r, r.field.as_str());

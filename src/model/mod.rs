@@ -300,12 +300,14 @@ pub enum Block {
     History,
     /// The largest amplifier power the speaker suits.
     Power,
+    /// The photographs, before and after.
+    Photos,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 16] = [
+    pub const NAMES: [&'static str; 17] = [
         "levels",
         "parts",
         "compensation",
@@ -322,6 +324,7 @@ impl Block {
         "service",
         "history",
         "power",
+        "photos",
     ];
 
     pub fn named(name: &str) -> Option<Block> {
@@ -342,6 +345,7 @@ impl Block {
             "service" => Block::Service,
             "history" => Block::History,
             "power" => Block::Power,
+            "photos" => Block::Photos,
             _ => return None,
         })
     }
@@ -368,6 +372,7 @@ impl Block {
             Block::Service => "service",
             Block::History => "history",
             Block::Power => "power",
+            Block::Photos => "photos",
         }
     }
 }

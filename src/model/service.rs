@@ -55,6 +55,27 @@ pub struct InspectionItem {
     pub note: Option<String>,
 }
 
+/// When a photograph was taken.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Taken {
+    Before,
+    After,
+}
+
+/// A photograph the job lists: the file (read whole, kept byte for byte among the inputs),
+/// its caption, when it was taken, and whether the customer's report shows it too.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Photo {
+    pub file: String,
+    pub caption: String,
+    pub taken: Taken,
+    pub customer: bool,
+}
+
+/// The largest photograph a job may list (bytes).
+pub const MAX_PHOTO_BYTES: usize = 25 * 1024 * 1024;
+
 /// The service record's own fields; all empty for a job that gives none.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Service {
@@ -73,6 +94,7 @@ pub struct Service {
     /// The inspection, default items first (those the job does not give are "not checked"),
     /// then the shop's own; empty when the job has no inspection.
     pub inspection: Vec<InspectionItem>,
+    pub photos: Vec<Photo>,
 }
 
 impl Service {

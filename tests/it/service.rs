@@ -111,6 +111,19 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
 
 const REPAIR: &str = "samples/repair-like-for-like.yaml";
 
+/// The files beside the repair sample, for a copy of it in a test's own folder; `settings`
+/// in place of the shop's settings file.
+fn beside_repair(cli: Cli, settings: Option<&[u8]>) -> Cli {
+    let mut cli = cli;
+    for f in ["photo-before-board.jpg", "photo-after-board.png"] {
+        cli = cli.file(f, &std::fs::read(root().join("samples").join(f)).unwrap());
+    }
+    match settings {
+        Some(s) => cli.file("harrowby-shop.yaml", s),
+        None => cli,
+    }
+}
+
 fn render(sample: &str, template: &str) -> (std::path::PathBuf, String) {
     let o = Cli::new().args(["report", sample, "--template", template, "-o", "{dir}/out.pdf"]).run();
     o.code(0);
@@ -201,17 +214,17 @@ fn a_shop_settings_file_fills_what_the_job_leaves_and_its_mistakes_are_located()
     let settings = std::fs::read(root().join("samples/harrowby-shop.yaml")).unwrap();
     // The job's own name wins over the file's.
     let own = text.replace("shop: { settings: harrowby-shop.yaml }", "shop: { name: Harrowby Annexe, settings: harrowby-shop.yaml }");
-    let o = Cli::new().job(&own).file("harrowby-shop.yaml", &settings).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run();
+    let o = beside_repair(Cli::new().job(&own), Some(&settings)).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run();
     o.code(0);
     let t = pdf_text(&o.dir.join("r.pdf"), false);
     assert!(t.contains("Harrowby Annexe") && t.contains("22 Mill Row, Easterfold"));
     // A mistake inside the settings file names the file, its line and column, and the field.
     let broken = String::from_utf8(settings).unwrap().replace("labour_rate: 44.00", "labour_rate: 44,5");
-    let o = Cli::new().job(&text).file("harrowby-shop.yaml", broken.as_bytes()).args(["check", "{job}"]).run();
+    let o = beside_repair(Cli::new().job(&text), Some(broken.as_bytes())).args(["check", "{job}"]).run();
     o.code(1).stderr_has("job.shop.settings: harrowby-shop.yaml line 7, column 14 (labour_rate): \"44,5\" is not a price");
-    let o = Cli::new().job(&text).file("harrowby-shop.yaml", b"name: X\nwaranty: none\n").args(["check", "{job}"]).run();
+    let o = beside_repair(Cli::new().job(&text), Some(b"name: X\nwaranty: none\n")).args(["check", "{job}"]).run();
     o.code(1).stderr_has("harrowby-shop.yaml line 2, column 1").stderr_has("did you mean `warranty`?");
-    Cli::new().job(&text).args(["check", "{job}"]).run().code(1).stderr_has("job.shop.settings: cannot read settings file").stderr_has("harrowby-shop.yaml");
+    beside_repair(Cli::new().job(&text), None).args(["check", "{job}"]).run().code(1).stderr_has("job.shop.settings: cannot read settings file").stderr_has("harrowby-shop.yaml");
 }
 
 #[test]
@@ -219,7 +232,7 @@ fn open_and_shorted_readings_are_words_and_refuse_a_value_beside_them() {
     let text = std::fs::read_to_string(root().join(REPAIR)).unwrap();
     let settings = std::fs::read(root().join("samples/harrowby-shop.yaml")).unwrap();
     let solve = |t: &str| {
-        let o = Cli::new().job(t).file("harrowby-shop.yaml", &settings).args(["solve", "{job}", "--format", "json"]).run();
+        let o = beside_repair(Cli::new().job(t), Some(&settings)).args(["solve", "{job}", "--format", "json"]).run();
         o.code(0);
         serde_json::from_str::<Value>(&o.stdout).unwrap()
     };
@@ -242,4 +255,48 @@ fn open_and_shorted_readings_are_words_and_refuse_a_value_beside_them() {
         .run()
         .code(1)
         .stderr_has("measured.R1.value: a part that reads open has no `value` reading");
+}
+
+#[test]
+fn photographs_are_shown_hashed_and_attached_byte_for_byte() {
+    let (pdf, archive) = render(REPAIR, "archive");
+    let (cpdf, customer) = render(REPAIR, "customer");
+    let (_, sale) = render(REPAIR, "sale");
+    for (name, caption) in
+        [("photo-before-board.jpg", "Before the work: the crossover board as it came in; R1 burnt open"), ("photo-after-board.png", "After the work: the board after the repair")]
+    {
+        let bytes = std::fs::read(root().join("samples").join(name)).unwrap();
+        // SHA-256 of the file as it is on disk, by the sha2 crate's reference implementation.
+        use sha2::Digest;
+        let hash: String = sha2::Sha256::digest(&bytes).iter().map(|b| format!("{b:02x}")).collect();
+        assert!(archive.contains(caption), "{caption}");
+        assert!(archive.contains(&hash), "{name}: its SHA-256 in the appendix");
+        assert!(archive.contains(&hash[..16]), "{name}: beside the photograph");
+        // Attached as it came, however large: the page shows it scaled.
+        let dir = tempfile::tempdir().unwrap();
+        let out = std::process::Command::new("pdfdetach").arg("-saveall").arg("-o").arg(dir.path()).arg(&pdf).output().unwrap();
+        assert!(out.status.success());
+        assert_eq!(std::fs::read(dir.path().join(name)).unwrap(), bytes, "{name}: the attachment is the original");
+    }
+    // The customer's report shows the photograph marked for the customer only; the sale
+    // sheet none.
+    assert!(customer.contains("After the work: the board after the repair") && !customer.contains("R1 burnt open (photo"));
+    assert!(!sale.contains("Photographs"));
+    // The large photograph is embedded at its own size (2400 x 1600), not resampled.
+    let list = std::process::Command::new("pdfimages").arg("-list").arg(&pdf).output().unwrap();
+    let list = String::from_utf8_lossy(&list.stdout);
+    assert!(list.lines().any(|l| l.split_whitespace().nth(3) == Some("2400") && l.split_whitespace().nth(4) == Some("1600")), "{list}");
+    let _ = cpdf;
+}
+
+#[test]
+fn a_photograph_that_is_not_an_image_is_refused_with_its_place() {
+    let text = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let job = format!("{text}\nservice:\n  photos:\n    - {{ file: board.jpg, caption: the board, taken: before }}\n");
+    let o = Cli::new().job(&job).file("board.jpg", b"this is text, not a picture").args(["check", "{job}"]).run();
+    o.code(1).stderr_has("service.photos[1].file: \"board.jpg\" is not a JPEG or PNG image");
+    let o = Cli::new().job(&job).args(["check", "{job}"]).run();
+    o.code(1).stderr_has("cannot read photograph").stderr_has("board.jpg");
+    let late = job.replace("taken: before", "taken: later");
+    Cli::new().job(&late).file("board.jpg", b"\xff\xd8\xff").args(["check", "{job}"]).run().code(1).stderr_has("service.photos[1].taken: unknown choice \"later\"");
 }

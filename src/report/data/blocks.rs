@@ -272,7 +272,11 @@ pub(super) fn parts(c: &Ctx) -> Table {
             let (d, fo, l) = (designed.network.part(n), found.network.part(n), left.network.part(n));
             let any = d.or(fo).or(l)?;
             // Nodes voicekeep made up exist only as left, where their labels are.
-            let where_ = format!("{}, {} - {}", any.kind.name(), left.network.node_label(&any.between[0]), left.network.node_label(&any.between[1]));
+            // The shop's label for where it sits, when it gives one, in place of the nodes.
+            let where_ = match &any.section {
+                Some(s) => format!("{}, {s}", any.kind.name()),
+                None => format!("{}, {} - {}", any.kind.name(), left.network.node_label(&any.between[0]), left.network.node_label(&any.between[1])),
+            };
             let t = |p: Option<&Part>| p.map(part_text).unwrap_or_else(|| "-".into());
             let change = match (fo, l) {
                 (None, Some(_)) => "added".to_string(),

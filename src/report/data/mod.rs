@@ -226,6 +226,9 @@ pub struct ReportData {
     pub history: Table,
     /// The largest amplifier power the speaker as left suits, with its assumptions.
     pub power: String,
+    /// The photographs this report shows: all in the archive, those marked `customer` in the
+    /// customer's report, none on the sale sheet.
+    pub photos: Vec<service::PhotoData>,
 }
 
 /// The options side by side, each one's parts, and the recommendation.
@@ -297,6 +300,10 @@ pub(crate) fn mime(name: &str) -> &'static str {
         "application/yaml"
     } else if name.ends_with(".csv") {
         "text/csv"
+    } else if name.to_lowercase().ends_with(".jpg") || name.to_lowercase().ends_with(".jpeg") {
+        "image/jpeg"
+    } else if name.to_lowercase().ends_with(".png") {
+        "image/png"
     } else {
         "text/plain"
     }
@@ -327,6 +334,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Service => ("service", None, None),
         Block::History => ("history", None, None),
         Block::Power => ("power", None, None),
+        Block::Photos => ("photos", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -367,6 +375,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         service: service::service(&c),
         history: service::history(&c),
         power: service::power(&c),
+        photos: service::photos(&c),
     };
 
     if let Some(ch) = &f.chosen {

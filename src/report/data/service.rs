@@ -72,6 +72,45 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
     Some(ServiceData { record: Table::new(&["", ""], rows), inspection, inspection_summary, condition: s.condition.clone(), technician: c.job.info.technician.clone() })
 }
 
+#[derive(Debug, Serialize)]
+pub struct PhotoData {
+    /// The image inside the report's files ("/inputs/3"), the file as named in the job.
+    pub file: String,
+    pub name: String,
+    pub caption: String,
+    /// "Before the work" or "After the work".
+    pub taken: String,
+    pub sha256: String,
+}
+
+/// The photographs this report shows, each with its SHA-256 (the attached original's).
+pub(super) fn photos(c: &Ctx) -> Vec<PhotoData> {
+    let show = |customer: bool| match c.audience {
+        Audience::Archive => true,
+        Audience::Customer => customer,
+        Audience::Sale => false,
+    };
+    c.job
+        .service
+        .photos
+        .iter()
+        .filter(|p| show(p.customer))
+        .filter_map(|p| {
+            let i = c.job.inputs.iter().position(|f| f.name == p.file)?;
+            Some(PhotoData {
+                file: format!("/inputs/{i}"),
+                name: p.file.clone(),
+                caption: p.caption.clone(),
+                taken: match p.taken {
+                    crate::model::service::Taken::Before => "Before the work".into(),
+                    crate::model::service::Taken::After => "After the work".into(),
+                },
+                sha256: super::sha256(&c.job.inputs[i].bytes),
+            })
+        })
+        .collect()
+}
+
 /// What is original and what was replaced, part by part (drivers too), with the date the
 /// work was finished; for the buyer and the archive.
 pub(super) fn history(c: &Ctx) -> Table {

@@ -183,6 +183,11 @@ pub(super) fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, inser
         let why = fit.map(|f| format!(" to bring {} back to its original level", driver_words(net_left, &f.driver))).unwrap_or_default();
         return format!("Fitted {}, {}, in {}{why}.", part.name, fitted_words(c, fitted), part_place(net_left, &part.name));
     }
+    // The shop's label for where it sits, when it gives one, in place of the nodes.
+    if let Some(section) = &fitted.section {
+        let verb = if insert.is_some() { "Inserted" } else { "Added" };
+        return format!("{number}. {verb} {} ({}{}) in {section}", part.name, part_text(fitted), rating_text(c, fitted).map(|r| format!(", {r}")).unwrap_or_default());
+    }
     match insert {
         Some((node, next_to)) => format!(
             "{number}. Inserted {} ({}{}) in series between node {node} and {next_to}",
