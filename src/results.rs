@@ -79,6 +79,13 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         "health": f.health.iter().map(to_value).collect::<Vec<_>>(),
         "power_range": to_value(&f.power),
     });
+    if !f.confirmation.is_empty() {
+        let mut m = Map::new();
+        for c in &f.confirmation {
+            m.insert(c.scenario.key().into(), to_value(c));
+        }
+        out["confirmation"] = Value::Object(m);
+    }
     parts_json(&mut out, &f.parts);
     options_json(&mut out, &f.options, &f.recommended, &f.chosen);
     if !f.substitutes.is_empty() {
@@ -349,6 +356,21 @@ pub fn text(job: &Job, f: &Findings) -> String {
     substitute_text(&mut s, f);
     parts_text(&mut s, &f.parts);
     options_text(&mut s, &f.options, &f.recommended, f.parts.currency.as_ref());
+    for c in &f.confirmation {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "TERMINALS {} (predicted against {}, {} points, {} to {})", c.scenario.key(), c.file, c.points, hz(Some(c.from_hz)), hz(Some(c.to_hz)));
+        let _ = writeln!(
+            s,
+            "  |Z| RMS {:.2} %, worst {:+.2} % at {}; phase RMS {:.2} deg, worst {:+.2} deg at {}",
+            c.z_rms_pct,
+            c.z_worst_pct,
+            hz(Some(c.worst_hz)),
+            c.phase_rms_deg,
+            c.phase_worst_deg,
+            hz(Some(c.phase_worst_hz))
+        );
+        let _ = writeln!(s, "  {}: {}", c.verdict, c.reason);
+    }
     s
 }
 

@@ -5,6 +5,7 @@
 
 pub mod bom;
 pub mod compensate;
+pub mod confirm;
 pub mod eseries;
 pub mod health;
 pub mod levels;
@@ -141,6 +142,8 @@ pub struct Findings {
     pub chosen: Option<options::Chosen>,
     /// The largest amplifier power the speaker as left suits.
     pub power: power::PowerRange,
+    /// The prediction against the sweeps measured at the terminals, as found and as left.
+    pub confirmation: Vec<confirm::Confirmation>,
 }
 
 #[derive(Debug)]
@@ -321,7 +324,16 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
         recommended: None,
         chosen: None,
         power: power::PowerRange::default(),
+        confirmation: Vec::new(),
     };
+    let range = (findings.freqs[0], findings.freqs[findings.freqs.len() - 1]);
+    for (scenario, sweep, net) in
+        [(Scenario::AsFound, &job.terminals.as_found, &findings.scenes.as_found.network), (Scenario::AsLeft, &job.terminals.as_left, &findings.scenes.as_left.network)]
+    {
+        if let Some(c) = sweep.as_ref().and_then(|s| confirm::confirm(scenario, net, amp, s, range, job.terminals.limits)) {
+            findings.confirmation.push(c);
+        }
+    }
     findings.power = power::power_range(amp, &findings);
     findings.substitutes = substitute::check(job, &findings);
     findings.parts = bom::for_work(job, &[(&[], &findings.scenes.as_left.network, &findings.stress)]);

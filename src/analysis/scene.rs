@@ -144,6 +144,13 @@ pub fn driver_levels(network: &Network, amp: &Amplifier, freqs: &[f64]) -> Resul
     Ok(pass(&c, network, freqs, false, false)?.db)
 }
 
+/// The impedance at the network's input terminals at each of `freqs` (the amplifier's
+/// output impedance is behind them, not part of it).
+pub fn input_impedances(network: &Network, amp: &Amplifier, freqs: &[f64]) -> Result<Vec<Complex64>, SolveError> {
+    let c = Circuit::from_network(network, amp)?;
+    Ok(pass(&c, network, freqs, true, false)?.z)
+}
+
 /// The frequencies the stress figures are worked out on, whatever sweep the job chose for
 /// display: the programme's whole band and at least 20 Hz to 20 kHz for the sine search.
 #[derive(Debug, Clone, PartialEq)]

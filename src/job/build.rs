@@ -36,6 +36,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
                 pos: c.pos,
                 measured: self::measured(&c.measured, &network, &format!("{field}.measured"), ctx),
                 changes: self::changes(&c.changes, &network, &changes, &format!("{field}.changes"), ctx),
+                terminals: c.terminals.clone(),
             }
         })
         .collect();
@@ -112,6 +113,22 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
     }
     if let Some(a) = &raw.analysis {
         checks::coverage(&network, &all_changes, &compensate, &a.sweep, ctx);
+        // A terminal sweep is compared where the models hold: inside the analysis sweep.
+        let fr = a.sweep.frequencies();
+        let (lo, hi) = (fr.first().copied().unwrap_or(0.0), fr.last().copied().unwrap_or(0.0));
+        for t in std::iter::once(&raw.terminals).chain(cabinets.iter().map(|c| &c.terminals)) {
+            for (s, (pos, field)) in [&t.as_found, &t.as_left].into_iter().flatten().zip(&t.places) {
+                let n = s.freq_hz.iter().filter(|f| **f >= lo * (1.0 - 1e-9) && **f <= hi * (1.0 + 1e-9)).count();
+                if n < 3 {
+                    ctx.error(
+                        *pos,
+                        field,
+                        format!("only {n} of {}'s points fall inside the analysis sweep ({} to {})", s.file, crate::units::hz(Some(lo)), crate::units::hz(Some(hi))),
+                        Some("sweep the speaker over the analysis range, or widen `analysis.sweep` to the sweep's".into()),
+                    );
+                }
+            }
+        }
     }
     // The shop's settings file fills what the job leaves out: its name, address and contact,
     // its warranty terms and its hourly rate.
@@ -154,6 +171,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         template,
         blocks: raw.blocks,
         service,
+        terminals: raw.terminals,
         inputs: Vec::new(),
     })
 }

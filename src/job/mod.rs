@@ -21,6 +21,7 @@ pub mod raw;
 pub mod reader;
 pub mod service;
 pub mod tables;
+pub mod terminals;
 pub mod yaml;
 
 use std::fmt;

@@ -13,7 +13,7 @@ use crate::model::*;
 use crate::units::Quantity;
 
 const JOB_KEYS: &[&str] =
-    &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service"];
+    &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service", "terminals"];
 
 pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let mut top = ctx.fields(root, "", JOB_KEYS)?;
@@ -49,6 +49,17 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let option_names: Vec<String> = options.iter().map(|o| o.name.clone()).collect();
     let (template, blocks) = top.get("report").map(|n| report(n, &option_names, ctx)).unwrap_or((RawTemplate::Customer, None));
     let service = top.get("service").map(|n| super::service::service(n, ctx)).unwrap_or_default();
+    let terminals = top.get("terminals").map(|n| super::terminals::terminals(n, "terminals", ctx)).unwrap_or_default();
+    if let (Some(n), true) = (top.get("terminals"), top.get("cabinets").is_some()) {
+        if !terminals.is_empty() {
+            ctx.error(
+                n.pos(),
+                "terminals",
+                "a pair's or set's sweeps belong to each cabinet",
+                Some("write them under cabinets.NAME.terminals; `terminals.limits` here applies to every cabinet".into()),
+            );
+        }
+    }
     Some(RawJob {
         info,
         amplifier,
@@ -66,6 +77,7 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
         template,
         blocks,
         service,
+        terminals,
         shop_settings,
     })
 }
@@ -145,13 +157,14 @@ fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
         }
         // A cabinet with nothing of its own is written `NAME: {}` or with no value at all.
         if v.is_null() {
-            out.push(RawCabinet { name: k.name.clone(), pos: k.pos, measured: Vec::new(), changes: Vec::new() });
+            out.push(RawCabinet { name: k.name.clone(), pos: k.pos, measured: Vec::new(), changes: Vec::new(), terminals: Default::default() });
             continue;
         }
-        let Some(f) = ctx.fields(v, &path, &["measured", "changes"]) else { continue };
+        let Some(f) = ctx.fields(v, &path, &["measured", "changes", "terminals"]) else { continue };
         let measured = f.get("measured").map(|n| map_entries(n, &f.at("measured"), ctx).iter().map(|(key, node)| Entry { key, node }).collect()).unwrap_or_default();
         let changes = f.get("changes").map(|n| changes(n, &f.at("changes"), ctx)).unwrap_or_default();
-        out.push(RawCabinet { name: k.name.clone(), pos: k.pos, measured, changes });
+        let terminals = f.get("terminals").map(|n| super::terminals::terminals(n, &f.at("terminals"), ctx)).unwrap_or_default();
+        out.push(RawCabinet { name: k.name.clone(), pos: k.pos, measured, changes, terminals });
     }
     if let [one] = out.as_slice() {
         ctx.error(one.pos, "cabinets", "one cabinet is not a pair: give two or more, or write its readings and steps at the top of the job", None);

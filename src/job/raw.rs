@@ -108,6 +108,7 @@ pub struct RawCabinet<'n> {
     pub pos: Pos,
     pub measured: Vec<Entry<'n>>,
     pub changes: Vec<RawChange<'n>>,
+    pub terminals: crate::model::terminals::Terminals,
 }
 
 /// An option as written: its words, labour, and its own steps and compensate entries.
@@ -139,6 +140,7 @@ pub struct RawJob<'n> {
     pub template: RawTemplate,
     pub blocks: Option<Vec<Block>>,
     pub service: crate::model::service::Service,
+    pub terminals: crate::model::terminals::Terminals,
     /// The shop settings file `job.shop.settings` names.
     pub shop_settings: Option<TableRef>,
 }

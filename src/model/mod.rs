@@ -7,6 +7,7 @@ mod network;
 mod part;
 pub mod service;
 mod steps;
+pub mod terminals;
 
 pub use driver::*;
 pub use network::*;
@@ -229,6 +230,8 @@ pub struct Cabinet {
     pub pos: Pos,
     pub measured: Vec<Reading>,
     pub changes: Vec<Change>,
+    /// This cabinet's sweeps at its terminals.
+    pub terminals: terminals::Terminals,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -491,6 +494,8 @@ pub struct Job {
     /// The service record's own fields (dates, complaint, inspection, ...); empty when the
     /// job gives none.
     pub service: service::Service,
+    /// Impedance sweeps measured at the terminals, as found and as left.
+    pub terminals: terminals::Terminals,
     /// The job file first, then every table it read, in order.
     pub inputs: Vec<InputFile>,
 }
@@ -506,6 +511,9 @@ impl Job {
             ch.number += common;
             ch
         }));
+        if !c.terminals.is_empty() {
+            job.terminals = terminals::Terminals { limits: self.terminals.limits, ..c.terminals.clone() };
+        }
         job.cabinets.clear();
         job
     }

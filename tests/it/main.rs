@@ -14,4 +14,5 @@ mod reference;
 mod report;
 mod service;
 mod substitute;
+mod terminals;
 mod util;
