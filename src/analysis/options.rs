@@ -218,7 +218,7 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
     };
     let reason = match tier {
         0 => format!(
-            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with every part, driver and the load within their limits.",
+            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with nothing over its limit and no caution the original design does not have.",
             best.name, best.score_db
         ),
         1 => format!(

@@ -92,7 +92,11 @@ pub fn power_range(amp: &Amplifier, f: &Findings) -> PowerRange {
     let sine_first = sine.iter().min_by(|a, b| a.0.total_cmp(&b.0)).cloned();
     let load = &f.loads.as_left;
     let share = trim_number(100.0 * amp.programme_power_w() / amp.power_w, 3);
-    let unrated_text = if unrated.is_empty() { String::new() } else { format!("; with no rating on record, {} bound nothing", unrated.join(", ")) };
+    let unrated_text = match unrated.as_slice() {
+        [] => String::new(),
+        [one] => format!("; {one} has no rating on record and bounds nothing"),
+        [rest @ .., last] => format!("; {} and {last} have no rating on record and bound nothing", rest.join(", ")),
+    };
     PowerRange {
         max_w: first.as_ref().map(|x| x.0),
         into_ohm: amp.into_ohm,

@@ -204,31 +204,23 @@ pub(super) fn power(c: &Ctx) -> String {
     if c.audience.plain() {
         // Rounded down to two significant figures: the sheet never promises more.
         let nice = round_down_2(max);
-        let whose = match net.part(&who) {
-            Some(part) => format!("{who}, {} in {},", with_article(kind_noun(part.kind)), part_place(net, &who)),
-            None => driver_words(net, &who),
-        };
         let unrated: Vec<String> = p.unrated.iter().filter(|n| net.driver(n).is_some()).map(|n| driver_words(net, n)).collect();
         let caveat = match unrated.len() {
             0 => String::new(),
             1 => format!(" {} has no power rating on record and is not counted.", capitalise(&unrated[0])),
             _ => format!(" {} have no power rating on record and are not counted.", capitalise(&super::words::join_and(&unrated))),
         };
-        let sine = p.sine_max_w.map(round_down_2).filter(|s| *s < nice);
-        let cautious = match sine {
-            Some(s) => format!(
-                "An amplifier of up to {} W per channel into {into} ohm keeps every part and driver within its rating even at full volume on a steady tone. ",
-                trim_number(s, 3)
-            ),
-            None => String::new(),
-        };
+        // The buyer is given the cautious figure: a steady full-level tone within every
+        // rating. The figure for music alone rests on how the amplifier is used, and stays in
+        // the archive.
+        let sine = p.sine_max_w.map(round_down_2).unwrap_or(nice).min(nice);
         format!(
-            "Amplifier power: {cautious}On music played without clipping, an amplifier of up to {} W per channel stays within the ratings; above that, {whose} is the first to reach its limit. This assumes music at one eighth of the amplifier's full power on average, as the stress figures do; the ratings are for heat, and a driver's cone travel at low frequencies can set a lower limit, so the drivers' makers' ratings come first.{caveat}",
-            trim_number(nice, 3)
+            "An amplifier of up to {} W per channel into {into} ohm keeps every part and driver within its rating even at full volume on a steady tone, the hardest signal it can send. The ratings are for heat; a driver's cone travel at low frequencies can set a lower limit, so the drivers' makers' ratings come first, and an amplifier driven into clipping can damage the speaker at any power.{caveat}",
+            trim_number(sine, 3)
         )
     } else {
         format!(
-            "Largest amplifier power: {} W into {into} ohm on programme, where {who} reaches its limit ({limit}); {}; load as left: min |Z| {}, {}. Basis: {}.",
+            "{} W into {into} ohm on programme, where {who} reaches its limit ({limit}); {}; load as left: min |Z| {}, {}. Basis: {}.",
             trim_number(max, 3),
             match (p.sine_max_w, &p.sine_limited_by) {
                 (Some(s), Some(w)) => format!("with a full-level sine, {} W, where {w} reaches its rating", trim_number(s, 3)),

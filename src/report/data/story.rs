@@ -41,10 +41,12 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
     let (ld, lf, ll) = (&f.loads.as_designed, &f.loads.as_found, &f.loads.as_left);
     if lf.verdict == crate::analysis::Verdict::Over && ll.verdict != crate::analysis::Verdict::Over {
         out.push(format!(
-            "As it came in, the speaker presented only {} to the amplifier at {} (the original design: {}), close to a short circuit: the amplifier that drove it should be checked.",
+            "As it came in, the speaker presented only {} to the amplifier at {} (the original design never falls below {}), close to a short circuit{}",
             ohm(lf.min_ohm),
             hz(Some(lf.min_at_hz)),
-            ohm(ld.min_ohm)
+            ohm(ld.min_ohm),
+            // The previous owner's amplifier is not the buyer's to check.
+            if c.audience == super::Audience::Sale { ".".to_string() } else { ": the amplifier that drove it should be checked.".to_string() }
         ));
     }
     let flagged: Vec<&str> = f.health.iter().filter(|h| !h.ok).map(|h| h.part.as_str()).collect();
