@@ -24,6 +24,13 @@ impl Money {
         self.0.checked_mul(n as i64).map(Money)
     }
 
+    /// The labour at this hourly rate for `hours` (taken to the hundredth of an hour), exact,
+    /// rounded half up to the hundredth; None if it overflows.
+    pub fn for_hours(self, hours: f64) -> Option<Money> {
+        let centi_hours = (hours * 100.0).round() as i64;
+        self.0.checked_mul(centi_hours).and_then(|c| c.checked_add(50)).map(|c| Money(c.div_euclid(100)))
+    }
+
     pub fn plus(self, other: Money) -> Option<Money> {
         self.0.checked_add(other.0).map(Money)
     }
@@ -65,5 +72,16 @@ mod tests {
         }
         assert_eq!(total.to_string(), "1.00");
         assert_eq!(Money::parse("2.35").unwrap().times(3).unwrap().to_string(), "7.05");
+    }
+
+    #[test]
+    fn labour_is_rate_times_hours_to_the_cent_rounded_half_up() {
+        // By hand: 44.00 x 1.5 h = 66.00; 42.50 x 1.25 h = 53.125 -> 53.13 (half up);
+        // 33.33 x 0.1 h = 3.333 -> 3.33.
+        let rate = |t| Money::parse(t).unwrap();
+        assert_eq!(rate("44.00").for_hours(1.5).unwrap().to_string(), "66.00");
+        assert_eq!(rate("42.50").for_hours(1.25).unwrap().to_string(), "53.13");
+        assert_eq!(rate("33.33").for_hours(0.1).unwrap().to_string(), "3.33");
+        assert_eq!(Money(i64::MAX / 10).for_hours(200.0), None, "overflow is refused, not wrapped");
     }
 }

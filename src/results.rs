@@ -568,10 +568,10 @@ fn stress_text(s: &mut String, job: &Job, f: &Findings) {
         trim_number(job.amplifier.into_ohm, 3)
     );
     for r in f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft) {
-        let _ = writeln!(s, "  {:<8} {:<5} {}", r.part, r.verdict, r.reason);
+        let _ = writeln!(s, "  {:<8} {:<9} {}", r.part, r.shown_verdict(), r.reason);
     }
     for d in f.stress.drivers.iter().filter(|r| r.scenario == Scenario::AsLeft) {
-        let _ = writeln!(s, "  {:<8} {:<5} {}", d.driver, d.verdict, d.reason);
+        let _ = writeln!(s, "  {:<8} {:<9} {}", d.driver, d.shown_verdict(), d.reason);
     }
 }
 

@@ -134,6 +134,20 @@ pub const FAULT_FLAG: &str = "fault: driver shorted or disconnected";
 /// A flag for a level difference from the as-designed voicing. Just-noticeable broadband
 /// level change is about 0.4 dB (Ballou, Handbook for Sound Engineers, 3.8.6); the 0.5 dB
 /// "measurable" and 1 dB "likely audible" steps are common practice.
+/// The just-noticeable broadband level change (Ballou, as above): the plain reports call a
+/// difference below it too small to hear, and one from it to 0.5 dB at the edge of hearing.
+pub const NOTICEABLE_DB: f64 = 0.4;
+
+/// What a level difference means to a listener, in the plain reports' words.
+pub fn plain_meaning(db: f64) -> &'static str {
+    match level_flag(db) {
+        "within 0.5 dB" if db.abs() < NOTICEABLE_DB => "too small to hear",
+        "within 0.5 dB" => "at the edge of hearing",
+        "measurable" => "measurable, hard to hear",
+        _ => "likely to be heard",
+    }
+}
+
 pub fn level_flag(db: f64) -> &'static str {
     let a = db.abs();
     if a >= 1.0 {
@@ -278,4 +292,21 @@ pub fn acoustic_sum(scenes: &Scenes<Scene>, freqs: &[f64]) -> Option<Scenes<Vec<
         )
     };
     Some(Scenes { as_designed: one(&scenes.as_designed)?, as_found: one(&scenes.as_found)?, as_left: one(&scenes.as_left)? })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_plain_words_agree_with_the_noticeable_level_they_quote() {
+        // About 0.4 dB is the just-noticeable broadband level change (Ballou, Handbook for
+        // Sound Engineers, 3.8.6): a difference at or above it is never "too small to hear".
+        assert_eq!(plain_meaning(0.39), "too small to hear");
+        assert_eq!(plain_meaning(-0.39), "too small to hear");
+        assert_eq!(plain_meaning(0.43), "at the edge of hearing");
+        assert_eq!(plain_meaning(0.4), "at the edge of hearing");
+        assert_eq!(plain_meaning(0.7), "measurable, hard to hear");
+        assert_eq!(plain_meaning(-1.2), "likely to be heard");
+    }
 }

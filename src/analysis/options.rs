@@ -148,12 +148,7 @@ pub fn analyse(job: &Job) -> Result<Vec<OptionFindings>, AnalysisError> {
                 }
             };
             let labour = match (o.labour_hours, job.quote.labour_rate) {
-                // Hours to hundredths of an hour, then exact: rate x hours, rounded half up to
-                // the hundredth.
-                (Some(h), Some(rate)) => {
-                    let centi_hours = (h * 100.0).round() as i64;
-                    Some(Money((rate.0 * centi_hours + 50).div_euclid(100)))
-                }
+                (Some(h), Some(rate)) => rate.for_hours(h),
                 _ => None,
             };
             let parts_total = priced_total(&parts);

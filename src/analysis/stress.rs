@@ -49,6 +49,29 @@ pub struct StressRow {
     pub bench_only: bool,
 }
 
+impl StressRow {
+    /// The verdict as a table prints it: "not rated" for an inductor with no current rating on
+    /// record (nothing to judge it against), whatever its current.
+    pub fn shown_verdict(&self) -> &'static str {
+        if self.kind == PartKind::Inductor && self.rating_a.is_none() {
+            "not rated"
+        } else {
+            self.verdict.name()
+        }
+    }
+}
+
+impl DriverPower {
+    /// The verdict as a table prints it: "not rated" without a power rating on record.
+    pub fn shown_verdict(&self) -> &'static str {
+        if self.rated_w.is_none() {
+            "not rated"
+        } else {
+            self.verdict.name()
+        }
+    }
+}
+
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct DriverPower {
     pub scenario: Scenario,
@@ -126,7 +149,7 @@ fn driver_power(s: &Scene, d: &Driver, x: &Figures) -> DriverPower {
             (Verdict::Check, format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", hz(Some(sine.1)), w(sine.0), w(r)))
         }
         Some(r) => (Verdict::Ok, format!("{} W of programme against {} {} W rating", w(prog), a_or_an(r), w(r))),
-        None => (Verdict::Ok, "no power rating on record for this driver".to_string()),
+        None => (Verdict::Ok, format!("no power rating on record for this driver, so not judged: takes {} W of programme", w(prog))),
     };
     let bench_only = verdict == Verdict::Check;
     DriverPower { scenario: s.scenario, driver: d.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason, bench_only }
@@ -207,7 +230,26 @@ fn inductor(row: &mut StressRow, part: &Part, x: &Figures) {
     (row.verdict, row.reason) = match rating {
         Some(r) if irms.0 > r => (Verdict::Over, format!("carries {} A near {}, above its {} A rating", w(irms.0), hz(Some(irms.1)), w(r))),
         Some(r) if irms.0 > CAPACITOR_MARGIN * r => (Verdict::Check, format!("carries {} A, above 80 % of its {} A rating", w(irms.0), w(r))),
-        _ => (Verdict::Ok, format!("carries up to {} A near {}; {} W in its DCR on programme", w(irms.0), hz(Some(irms.1)), trim_number(x.programme, 2))),
+        Some(_) => (
+            Verdict::Ok,
+            format!(
+                "carries up to {} A near {} against its {} A rating; {} W in its DCR on programme",
+                w(irms.0),
+                hz(Some(irms.1)),
+                w(rating.unwrap_or(0.0)),
+                trim_number(x.programme, 2)
+            ),
+        ),
+        // Nothing to judge the current against: said so, never passed as "ok".
+        None => (
+            Verdict::Ok,
+            format!(
+                "no current rating on record, so not judged: carries up to {} A near {}; {} W in its DCR on programme",
+                w(irms.0),
+                hz(Some(irms.1)),
+                trim_number(x.programme, 2)
+            ),
+        ),
     };
 }
 

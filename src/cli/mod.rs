@@ -270,6 +270,13 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
 }
 
 fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Result<(), u8> {
+    // A quotation offers work: choices (`options`) or one proposal (`changes`).
+    let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
+    if *template == Template::Quote && !proposes {
+        eprintln!("{}: a quotation offers work, and this job lists neither `options` nor `changes`", path.display());
+        eprintln!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template (customer, archive, sale)");
+        return Err(PROBLEMS);
+    }
     let f = analyse(path, job)?;
     let pdf = report::render_outcome(job, &f, template).map_err(|e| {
         eprintln!("{}: {e}", path.display());
@@ -331,7 +338,7 @@ fn text_width() -> usize {
 /// invented shop and customer.
 const STARTER_JOB: &str = "job:
   number: JOB-0001                  # your job number
-  date: 2026-01-31                  # the report's date (never the clock): today's, as YYYY-MM-DD
+  date: 2026-10-14                  # the report's date (never the clock): today's, as YYYY-MM-DD
   work: what was done, in a line
   technician: your name
   shop: { name: your shop's name, address: \"street, town\", contact: phone or e-mail }

@@ -135,6 +135,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
     let mut info = raw.info.unwrap_or_default();
     let mut quote = raw.quote;
     let mut service = raw.service;
+    let mut logo = raw.shop_logo;
     if let Some(r) = &raw.shop_settings {
         if let Some((file, text)) = ctx.read_file(r) {
             if let Some(s) = super::service::settings(&text, &file, r.pos, &r.field, ctx) {
@@ -153,9 +154,13 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
                     quote.labour_rate = s.labour_rate;
                 }
                 quote.currency = s.currency;
+                if logo.is_none() {
+                    logo = s.logo.map(|name| TableRef { name, pos: r.pos, field: format!("{} (logo)", r.field) });
+                }
             }
         }
     }
+    info.shop_logo = logo.and_then(|r| super::service::image_file(&r, "logo", ctx));
     Some(Job {
         info,
         amplifier: raw.amplifier?,

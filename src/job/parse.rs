@@ -30,7 +30,8 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
         Some(_) => {}
     }
     let mut shop_settings = None;
-    let info = top.get("job").and_then(|n| info(n, &mut shop_settings, ctx));
+    let mut shop_logo = None;
+    let info = top.get("job").and_then(|n| info(n, &mut shop_settings, &mut shop_logo, ctx));
     if top.get("job").is_none() {
         ctx.error(top.pos, "job", "missing `job` (number, date, technician, shop, customer, speaker)", Some("`voicekeep new` prints a starter job".into()));
     }
@@ -48,7 +49,7 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     let prices = top.get("prices").and_then(|n| prices(n, ctx));
     let option_names: Vec<String> = options.iter().map(|o| o.name.clone()).collect();
     let (template, blocks) = top.get("report").map(|n| report(n, &option_names, ctx)).unwrap_or((RawTemplate::Customer, None));
-    let service = top.get("service").map(|n| super::service::service(n, ctx)).unwrap_or_default();
+    let service = top.get("service").map(|n| super::service::service(n, info.as_ref().map(|i| i.date), ctx)).unwrap_or_default();
     let terminals = top.get("terminals").map(|n| super::terminals::terminals(n, "terminals", ctx)).unwrap_or_default();
     if let (Some(n), true) = (top.get("terminals"), top.get("cabinets").is_some()) {
         if !terminals.is_empty() {
@@ -79,6 +80,7 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
         service,
         terminals,
         shop_settings,
+        shop_logo,
     })
 }
 
@@ -263,7 +265,7 @@ fn compensate(node: &Node, field: &str, ctx: &mut Ctx) -> Vec<RawCompensate> {
     out
 }
 
-fn info(node: &Node, settings: &mut Option<TableRef>, ctx: &mut Ctx) -> Option<JobInfo> {
+fn info(node: &Node, settings: &mut Option<TableRef>, logo: &mut Option<TableRef>, ctx: &mut Ctx) -> Option<JobInfo> {
     let f = ctx.fields(node, "job", &["number", "date", "work", "technician", "shop", "customer", "speaker", "notes"])?;
     let mut info = JobInfo { rated_range: (20.0, 20_000.0), ..Default::default() };
     if let Some(n) = ctx.req(&f, "number", "the shop's job number") {
@@ -287,11 +289,12 @@ fn info(node: &Node, settings: &mut Option<TableRef>, ctx: &mut Ctx) -> Option<J
     info.technician = ctx.opt_text(&f, "technician").unwrap_or_default();
     info.notes = ctx.opt_text(&f, "notes").unwrap_or_default();
     if let Some(n) = f.get("shop") {
-        if let Some(s) = ctx.fields(n, "job.shop", &["name", "address", "contact", "settings"]) {
+        if let Some(s) = ctx.fields(n, "job.shop", &["name", "address", "contact", "settings", "logo"]) {
             *settings = s.get("settings").and_then(|n| fields::table_ref(n, "job.shop.settings", ctx));
             info.shop_name = ctx.opt_text(&s, "name").unwrap_or_default();
             info.shop_address = ctx.opt_text(&s, "address").unwrap_or_default();
             info.shop_contact = ctx.opt_text(&s, "contact").unwrap_or_default();
+            *logo = s.get("logo").and_then(|n| fields::table_ref(n, "job.shop.logo", ctx));
         }
     }
     if let Some(n) = f.get("customer") {

@@ -143,4 +143,6 @@ pub struct RawJob<'n> {
     pub terminals: crate::model::terminals::Terminals,
     /// The shop settings file `job.shop.settings` names.
     pub shop_settings: Option<TableRef>,
+    /// The logo `job.shop.logo` names (the settings file's `logo` when the job names none).
+    pub shop_logo: Option<TableRef>,
 }

@@ -3,6 +3,7 @@
 //! file a job may name in `job.shop.settings`.
 
 use crate::diag::suggest;
+use crate::job::raw::TableRef;
 use crate::job::reader::{map_entries, Ctx};
 use crate::job::yaml::Node;
 use crate::model::service::{InspectionItem, InspectionResult, Photo, Service, ShopSettings, Taken, DEFAULT_INSPECTION, MAX_PHOTO_BYTES};
@@ -20,7 +21,8 @@ fn date(ctx: &mut Ctx, node: &Node, path: &str) -> Option<Date> {
     d
 }
 
-pub(crate) fn service(node: &Node, ctx: &mut Ctx) -> Service {
+/// The service section; `report_date` is the job's `date`, which a record cannot precede.
+pub(crate) fn service(node: &Node, report_date: Option<Date>, ctx: &mut Ctx) -> Service {
     let Some(f) = ctx.fields(node, "service", SERVICE_KEYS) else { return Service::default() };
     let mut s = Service {
         given: true,
@@ -40,6 +42,21 @@ pub(crate) fn service(node: &Node, ctx: &mut Ctx) -> Service {
                 format!("the speaker went back ({b}) before it came in ({a})"),
                 Some("`received` is the day it came in, `returned` the day it left".into()),
             );
+        }
+    }
+    // A signed record cannot speak of a day after its own date.
+    let day = |d: Date| (d.year, d.month, d.day);
+    for (key, d) in [("received", s.received), ("returned", s.returned)] {
+        if let (Some(d), Some(r), Some(n)) = (d, report_date, f.get(key)) {
+            if day(d) > day(r) && r != Date::default() {
+                let when = if key == "received" { "came in" } else { "went back" };
+                ctx.error(
+                    n.pos(),
+                    &f.at(key),
+                    format!("the report is dated {r}, before the speaker {when} ({d})"),
+                    Some(format!("date the report (`job.date`) on or after the day the speaker {when}, or leave `{key}` out until then")),
+                );
+            }
         }
     }
     if let Some(n) = f.get("labour_hours") {
@@ -82,24 +99,31 @@ fn photos(node: &Node, path: &str, ctx: &mut Ctx) -> Vec<Photo> {
             None => Some(false),
         };
         let (Some(file), Some(caption), Some(taken), Some(customer)) = (file, caption, taken, customer) else { continue };
-        let Some(bytes) = ctx.read_bytes(&file, "photograph") else { continue };
-        let image = bytes.starts_with(&[0xFF, 0xD8, 0xFF]) || bytes.starts_with(&[0x89, b'P', b'N', b'G', 0x0D, 0x0A, 0x1A, 0x0A]);
-        if !image {
-            ctx.error(file.pos, &file.field, format!("\"{}\" is not a JPEG or PNG image", file.name), Some("save the photograph as JPEG (.jpg) or PNG (.png)".into()));
-            continue;
-        }
-        if bytes.len() > MAX_PHOTO_BYTES {
-            ctx.error(
-                file.pos,
-                &file.field,
-                format!("\"{}\" is {} MB, above the {} MB a photograph may be", file.name, bytes.len() / (1024 * 1024), MAX_PHOTO_BYTES / (1024 * 1024)),
-                Some("save a smaller copy for the record".into()),
-            );
-            continue;
-        }
-        out.push(Photo { file: file.name, caption, taken, customer });
+        let Some(file) = image_file(&file, "photograph", ctx) else { continue };
+        out.push(Photo { file, caption, taken, customer });
     }
     out
+}
+
+/// Reads an image the job names (a photograph, the shop's logo) and checks it is a JPEG or
+/// PNG of a size a report can carry; its name, or None with a located error.
+pub(crate) fn image_file(file: &TableRef, what: &str, ctx: &mut Ctx) -> Option<String> {
+    let bytes = ctx.read_bytes(file, what)?;
+    let image = bytes.starts_with(&[0xFF, 0xD8, 0xFF]) || bytes.starts_with(&[0x89, b'P', b'N', b'G', 0x0D, 0x0A, 0x1A, 0x0A]);
+    if !image {
+        ctx.error(file.pos, &file.field, format!("\"{}\" is not a JPEG or PNG image", file.name), Some(format!("save the {what} as JPEG (.jpg) or PNG (.png)")));
+        return None;
+    }
+    if bytes.len() > MAX_PHOTO_BYTES {
+        ctx.error(
+            file.pos,
+            &file.field,
+            format!("\"{}\" is {} MB, above the {} MB an image may be", file.name, bytes.len() / (1024 * 1024), MAX_PHOTO_BYTES / (1024 * 1024)),
+            Some("save a smaller copy for the record".into()),
+        );
+        return None;
+    }
+    Some(file.name.clone())
 }
 
 /// The checklist: every default item, in its order, with what the job says of it ("not
@@ -163,7 +187,7 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
     // own place in the message.
     let mut inner = Ctx::new(ctx.files);
     let s = (|| {
-        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency"])?;
+        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency", "logo"])?;
         let labour_rate = f.get("labour_rate").and_then(|n| {
             let t = inner.text(n, "labour_rate")?;
             let m = crate::money::Money::parse(&t);
@@ -179,6 +203,7 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
             warranty: inner.opt_text(&f, "warranty"),
             labour_rate,
             currency: inner.opt_text(&f, "currency"),
+            logo: inner.opt_text(&f, "logo"),
         })
     })();
     let ok = inner.diags.is_empty();

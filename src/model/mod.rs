@@ -455,6 +455,8 @@ pub struct JobInfo {
     pub shop_name: String,
     pub shop_address: String,
     pub shop_contact: String,
+    /// The shop's logo (a JPEG or PNG file the job read), shown at the head of each report.
+    pub shop_logo: Option<String>,
     pub customer_name: String,
     pub customer_reference: String,
     pub speaker_description: String,

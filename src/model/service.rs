@@ -113,4 +113,6 @@ pub struct ShopSettings {
     pub warranty: Option<String>,
     pub labour_rate: Option<crate::money::Money>,
     pub currency: Option<String>,
+    /// The shop's logo, an image file beside the jobs, as written.
+    pub logo: Option<String>,
 }

@@ -258,3 +258,40 @@ fn an_option_with_a_new_caution_yields_to_one_whose_every_verdict_is_ok() {
     assert!(!j["options"]["like-for-like"]["over"].as_array().unwrap().is_empty());
     assert_eq!(j["recommended"]["option"], "film-matched");
 }
+
+fn quote_text(sample: &str) -> String {
+    let o = Cli::new().args(["report", sample, "--template", "quote", "-o", "{dir}/q.pdf"]).run();
+    o.code(0);
+    let out = std::process::Command::new("pdftotext").arg(o.dir.join("q.pdf")).arg("-").output().unwrap();
+    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+#[test]
+fn a_quote_of_one_proposal_offers_the_work_in_the_future_and_asks_for_acceptance() {
+    // The two-way sample has `changes` and no options: the quotation offers those changes.
+    let text = quote_text("samples/two-way-recap.yaml");
+    for want in ["Work proposed", "Replace C1, a capacitor in the tweeter's filter", "Fit R9", "After the proposed work", "Parts to buy", "accepted as quoted"] {
+        assert!(text.contains(want), "{want}: {text}");
+    }
+    // Nothing is said to have been done, no option is asked for, no price is claimed.
+    for wrong in ["Work done", "Replaced C1", "Fitted R9", "Option chosen", "Prices are for"] {
+        assert!(!text.contains(wrong), "{wrong}: {text}");
+    }
+    // With options, the customer writes the one chosen and prices are stated.
+    let text = quote_text(SAMPLE);
+    assert!(text.contains("Option chosen") && text.contains("Prices are for the parts and labour listed"), "{text}");
+}
+
+#[test]
+fn a_quote_of_a_job_that_proposes_nothing_is_refused_with_a_hint_and_writes_no_file() {
+    let text = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    // Its changes and the compensation they ask for, cut out.
+    let (start, end) = (text.find("\nchanges:").unwrap(), text.find("\nanalysis:").unwrap());
+    let bare = format!("{}{}", &text[..start], &text[end..]);
+    assert!(!bare.contains("\nchanges:") && !bare.contains("\noptions:"));
+    let o = Cli::new().job(&bare).args(["report", "{job}", "--template", "quote", "-o", "{dir}/q.pdf"]).run();
+    o.code(1).stderr_has("a quotation offers work, and this job lists neither `options` nor `changes`").stderr_has("hint: list the customer's choices under `options`");
+    assert!(!o.dir.join("q.pdf").exists(), "no file is written");
+    // The same job still makes its customer report.
+    Cli::new().job(&bare).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run().code(0);
+}

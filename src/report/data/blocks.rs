@@ -16,7 +16,12 @@ pub(super) fn header(c: &Ctx) -> JobHeader {
         number: info.number.clone(),
         work: info.work.clone(),
         technician: info.technician.clone(),
-        shop: Shop { name: info.shop_name.clone(), address: info.shop_address.clone(), contact: info.shop_contact.clone() },
+        shop: Shop {
+            name: info.shop_name.clone(),
+            address: info.shop_address.clone(),
+            contact: info.shop_contact.clone(),
+            logo: info.shop_logo.as_ref().and_then(|l| c.job.inputs.iter().position(|f| &f.name == l)).map(|i| format!("/inputs/{i}")),
+        },
         customer: if sale || (info.customer_name.is_empty() && info.customer_reference.is_empty()) {
             None
         } else {
@@ -79,15 +84,8 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
             .levels
             .iter()
             .map(|l| {
-                let meaning = if l.as_left_fault {
-                    "a fault: driver shorted or disconnected".to_string()
-                } else {
-                    match crate::analysis::level_flag(l.passband_worst_db) {
-                        "within 0.5 dB" => "too small to hear".into(),
-                        "measurable" => "measurable, hard to hear".into(),
-                        other => other.into(),
-                    }
-                };
+                let meaning =
+                    if l.as_left_fault { "a fault: driver shorted or disconnected".to_string() } else { crate::analysis::levels::plain_meaning(l.passband_worst_db).to_string() };
                 let before = if l.as_found_fault { "silent: a fault".to_string() } else { db(l.as_found_db) };
                 Row(vec![
                     driver_words(net, &l.driver),
@@ -365,7 +363,7 @@ pub(super) fn stress_row(r: &StressRow) -> Row {
         format!("{} W", trim_number(r.programme_w, 3)),
         figure,
         rating,
-        r.verdict.name().into(),
+        r.shown_verdict().into(),
         r.reason.clone(),
     ])
 }
@@ -384,7 +382,7 @@ pub(super) fn stress(c: &Ctx) -> StressData {
                 format!("{} W", trim_number(d.programme_w, 3)),
                 format!("{} W near {}", trim_number(d.sine_w, 3), hz(Some(d.sine_at_hz))),
                 d.rated_w.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
-                d.verdict.name().into(),
+                d.shown_verdict().into(),
                 d.reason.clone(),
             ])
         })

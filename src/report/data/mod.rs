@@ -107,6 +107,8 @@ pub struct Shop {
     pub name: String,
     pub address: String,
     pub contact: String,
+    /// The logo's place among the report's files (`/inputs/N`), when the shop has one.
+    pub logo: Option<String>,
 }
 
 #[derive(Debug, Serialize)]
@@ -385,6 +387,21 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
     if job.changes.is_empty() && !job.options.is_empty() {
         for h in &mut data.levels.table.header {
             *h = h.replace("After the work", "Now, before any work").replace("Before the work", "From the readings");
+        }
+    }
+    // A quotation of one proposal (`changes`, no options): the work is offered, not done.
+    if *template == Template::Quote && job.options.is_empty() {
+        for w in &mut data.work {
+            for (done, offered) in [("Replaced ", "Replace "), ("Fitted ", "Fit "), ("Removed ", "Remove ")] {
+                if let Some(rest) = w.strip_prefix(done) {
+                    *w = format!("{offered}{rest}");
+                }
+            }
+        }
+        for s in &mut data.summary {
+            if let Some(rest) = s.strip_prefix("After the work, ") {
+                *s = format!("After the proposed work, {rest}");
+            }
         }
     }
     trade_units(&mut data);

@@ -48,11 +48,10 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
             row(if c.audience.plain() { "What we found" } else { "Finding" }, t.clone());
         }
         if let Some(h) = s.labour_hours {
-            let cost = c.job.quote.labour_rate.map(|rate| {
-                let centi_hours = (h * 100.0).round() as i64;
-                let m = crate::money::Money((rate.0 * centi_hours + 50).div_euclid(100));
+            let cost = c.job.quote.labour_rate.and_then(|rate| {
+                let m = rate.for_hours(h)?;
                 let currency = c.job.prices.as_ref().map(|p| p.currency.clone()).or_else(|| c.job.quote.currency.clone()).map(|c| format!(" {c}")).unwrap_or_default();
-                format!(" at {rate}{currency} an hour: {m}{currency}")
+                Some(format!(" at {rate}{currency} an hour: {m}{currency}"))
             });
             row("Labour", format!("{} h{}", trim_number(h, 3), cost.unwrap_or_default()));
         }
