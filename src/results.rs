@@ -86,6 +86,11 @@ pub fn json(job: &Job, f: &Findings) -> Value {
         }
         out["confirmation"] = Value::Object(m);
     }
+    match &f.diagnosis {
+        Some(Ok(d)) => out["diagnosis"] = to_value(d),
+        Some(Err(e)) => out["diagnosis"] = json!({ "error": e }),
+        None => {}
+    }
     parts_json(&mut out, &f.parts);
     options_json(&mut out, &f.options, &f.recommended, &f.chosen);
     if !f.substitutes.is_empty() {
@@ -371,7 +376,45 @@ pub fn text(job: &Job, f: &Findings) -> String {
         );
         let _ = writeln!(s, "  {}: {}", c.verdict, c.reason);
     }
+    if let Some(d) = &f.diagnosis {
+        let _ = writeln!(s);
+        diagnosis_text(&mut s, &f.scenes.as_found.network, d);
+    }
     s
+}
+
+/// The estimates from the as-found sweep, one line each, and the finding.
+pub fn diagnosis_text(s: &mut String, net: &crate::model::Network, d: &Result<crate::analysis::diagnose::Diagnosis, String>) {
+    use crate::analysis::diagnose::{field_words, value_text};
+    let d = match d {
+        Ok(d) => d,
+        Err(e) => {
+            let _ = writeln!(s, "DIAGNOSIS: not made: {e}");
+            return;
+        }
+    };
+    let _ = writeln!(
+        s,
+        "DIAGNOSIS from {} ({} points, {} to {}); residual {:.2} (|Z| {:.2} % RMS, phase {:.2} deg RMS)",
+        d.file,
+        d.points,
+        hz(Some(d.from_hz)),
+        hz(Some(d.to_hz)),
+        d.residual,
+        d.residual_z_pct,
+        d.residual_phase_deg
+    );
+    for e in &d.estimates {
+        let v = |x: f64| value_text(net, &e.part, &e.field, x);
+        let what = format!("{} {}", e.part, field_words(&e.field));
+        if e.identifiable {
+            let _ = writeln!(s, "  {what:<12} {:>12}  95 % {} to {}  (on record {})", v(e.value), v(e.low), v(e.high), v(e.start));
+        } else {
+            let _ = writeln!(s, "  {what:<12} {:>12}  {}", v(e.value), e.reason);
+        }
+    }
+    let _ = writeln!(s, "  {}", d.sentence);
+    let _ = writeln!(s, "  Estimates are never used as bench readings; to use one, write it under `measured` with a note of where it came from.");
 }
 
 /// Each option's outcome side by side, and the recommendation; in a pair or set, each
@@ -591,4 +634,34 @@ fn health_text(s: &mut String, _job: &Job, f: &Findings) {
             let _ = writeln!(s, "  {:<8} as left: 5-95 % band {:+.2} to {:+.2} dB", l.driver, l.p5_db, l.p95_db);
         }
     }
+}
+
+/// A driver's fitted model: each parameter with its interval, Qts, the three-point figures
+/// for comparison, and the `model` block to paste into a job.
+pub fn driver_fit_text(fit: &crate::analysis::diagnose::DriverFit) -> String {
+    use crate::analysis::diagnose::field_words;
+    let mut s = String::new();
+    let _ = writeln!(s, "DRIVER FIT (Small's model) from {} ({} points); residual {:.2} (1 = a 1 % / 1 degree rig's noise)", fit.file, fit.points, fit.residual);
+    for e in &fit.estimates {
+        use crate::units::{format_si, Quantity};
+        let t = |v: f64| match e.field.as_str() {
+            "re" => format_si(v, Quantity::Resistance, 4),
+            "le" => format_si(v, Quantity::Inductance, 4),
+            "fs" => format_si(v, Quantity::Frequency, 4),
+            _ => trim_number(v, 4),
+        };
+        let what = field_words(&e.field);
+        if e.identifiable {
+            let _ = writeln!(s, "  {what:<4} {}  (95 % {} to {})", t(e.value), t(e.low), t(e.high));
+        } else {
+            let _ = writeln!(s, "  {what:<4} {}  {}", t(e.value), e.reason);
+        }
+    }
+    let _ = writeln!(s, "  Qts  {}", trim_number(fit.qts, 4));
+    if let Some(tp) = &fit.three_point {
+        let _ = writeln!(s, "  three-point method on the same sweep (Re from the fit): fs {} Hz, Qms {}, Qes {}", trim_number(tp.fs, 4), trim_number(tp.qms, 4), trim_number(tp.qes, 4));
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "{}", fit.model_yaml);
+    s
 }

@@ -6,6 +6,7 @@
 pub mod bom;
 pub mod compensate;
 pub mod confirm;
+pub mod diagnose;
 pub mod eseries;
 pub mod health;
 pub mod levels;
@@ -144,6 +145,9 @@ pub struct Findings {
     pub power: power::PowerRange,
     /// The prediction against the sweeps measured at the terminals, as found and as left.
     pub confirmation: Vec<confirm::Confirmation>,
+    /// The estimates from the as-found sweep, when the job asks for them (or why there are
+    /// none).
+    pub diagnosis: Option<Result<diagnose::Diagnosis, String>>,
 }
 
 #[derive(Debug)]
@@ -325,6 +329,7 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
         chosen: None,
         power: power::PowerRange::default(),
         confirmation: Vec::new(),
+        diagnosis: None,
     };
     let range = (findings.freqs[0], findings.freqs[findings.freqs.len() - 1]);
     for (scenario, sweep, net) in
@@ -333,6 +338,11 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
         if let Some(c) = sweep.as_ref().and_then(|s| confirm::confirm(scenario, net, amp, s, range, job.terminals.limits)) {
             findings.confirmation.push(c);
         }
+    }
+    if let (Some(sweep), true) = (&job.terminals.as_found, job.terminals.diagnose_all || !job.terminals.diagnose.is_empty()) {
+        let net = &findings.scenes.as_found.network;
+        let params = diagnose::params_of(net, &job.terminals);
+        findings.diagnosis = Some(diagnose::diagnose(net, amp, sweep, &params, range));
     }
     findings.power = power::power_range(amp, &findings);
     findings.substitutes = substitute::check(job, &findings);

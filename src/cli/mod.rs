@@ -72,6 +72,25 @@ enum Command {
         #[arg(long, value_enum, default_value_t = PlotFormat::Svg)]
         format: PlotFormat,
     },
+    /// Estimate drifted parts from the sweep at the terminals as found (terminals.as_found)
+    Diagnose {
+        /// The job file (YAML)
+        job: PathBuf,
+        /// text for people, json for other programs
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+    },
+    /// Fit Small's model to a driver's own impedance sweep and print the job's `model` block
+    Characterise {
+        /// The driver's sweep: frequency Hz, |Z| ohm, phase deg (free air, out of the box)
+        sweep: PathBuf,
+        /// Fit Leach's lossy coil (K and n) in place of a simple Le
+        #[arg(long)]
+        leach: bool,
+        /// text for people, json for other programs
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
+    },
     /// Print a commented starter job that passes `check`
     New {
         /// two-way (a re-cap with a tweeter resistor) or repair (parts replaced like for like)
@@ -122,6 +141,8 @@ where
         Command::Report { job, output, template } => report_cmd(&job, output, template),
         Command::Plot { job, out, format } => plot(&job, &out, format),
         Command::New { example } => new(&example),
+        Command::Diagnose { job, format } => diagnose(&job, format),
+        Command::Characterise { sweep, leach, format } => characterise(&sweep, leach, format),
         Command::Batch { dir, out } => batch(&dir, &out),
     })
 }
@@ -228,6 +249,93 @@ fn solve(path: &Path, format: Format) -> u8 {
                 FAILURE
             }
         },
+    }
+}
+
+fn print_json(v: &serde_json::Value) -> u8 {
+    match serde_json::to_string_pretty(v) {
+        Ok(s) => out(&(s + "\n")),
+        Err(e) => {
+            eprintln!("voicekeep: internal error writing JSON: {e}; please report this");
+            FAILURE
+        }
+    }
+}
+
+/// The diagnosis alone: what the job's `terminals.diagnose` names, or every parameter.
+fn diagnose(path: &Path, format: Format) -> u8 {
+    let mut job = match load(path) {
+        Ok(j) => j,
+        Err(c) => return c,
+    };
+    let sweeps = std::iter::once(&mut job.terminals).chain(job.cabinets.iter_mut().map(|c| &mut c.terminals));
+    let mut any = false;
+    for t in sweeps {
+        any |= t.as_found.is_some();
+        if t.diagnose.is_empty() {
+            t.diagnose_all = true;
+        }
+    }
+    if !any {
+        eprintln!("{}: there is no sweep as found to diagnose from", path.display());
+        eprintln!("  hint: sweep the speaker at its terminals before opening it and name the file in `terminals.as_found` (a pair's under `cabinets.NAME.terminals`)");
+        return PROBLEMS;
+    }
+    let o = match analyse(path, &job) {
+        Ok(o) => o,
+        Err(c) => return c,
+    };
+    let each: Vec<(Option<&str>, &analysis::Findings)> = match &o {
+        analysis::Outcome::One(f) => vec![(None, f.as_ref())],
+        analysis::Outcome::Set(s) => s.cabinets.iter().map(|c| (Some(c.name.as_str()), &c.findings)).collect(),
+    };
+    match format {
+        Format::Json => {
+            let mut m = serde_json::Map::new();
+            for (name, f) in &each {
+                let v = match &f.diagnosis {
+                    Some(Ok(d)) => serde_json::to_value(d).unwrap_or_default(),
+                    Some(Err(e)) => serde_json::json!({ "error": e }),
+                    None => continue,
+                };
+                m.insert(name.unwrap_or("diagnosis").to_string(), v);
+            }
+            let v = if job.cabinets.is_empty() { serde_json::json!({ "diagnosis": m.remove("diagnosis") }) } else { serde_json::json!({ "cabinets": m }) };
+            print_json(&v)
+        }
+        Format::Text => {
+            let mut s = String::new();
+            for (name, f) in &each {
+                let Some(d) = &f.diagnosis else { continue };
+                if let Some(n) = name {
+                    let _ = std::fmt::Write::write_fmt(&mut s, format_args!("Cabinet {n}\n"));
+                }
+                results::diagnosis_text(&mut s, &f.scenes.as_found.network, d);
+            }
+            out(&results::wrap(&s, text_width()))
+        }
+    }
+}
+
+/// Small's model from a driver's own sweep, with the three-point figures beside it.
+fn characterise(path: &Path, leach: bool, format: Format) -> u8 {
+    let sweep = match job::read_impedance_table(path) {
+        Ok(t) => t,
+        Err(e) => {
+            eprintln!("{e}");
+            return PROBLEMS;
+        }
+    };
+    let fit = match analysis::diagnose::characterise(&sweep, leach) {
+        Ok(f) => f,
+        Err(e) => {
+            eprintln!("{}: {e}", path.display());
+            return PROBLEMS;
+        }
+    };
+    match format {
+        Format::Json => print_json(&serde_json::json!({ "driver_fit": fit })),
+        Format::Text => out(&results::driver_fit_text(&fit)),
     }
 }
 

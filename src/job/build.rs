@@ -128,6 +128,12 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
                     );
                 }
             }
+            // What a diagnosis estimates must be in the network, with a value to estimate.
+            for (name, pos, field) in &t.diagnose {
+                if let Err((message, hint)) = crate::analysis::diagnose::params_named(&network, name) {
+                    ctx.error(*pos, field, message, Some(hint));
+                }
+            }
         }
     }
     // The shop's settings file fills what the job leaves out: its name, address and contact,

@@ -96,3 +96,18 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
         None => Err(problems(vec![Diagnostic::new(Pos::START, "", "internal error: the job was refused without a reason; please report this")], text)),
     }
 }
+
+/// Reads an impedance table (frequency Hz, |Z| ohm, phase deg) on its own, as a job's tables
+/// are read: for fitting a driver from its sweep. Problems come back as located messages.
+pub fn read_impedance_table(path: &Path) -> Result<crate::model::ImpedanceTable, String> {
+    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    let files = DiskFiles::new(dir);
+    let mut ctx = reader::Ctx::new(&files);
+    let r = raw::TableRef { name, pos: Pos::START, field: "sweep".into() };
+    let t = ctx.impedance_table(&r);
+    match t {
+        Some(t) if ctx.diags.is_empty() => Ok(t),
+        _ => Err(ctx.diags.iter().map(|d| format!("{}: {}{}", path.display(), d.message, d.hint.as_ref().map(|h| format!("\n  hint: {h}")).unwrap_or_default())).collect::<Vec<_>>().join("\n")),
+    }
+}

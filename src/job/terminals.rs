@@ -7,7 +7,7 @@ use crate::job::yaml::Node;
 use crate::model::terminals::{TerminalLimits, Terminals};
 
 pub(crate) fn terminals(node: &Node, path: &str, ctx: &mut Ctx) -> Terminals {
-    let Some(f) = ctx.fields(node, path, &["as_found", "as_left", "limits"]) else { return Terminals::default() };
+    let Some(f) = ctx.fields(node, path, &["as_found", "as_left", "limits", "diagnose"]) else { return Terminals::default() };
     let mut t = Terminals::default();
     for key in ["as_found", "as_left"] {
         let Some(n) = f.get(key) else { continue };
@@ -18,6 +18,27 @@ pub(crate) fn terminals(node: &Node, path: &str, ctx: &mut Ctx) -> Terminals {
         match key {
             "as_found" => t.as_found = table,
             _ => t.as_left = table,
+        }
+    }
+    if let Some(n) = f.get("diagnose") {
+        let field = f.at("diagnose");
+        match n {
+            Node::Seq { items, .. } => {
+                for (i, item) in items.iter().enumerate() {
+                    let at = format!("{field}[{}]", i + 1);
+                    if let Some(name) = ctx.text(item, &at) {
+                        t.diagnose.push((name, item.pos(), at));
+                    }
+                }
+            }
+            _ => match ctx.text(n, &field).as_deref() {
+                Some("all") => t.diagnose_all = true,
+                Some(other) => ctx.error(n.pos(), &field, format!("expected `all` or a list, found \"{other}\""), Some("write `diagnose: [C1, L1.dcr, LF.re]` or `diagnose: all`".into())),
+                None => {}
+            },
+        }
+        if t.as_found.is_none() && f.get("as_found").is_none() {
+            ctx.error(n.pos(), &field, "a diagnosis needs the sweep as found", Some("name it in `as_found`: the speaker swept at its terminals before the work".into()));
         }
     }
     if let Some(n) = f.get("limits") {

@@ -26,6 +26,10 @@ pub struct Terminals {
     pub limits: TerminalLimits,
     /// Where each sweep is named, and its field, for messages.
     pub places: Vec<(crate::diag::Pos, String)>,
+    /// What to estimate from the as-found sweep: `C1` (its value and loss) or `C1.esr`, each
+    /// with where it is written; empty with `diagnose_all`.
+    pub diagnose: Vec<(String, crate::diag::Pos, String)>,
+    pub diagnose_all: bool,
 }
 
 impl Terminals {

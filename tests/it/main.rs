@@ -5,6 +5,7 @@ mod analytic;
 mod bad;
 mod commands;
 mod fixtures;
+mod diagnose;
 mod golden;
 mod nodal;
 mod options;

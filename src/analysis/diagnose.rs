@@ -1,0 +1,613 @@
+//! Diagnosis from a sweep at the terminals: the values of suspect parts and driver parameters
+//! estimated by nonlinear least squares on log |Z| and phase (Levenberg-Marquardt, MINPACK's,
+//! from the levenberg-marquardt crate, over the logarithms of the parameters so they stay
+//! positive), each with an approximate 95 % interval from the Jacobian at the solution (the
+//! covariance (J'J)^-1 scaled by the residual variance) and a judgement of whether the sweep
+//! can tell it at all. Also Small's model fitted to a driver's own impedance sweep.
+
+use levenberg_marquardt::{LeastSquaresProblem, LevenbergMarquardt};
+use nalgebra::{DMatrix, DVector, Dyn, VecStorage, U1};
+
+use crate::analysis::input_impedances;
+use crate::model::{Amplifier, DriverModel, ImpedanceTable, Network, PartKind, Resonance, VoiceCoilInductance};
+use crate::units::{format_si, Quantity};
+
+/// The weights of the residuals: a rig good to 1 % in |Z| and 1 degree in phase (common
+/// practice for a sound card with a sense resistor). They set how |Z| and phase count
+/// against each other; the intervals are scaled by the residual actually found.
+pub const Z_SIGMA: f64 = 0.01;
+pub const PHASE_SIGMA_DEG: f64 = 1.0;
+/// 1.96: the two-sided 95 % point of the normal distribution.
+const Z95: f64 = 1.959_964;
+/// Two estimates correlated beyond this cannot be told apart by the sweep.
+pub const CORRELATION_LIMIT: f64 = 0.95;
+/// An estimate whose 95 % interval spans more than this factor either way is not a finding.
+const SPAN_LIMIT: f64 = 2.0;
+
+/// One parameter of the network: a part's `value`, `esr` or `dcr`, or a driver's `re`,
+/// `le`, `fs`, `qms`, `qes` or `resistance`.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Param {
+    pub part: String,
+    pub field: String,
+}
+
+impl Param {
+    pub fn new(part: &str, field: &str) -> Param {
+        Param { part: part.into(), field: field.into() }
+    }
+
+    /// The parameter's value in `net`, if it has one that can be fitted (finite, above 0).
+    pub fn get(&self, net: &Network) -> Option<f64> {
+        let v = if let Some(p) = net.part(&self.part) {
+            if p.fault.is_some() {
+                return None;
+            }
+            match (self.field.as_str(), p.kind) {
+                ("value", _) => p.value,
+                ("esr", PartKind::Capacitor) if p.tan_delta.is_none() => p.esr,
+                ("dcr", PartKind::Inductor) => p.dcr,
+                _ => return None,
+            }
+        } else {
+            let d = net.driver(&self.part)?;
+            match (&d.model, self.field.as_str()) {
+                (DriverModel::Resistance(r), "resistance") => *r,
+                (DriverModel::VoiceCoil { re, .. }, "re") => *re,
+                (DriverModel::VoiceCoil { inductance: VoiceCoilInductance::Simple(le), .. }, "le") => *le,
+                (DriverModel::VoiceCoil { resonance: Some(r), .. }, "fs") => r.fs,
+                (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qms") => r.qms,
+                (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qes") => r.qes,
+                _ => return None,
+            }
+        };
+        Some(v)
+    }
+
+    fn set(&self, net: &mut Network, v: f64) {
+        if let Some(p) = net.part_mut(&self.part) {
+            match self.field.as_str() {
+                "value" => p.value = v,
+                "esr" => p.esr = v,
+                _ => p.dcr = v,
+            }
+            return;
+        }
+        let Some(d) = net.drivers.iter_mut().find(|d| d.name == self.part) else { return };
+        match (&mut d.model, self.field.as_str()) {
+            (DriverModel::Resistance(r), _) => *r = v,
+            (DriverModel::VoiceCoil { re, .. }, "re") => *re = v,
+            (DriverModel::VoiceCoil { inductance: VoiceCoilInductance::Simple(le), .. }, "le") => *le = v,
+            (DriverModel::VoiceCoil { resonance: Some(r), .. }, "fs") => r.fs = v,
+            (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qms") => r.qms = v,
+            (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qes") => r.qes = v,
+            _ => {}
+        }
+    }
+
+    /// The unit the value is in, for the tables.
+    pub fn quantity(&self, net: &Network) -> Option<Quantity> {
+        match self.field.as_str() {
+            "esr" | "dcr" | "re" | "resistance" => Some(Quantity::Resistance),
+            "le" => Some(Quantity::Inductance),
+            "fs" => Some(Quantity::Frequency),
+            "qms" | "qes" => None,
+            _ => match net.part(&self.part)?.kind {
+                PartKind::Capacitor => Some(Quantity::Capacitance),
+                PartKind::Inductor => Some(Quantity::Inductance),
+                PartKind::Resistor => Some(Quantity::Resistance),
+            },
+        }
+    }
+
+    /// "C1 value", "LF re".
+    pub fn name(&self) -> String {
+        format!("{} {}", self.part, self.field)
+    }
+}
+
+/// Every parameter of `net` a sweep could estimate: each part's value and its loss (ESR,
+/// DCR), each driver's model parameters.
+pub fn all_params(net: &Network) -> Vec<Param> {
+    let mut out = Vec::new();
+    for p in &net.parts {
+        for field in ["value", "esr", "dcr"] {
+            let q = Param::new(&p.name, field);
+            if q.get(net).is_some_and(|v| v > 0.0) {
+                out.push(q);
+            }
+        }
+    }
+    for d in &net.drivers {
+        for field in ["resistance", "re", "le", "fs", "qms", "qes"] {
+            let q = Param::new(&d.name, field);
+            if q.get(net).is_some_and(|v| v > 0.0) {
+                out.push(q);
+            }
+        }
+    }
+    out
+}
+
+/// The parameters `C1` (a part's value and its loss; a driver's model parameters) or
+/// `C1.esr` (one field) name in `net`; or a message and a hint.
+pub fn params_named(net: &Network, name: &str) -> Result<Vec<Param>, (String, String)> {
+    let (who, field) = match name.split_once('.') {
+        Some((a, b)) => (a, Some(b)),
+        None => (name, None),
+    };
+    if net.part(who).is_none() && net.driver(who).is_none() {
+        let mut names: Vec<&str> = net.parts.iter().map(|p| p.name.as_str()).collect();
+        names.extend(net.drivers.iter().map(|d| d.name.as_str()));
+        let hint = match crate::diag::suggest(who, names.iter().copied()) {
+            Some(s) => format!("did you mean `{s}`?"),
+            None => format!("name a part or driver of the network: {}", names.join(", ")),
+        };
+        return Err((format!("there is no part or driver \"{who}\" to estimate"), hint));
+    }
+    let all: Vec<Param> = all_params(net).into_iter().filter(|p| p.part == who).collect();
+    match field {
+        None if all.is_empty() => Err((format!("{who} has nothing a sweep can estimate (an open or shorted part, or a driver given as a table)"), "leave it out of `diagnose`".into())),
+        None => Ok(all),
+        Some(f) => match all.iter().find(|p| p.field == f) {
+            Some(p) => Ok(vec![p.clone()]),
+            None => {
+                let fields: Vec<&str> = all.iter().map(|p| p.field.as_str()).collect();
+                Err((format!("{who} has no `{f}` to estimate"), format!("{who}'s fields a sweep can estimate: {}", if fields.is_empty() { "none".into() } else { fields.join(", ") })))
+            }
+        },
+    }
+}
+
+/// What the job's `terminals.diagnose` asks for (every parameter with `all`), each once.
+pub fn params_of(net: &Network, t: &crate::model::terminals::Terminals) -> Vec<Param> {
+    if t.diagnose_all {
+        return all_params(net);
+    }
+    let mut out: Vec<Param> = Vec::new();
+    for (name, _, _) in &t.diagnose {
+        for p in params_named(net, name).unwrap_or_default() {
+            if !out.contains(&p) {
+                out.push(p);
+            }
+        }
+    }
+    out
+}
+
+/// A least-squares fit over the logarithms of its parameters.
+struct LogFit<'a> {
+    /// The weighted residuals at the given logarithms (None if they cannot be computed).
+    residuals: &'a dyn Fn(&[f64]) -> Option<Vec<f64>>,
+    x: DVector<f64>,
+    /// A weak pull of each logarithm toward its start (weight [`PRIOR`] per factor of e), so
+    /// a parameter the data cannot see stays where it was rather than wandering off.
+    start: Vec<f64>,
+}
+
+const PRIOR: f64 = 1e-3;
+
+impl LogFit<'_> {
+    fn all(&self, x: &[f64]) -> Option<Vec<f64>> {
+        let mut r = (self.residuals)(x)?;
+        r.extend(x.iter().zip(&self.start).map(|(a, b)| PRIOR * (a - b)));
+        Some(r)
+    }
+}
+
+impl LeastSquaresProblem<f64, Dyn, Dyn> for LogFit<'_> {
+    type ResidualStorage = VecStorage<f64, Dyn, U1>;
+    type JacobianStorage = VecStorage<f64, Dyn, Dyn>;
+    type ParameterStorage = VecStorage<f64, Dyn, U1>;
+
+    fn set_params(&mut self, x: &DVector<f64>) {
+        self.x.copy_from(x);
+    }
+
+    fn params(&self) -> DVector<f64> {
+        self.x.clone()
+    }
+
+    fn residuals(&self) -> Option<DVector<f64>> {
+        self.all(self.x.as_slice()).map(DVector::from_vec)
+    }
+
+    fn jacobian(&self) -> Option<DMatrix<f64>> {
+        jacobian(&|x| self.all(x), self.x.as_slice())
+    }
+}
+
+/// Forward differences in the logarithms (a step of 1e-6, a millionth of the value).
+fn jacobian(f: &dyn Fn(&[f64]) -> Option<Vec<f64>>, x: &[f64]) -> Option<DMatrix<f64>> {
+    let base = f(x)?;
+    let mut j = DMatrix::zeros(base.len(), x.len());
+    let h = 1e-6;
+    for k in 0..x.len() {
+        let mut xk = x.to_vec();
+        xk[k] += h;
+        let r = f(&xk)?;
+        for (i, (a, b)) in r.iter().zip(&base).enumerate() {
+            j[(i, k)] = (a - b) / h;
+        }
+    }
+    Some(j)
+}
+
+/// One estimate: the value, its 95 % interval, and whether the sweep can tell it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Estimate {
+    pub part: String,
+    pub field: String,
+    /// What the job holds for it as found (the bench reading, else the design's value).
+    pub start: f64,
+    pub value: f64,
+    pub low: f64,
+    pub high: f64,
+    pub identifiable: bool,
+    /// Why not, when it is not: its effect is below the residual, or it moves with another.
+    pub reason: String,
+    /// The largest change a 10 % change in it makes at any point of the sweep, in the units
+    /// of the residual (1 = 1 % of |Z| or 1 degree).
+    pub effect: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Correlated {
+    pub a: String,
+    pub b: String,
+    pub r: f64,
+}
+
+/// The statistics of a fit at its solution, in the logarithms of the parameters.
+struct Stats {
+    /// RMS of the weighted residuals (1 = the noise of a 1 % / 1 degree rig).
+    rms: f64,
+    /// Standard deviations of the logarithms (infinite where the data cannot fix one).
+    sd: Vec<f64>,
+    corr: DMatrix<f64>,
+    /// The largest change of any weighted residual a 10 % change in each parameter makes.
+    effect: Vec<f64>,
+}
+
+fn stats(residuals: &[f64], j: &DMatrix<f64>) -> Stats {
+    let (m, n) = (residuals.len(), j.ncols());
+    let ssr: f64 = residuals.iter().map(|r| r * r).sum();
+    let dof = (m.saturating_sub(n)).max(1) as f64;
+    let s2 = ssr / dof;
+    let jtj = j.transpose() * j;
+    let effect: Vec<f64> = (0..n).map(|k| j.column(k).iter().fold(0.0f64, |a, v| a.max(v.abs())) * 1.1f64.ln()).collect();
+    // The inverse of J'J, in the columns' own scale so a badly scaled column does not look
+    // singular; a pseudo-inverse where it is singular, with infinite spread for the blind.
+    let scale: Vec<f64> = (0..n).map(|k| jtj[(k, k)].sqrt()).collect();
+    let mut scaled = jtj.clone();
+    for a in 0..n {
+        for b in 0..n {
+            let d = scale[a] * scale[b];
+            scaled[(a, b)] = if d > 0.0 { jtj[(a, b)] / d } else if a == b { 1.0 } else { 0.0 };
+        }
+    }
+    let inv = scaled.clone().try_inverse().filter(|i| i.iter().all(|v| v.is_finite())).unwrap_or_else(|| scaled.pseudo_inverse(1e-12).unwrap_or_else(|_| DMatrix::zeros(n, n)));
+    let mut sd = vec![f64::INFINITY; n];
+    let mut corr = DMatrix::zeros(n, n);
+    for a in 0..n {
+        if scale[a] > 0.0 && inv[(a, a)] > 0.0 {
+            sd[a] = (s2 * inv[(a, a)]).sqrt() / scale[a];
+        }
+        for b in 0..n {
+            let d = (inv[(a, a)] * inv[(b, b)]).sqrt();
+            corr[(a, b)] = if d > 0.0 { inv[(a, b)] / d } else { 0.0 };
+        }
+    }
+    Stats { rms: (ssr / m.max(1) as f64).sqrt(), sd, corr, effect }
+}
+
+/// Runs the fit from `start` (the parameters' values) and returns the values at the solution
+/// with the data's residuals and Jacobian there.
+fn solve(residuals: &dyn Fn(&[f64]) -> Option<Vec<f64>>, start: &[f64]) -> Result<(Vec<f64>, Vec<f64>, DMatrix<f64>), String> {
+    let x0: Vec<f64> = start.iter().map(|v| v.ln()).collect();
+    let problem = LogFit { residuals, x: DVector::from_vec(x0.clone()), start: x0 };
+    let (done, report) = LevenbergMarquardt::new().with_patience(200).minimize(problem);
+    if !report.termination.was_successful() && report.number_of_evaluations == 0 {
+        return Err(format!("the fit did not start: {:?}", report.termination));
+    }
+    let x: Vec<f64> = done.x.iter().copied().collect();
+    let r = residuals(&x).ok_or("the network cannot be solved at the fitted values")?;
+    let j = jacobian(residuals, &x).ok_or("the network cannot be solved near the fitted values")?;
+    Ok((x, r, j))
+}
+
+/// The weighted residuals of a predicted impedance against a sweep: log |Z| over 1 %, phase
+/// over 1 degree, point by point.
+fn weigh(pred: impl Iterator<Item = num_complex::Complex64>, sweep: &ImpedanceTable, idx: &[usize]) -> Vec<f64> {
+    let mut r = Vec::with_capacity(2 * idx.len());
+    for (z, &i) in pred.zip(idx) {
+        r.push((z.norm() / sweep.ohm[i]).ln() / Z_SIGMA);
+        r.push(crate::engine::wrap_deg(z.arg().to_degrees() - sweep.phase_deg[i]) / PHASE_SIGMA_DEG);
+    }
+    r
+}
+
+/// Estimates, intervals and identifiability from a fit's solution.
+fn judge(names: &[Param], start: &[f64], x: &[f64], r: &[f64], j: &DMatrix<f64>) -> (Vec<Estimate>, Vec<Correlated>, f64) {
+    let st = stats(r, j);
+    let n = names.len();
+    let mut correlated = Vec::new();
+    for a in 0..n {
+        for b in a + 1..n {
+            if st.corr[(a, b)].abs() > CORRELATION_LIMIT && st.sd[a].is_finite() && st.sd[b].is_finite() {
+                correlated.push(Correlated { a: names[a].name(), b: names[b].name(), r: st.corr[(a, b)] });
+            }
+        }
+    }
+    let estimates = (0..n)
+        .map(|k| {
+            let value = x[k].exp();
+            let spread = Z95 * st.sd[k];
+            // A spread the data cannot bound is shown as a factor of a million either way (and
+            // the estimate is not identifiable), so no infinity reaches a table or the JSON.
+            let spread = spread.min(1e6f64.ln());
+            let (low, high) = ((x[k] - spread).exp(), (x[k] + spread).exp());
+            let partner = correlated.iter().find(|c| c.a == names[k].name() || c.b == names[k].name());
+            let reason = if st.effect[k] < st.rms {
+                format!(
+                    "its effect on the terminal impedance is below the sweep's residual (a 10 % change moves the impedance by at most {:.2} % or degrees, against a residual of {:.2}): measure it on the bench",
+                    st.effect[k], st.rms
+                )
+            } else if let Some(c) = partner {
+                let other = if c.a == names[k].name() { &c.b } else { &c.a };
+                format!("it cannot be told apart from {other} (correlation {:+.3}): measure one of them on the bench", c.r)
+            } else if spread > SPAN_LIMIT.ln() {
+                "the sweep fixes it only to within more than a factor of two: measure it on the bench".to_string()
+            } else {
+                String::new()
+            };
+            Estimate {
+                part: names[k].part.clone(),
+                field: names[k].field.clone(),
+                start: start[k],
+                value,
+                low,
+                high,
+                identifiable: reason.is_empty(),
+                reason: if reason.is_empty() { String::new() } else { format!("not identifiable from this sweep: {reason}") },
+                effect: st.effect[k],
+            }
+        })
+        .collect();
+    (estimates, correlated, st.rms)
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Diagnosis {
+    pub file: String,
+    pub points: usize,
+    pub from_hz: f64,
+    pub to_hz: f64,
+    /// RMS of the weighted residuals at the solution (1 = the noise of a 1 % / 1 degree rig).
+    pub residual: f64,
+    /// The same residual as RMS |Z| error in per cent and phase error in degrees.
+    pub residual_z_pct: f64,
+    pub residual_phase_deg: f64,
+    pub estimates: Vec<Estimate>,
+    pub correlated: Vec<Correlated>,
+    /// The finding in a sentence: which part most likely drifted and by how much, or that
+    /// the sweep cannot tell.
+    pub sentence: String,
+    pub basis: String,
+}
+
+/// Estimates `params` of `network` (the speaker as found) from `sweep`, at the sweep's points
+/// from `lo` to `hi`.
+pub fn diagnose(network: &Network, amp: &Amplifier, sweep: &ImpedanceTable, params: &[Param], (lo, hi): (f64, f64)) -> Result<Diagnosis, String> {
+    let idx: Vec<usize> = (0..sweep.freq_hz.len()).filter(|&i| sweep.freq_hz[i] >= lo * (1.0 - 1e-9) && sweep.freq_hz[i] <= hi * (1.0 + 1e-9)).collect();
+    if idx.len() < 3 {
+        return Err(format!("fewer than three of {}'s points fall inside the analysis sweep", sweep.file));
+    }
+    let params: Vec<Param> = params.iter().filter(|p| p.get(network).is_some_and(|v| v > 0.0)).cloned().collect();
+    if params.is_empty() {
+        return Err("none of the parameters named can be estimated (each needs a value above zero)".into());
+    }
+    if 2 * idx.len() <= params.len() {
+        return Err(format!("{} points cannot fix {} parameters", idx.len(), params.len()));
+    }
+    let freqs: Vec<f64> = idx.iter().map(|&i| sweep.freq_hz[i]).collect();
+    let start: Vec<f64> = params.iter().map(|p| p.get(network).unwrap_or(1.0)).collect();
+    let residuals = |x: &[f64]| -> Option<Vec<f64>> {
+        let mut net = network.clone();
+        for (p, v) in params.iter().zip(x) {
+            p.set(&mut net, v.exp());
+        }
+        let z = input_impedances(&net, amp, &freqs).ok()?;
+        let r = weigh(z.into_iter(), sweep, &idx);
+        r.iter().all(|v| v.is_finite()).then_some(r)
+    };
+    residuals(&start.iter().map(|v| v.ln()).collect::<Vec<_>>()).ok_or("the network as found cannot be solved at the sweep's points")?;
+    let (x, r, j) = solve(&residuals, &start)?;
+    let (estimates, correlated, rms) = judge(&params, &start, &x, &r, &j);
+    let m = idx.len() as f64;
+    let zs: f64 = r.iter().step_by(2).map(|v| (v * Z_SIGMA * 100.0).powi(2)).sum::<f64>() / m;
+    let ps: f64 = r.iter().skip(1).step_by(2).map(|v| (v * PHASE_SIGMA_DEG).powi(2)).sum::<f64>() / m;
+    let sentence = finding(network, &estimates);
+    Ok(Diagnosis {
+        file: sweep.file.clone(),
+        points: idx.len(),
+        from_hz: freqs[0],
+        to_hz: freqs[freqs.len() - 1],
+        residual: rms,
+        residual_z_pct: zs.sqrt(),
+        residual_phase_deg: ps.sqrt(),
+        estimates,
+        correlated,
+        sentence,
+        basis: format!(
+            "estimated from the as-found sweep at the terminals ({}, {} points): least squares on log |Z| (weight 1 %) and phase (weight 1 degree) by Levenberg-Marquardt over the logarithms of the parameters, started from the job's values as found; 95 % intervals from the Jacobian at the solution, scaled by the residual; an estimate is not identifiable when a 10 % change moves the fit less than the residual, when it moves with another (correlation beyond {CORRELATION_LIMIT}) or when its interval spans more than a factor of two. Estimates are never used as bench readings: write a reading under `measured` to use one",
+            sweep.file,
+            idx.len()
+        ),
+    })
+}
+
+/// The value with its unit ("3.76 uF"; a Q as a plain number).
+pub fn value_text(net: &Network, part: &str, field: &str, v: f64) -> String {
+    match Param::new(part, field).quantity(net) {
+        Some(q) => format_si(v, q, 3),
+        None => crate::units::trim_number(v, 3),
+    }
+}
+
+/// Which identifiable estimate departs furthest from what the job holds, beyond its own
+/// interval; or that none does, or that the sweep can tell none.
+fn finding(net: &Network, e: &[Estimate]) -> String {
+    let told: Vec<&Estimate> = e.iter().filter(|x| x.identifiable).collect();
+    if told.is_empty() {
+        return "The sweep cannot tell any of the parameters asked for: measure them on the bench.".into();
+    }
+    let moved: Vec<&&Estimate> = told.iter().filter(|x| x.start < x.low || x.start > x.high).collect();
+    let far = |x: &Estimate| (x.value / x.start).ln().abs();
+    let Some(worst) = moved.iter().max_by(|a, b| far(a).total_cmp(&far(b))) else {
+        return "Every parameter the sweep can tell agrees with the job's values within its 95 % interval: the sweep shows no drift.".into();
+    };
+    // The part that moved furthest, with every one of its fields that moved.
+    let fields: Vec<String> = moved
+        .iter()
+        .filter(|x| x.part == worst.part)
+        .map(|x| {
+            let v = |a: f64| value_text(net, &x.part, &x.field, a);
+            format!("its {} estimated at {} (95 % interval {} to {}) against {} on record ({:+.0} %)", field_words(&x.field), v(x.value), v(x.low), v(x.high), v(x.start), 100.0 * (x.value / x.start - 1.0))
+        })
+        .collect();
+    let others: Vec<String> = moved.iter().filter(|x| x.part != worst.part).map(|x| format!("{} {}", x.part, field_words(&x.field))).collect();
+    let also = if others.is_empty() { String::new() } else { format!(" The sweep also departs from the record in {}.", others.join(", ")) };
+    format!("Most likely drifted: {}, {}.{also}", worst.part, fields.join(", and "))
+}
+
+pub fn field_words(field: &str) -> &str {
+    match field {
+        "value" => "value",
+        "esr" => "ESR",
+        "dcr" => "DCR",
+        "re" => "Re",
+        "le" => "Le",
+        "fs" => "fs",
+        "qms" => "Qms",
+        "qes" => "Qes",
+        other => other,
+    }
+}
+
+/// Small's model fitted to a driver's own impedance sweep (free air).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct DriverFit {
+    pub file: String,
+    pub points: usize,
+    pub residual: f64,
+    /// re, le (or k and n), fs, qms, qes with their intervals.
+    pub estimates: Vec<Estimate>,
+    pub qts: f64,
+    pub correlated: Vec<Correlated>,
+    /// The three-point method on the same sweep, for comparison (Thiele and Small).
+    pub three_point: Option<ThreePoint>,
+    /// The `model` block the job file takes.
+    pub model_yaml: String,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct ThreePoint {
+    pub re: f64,
+    pub fs: f64,
+    pub qms: f64,
+    pub qes: f64,
+}
+
+/// The classic three-point method: fs at the impedance peak, r0 = Zmax / Re, f1 and f2 where
+/// |Z| = Re sqrt(r0); Qms = fs sqrt(r0) / (f2 - f1), Qes = Qms / (r0 - 1). `re` is the DC
+/// resistance (the fit's, or the sweep's lowest |Z| below the peak when none is given).
+pub fn three_point(sweep: &ImpedanceTable, re: f64) -> Option<ThreePoint> {
+    let (f, z) = (&sweep.freq_hz, &sweep.ohm);
+    let peak = (0..z.len()).max_by(|a, b| z[*a].total_cmp(&z[*b]))?;
+    if peak == 0 || peak + 1 >= z.len() {
+        return None;
+    }
+    // The peak refined by a parabola through three points in log frequency.
+    let (a, b, c) = (z[peak - 1], z[peak], z[peak + 1]);
+    let (la, lb, lc) = (f[peak - 1].ln(), f[peak].ln(), f[peak + 1].ln());
+    let denom = (a - 2.0 * b + c) * 0.5;
+    let (fs, zmax) = if denom.abs() > 0.0 && (lc - lb - (lb - la)).abs() < 1e-9 * lb.abs().max(1.0) {
+        let t = 0.25 * (a - c) / denom;
+        ((lb + t * (lc - lb)).exp(), b - 0.25 * (a - c) * t)
+    } else {
+        (f[peak], b)
+    };
+    let r0 = zmax / re;
+    if r0 <= 1.0 {
+        return None;
+    }
+    let level = re * r0.sqrt();
+    let cross = |range: &mut dyn Iterator<Item = usize>| -> Option<f64> {
+        for i in range {
+            let (j, k) = if i < peak { (i, i + 1) } else { (i - 1, i) };
+            let (za, zb) = (z[j], z[k]);
+            if (za - level) * (zb - level) <= 0.0 && za != zb {
+                let t = (level - za) / (zb - za);
+                return Some((f[j].ln() + t * (f[k].ln() - f[j].ln())).exp());
+            }
+        }
+        None
+    };
+    let f1 = cross(&mut (0..peak).rev())?;
+    let f2 = cross(&mut (peak + 1..z.len()))?;
+    let qms = fs * r0.sqrt() / (f2 - f1);
+    Some(ThreePoint { re, fs, qms, qes: qms / (r0 - 1.0) })
+}
+
+/// Fits Small's model (Re, Le or Leach's K and n, fs, Qms, Qes) to a driver's sweep.
+pub fn characterise(sweep: &ImpedanceTable, leach: bool) -> Result<DriverFit, String> {
+    let n = sweep.freq_hz.len();
+    if n < 8 {
+        return Err(format!("{} has {n} points; a driver's fit needs at least 8 around its resonance", sweep.file));
+    }
+    // Starting values from the curve: the three-point figures with Re from the lowest |Z|.
+    let re0 = sweep.ohm.iter().copied().fold(f64::INFINITY, f64::min) * 0.97;
+    let tp0 = three_point(sweep, re0).ok_or("the sweep has no resonance peak with the curve falling on both sides: sweep from well below to well above fs")?;
+    // The coil's inductance from the top of the sweep, above the resonance.
+    let (ft, zt) = (sweep.freq_hz[n - 1], sweep.ohm[n - 1]);
+    let xl = (zt * zt - re0 * re0).max((0.05 * re0).powi(2)).sqrt();
+    let le0 = xl / (2.0 * std::f64::consts::PI * ft);
+    let names: Vec<&str> = if leach { vec!["re", "k", "n", "fs", "qms", "qes"] } else { vec!["re", "le", "fs", "qms", "qes"] };
+    let start: Vec<f64> = if leach {
+        let w = 2.0 * std::f64::consts::PI * ft;
+        let nn: f64 = 0.7;
+        vec![re0, xl / w.powf(nn), nn, tp0.fs, tp0.qms, tp0.qes]
+    } else {
+        vec![re0, le0, tp0.fs, tp0.qms, tp0.qes]
+    };
+    let model = |x: &[f64]| -> DriverModel {
+        let v: Vec<f64> = x.iter().map(|a| a.exp()).collect();
+        let (inductance, o) = if leach { (VoiceCoilInductance::Leach { k: v[1], n: v[2] }, 3) } else { (VoiceCoilInductance::Simple(v[1]), 2) };
+        DriverModel::VoiceCoil { re: v[0], inductance, resonance: Some(Resonance { fs: v[o], qms: v[o + 1], qes: v[o + 2], derived: None }) }
+    };
+    let idx: Vec<usize> = (0..n).collect();
+    let residuals = |x: &[f64]| -> Option<Vec<f64>> {
+        let m = model(x);
+        let r = weigh(sweep.freq_hz.iter().map(|f| crate::engine::driver::impedance(&m, *f)), sweep, &idx);
+        r.iter().all(|v| v.is_finite()).then_some(r)
+    };
+    let (x, r, j) = solve(&residuals, &start)?;
+    let params: Vec<Param> = names.iter().map(|f| Param::new("driver", f)).collect();
+    let (estimates, correlated, rms) = judge(&params, &start, &x, &r, &j);
+    let v: Vec<f64> = x.iter().map(|a| a.exp()).collect();
+    let o = if leach { 3 } else { 2 };
+    let (fs, qms, qes) = (v[o], v[o + 1], v[o + 2]);
+    let qts = qms * qes / (qms + qes);
+    let coil = if leach { format!("leach: {{ k: {}, n: {} }}", crate::units::trim_number(v[1], 4), crate::units::trim_number(v[2], 3)) } else { format!("le: {}", format_si(v[1], Quantity::Inductance, 3)) };
+    let model_yaml = format!(
+        "model: {{ re: {}, {coil}, fs: {}, qms: {}, qes: {} }}   # fitted from {} (Qts {})",
+        format_si(v[0], Quantity::Resistance, 4),
+        format_si(fs, Quantity::Frequency, 4),
+        crate::units::trim_number(qms, 3),
+        crate::units::trim_number(qes, 3),
+        sweep.file,
+        crate::units::trim_number(qts, 3)
+    );
+    Ok(DriverFit { file: sweep.file.clone(), points: n, residual: rms, estimates, qts, correlated, three_point: three_point(sweep, v[0]), model_yaml })
+}
