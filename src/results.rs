@@ -659,7 +659,13 @@ pub fn driver_fit_text(fit: &crate::analysis::diagnose::DriverFit) -> String {
     }
     let _ = writeln!(s, "  Qts  {}", trim_number(fit.qts, 4));
     if let Some(tp) = &fit.three_point {
-        let _ = writeln!(s, "  three-point method on the same sweep (Re from the fit): fs {} Hz, Qms {}, Qes {}", trim_number(tp.fs, 4), trim_number(tp.qms, 4), trim_number(tp.qes, 4));
+        let _ = writeln!(
+            s,
+            "  three-point method on the same sweep (Re from the fit): fs {} Hz, Qms {}, Qes {}",
+            trim_number(tp.fs, 4),
+            trim_number(tp.qms, 4),
+            trim_number(tp.qes, 4)
+        );
     }
     let _ = writeln!(s);
     let _ = writeln!(s, "{}", fit.model_yaml);

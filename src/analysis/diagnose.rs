@@ -147,13 +147,18 @@ pub fn params_named(net: &Network, name: &str) -> Result<Vec<Param>, (String, St
     }
     let all: Vec<Param> = all_params(net).into_iter().filter(|p| p.part == who).collect();
     match field {
-        None if all.is_empty() => Err((format!("{who} has nothing a sweep can estimate (an open or shorted part, or a driver given as a table)"), "leave it out of `diagnose`".into())),
+        None if all.is_empty() => {
+            Err((format!("{who} has nothing a sweep can estimate (an open or shorted part, or a driver given as a table)"), "leave it out of `diagnose`".into()))
+        }
         None => Ok(all),
         Some(f) => match all.iter().find(|p| p.field == f) {
             Some(p) => Ok(vec![p.clone()]),
             None => {
                 let fields: Vec<&str> = all.iter().map(|p| p.field.as_str()).collect();
-                Err((format!("{who} has no `{f}` to estimate"), format!("{who}'s fields a sweep can estimate: {}", if fields.is_empty() { "none".into() } else { fields.join(", ") })))
+                Err((
+                    format!("{who} has no `{f}` to estimate"),
+                    format!("{who}'s fields a sweep can estimate: {}", if fields.is_empty() { "none".into() } else { fields.join(", ") }),
+                ))
             }
         },
     }
@@ -185,7 +190,7 @@ struct LogFit<'a> {
     start: Vec<f64>,
 }
 
-const PRIOR: f64 = 1e-3;
+const PRIOR: f64 = 0.03;
 
 impl LogFit<'_> {
     fn all(&self, x: &[f64]) -> Option<Vec<f64>> {
@@ -267,6 +272,8 @@ struct Stats {
     corr: DMatrix<f64>,
     /// The largest change of any weighted residual a 10 % change in each parameter makes.
     effect: Vec<f64>,
+    /// The same for |Z| (per cent) and phase (degrees) apart.
+    split: Vec<(f64, f64)>,
 }
 
 fn stats(residuals: &[f64], j: &DMatrix<f64>) -> Stats {
@@ -275,7 +282,10 @@ fn stats(residuals: &[f64], j: &DMatrix<f64>) -> Stats {
     let dof = (m.saturating_sub(n)).max(1) as f64;
     let s2 = ssr / dof;
     let jtj = j.transpose() * j;
-    let effect: Vec<f64> = (0..n).map(|k| j.column(k).iter().fold(0.0f64, |a, v| a.max(v.abs())) * 1.1f64.ln()).collect();
+    // Rows alternate |Z| (in per cent) and phase (in degrees), both in the weights' units.
+    let most = |k: usize, phase: usize| j.column(k).iter().skip(phase).step_by(2).fold(0.0f64, |a, v| a.max(v.abs())) * 1.1f64.ln();
+    let split: Vec<(f64, f64)> = (0..n).map(|k| (most(k, 0), most(k, 1))).collect();
+    let effect: Vec<f64> = split.iter().map(|(z, p)| z.max(*p)).collect();
     // The inverse of J'J, in the columns' own scale so a badly scaled column does not look
     // singular; a pseudo-inverse where it is singular, with infinite spread for the blind.
     let scale: Vec<f64> = (0..n).map(|k| jtj[(k, k)].sqrt()).collect();
@@ -283,7 +293,13 @@ fn stats(residuals: &[f64], j: &DMatrix<f64>) -> Stats {
     for a in 0..n {
         for b in 0..n {
             let d = scale[a] * scale[b];
-            scaled[(a, b)] = if d > 0.0 { jtj[(a, b)] / d } else if a == b { 1.0 } else { 0.0 };
+            scaled[(a, b)] = if d > 0.0 {
+                jtj[(a, b)] / d
+            } else if a == b {
+                1.0
+            } else {
+                0.0
+            };
         }
     }
     let inv = scaled.clone().try_inverse().filter(|i| i.iter().all(|v| v.is_finite())).unwrap_or_else(|| scaled.pseudo_inverse(1e-12).unwrap_or_else(|_| DMatrix::zeros(n, n)));
@@ -298,12 +314,16 @@ fn stats(residuals: &[f64], j: &DMatrix<f64>) -> Stats {
             corr[(a, b)] = if d > 0.0 { inv[(a, b)] / d } else { 0.0 };
         }
     }
-    Stats { rms: (ssr / m.max(1) as f64).sqrt(), sd, corr, effect }
+    Stats { rms: (ssr / m.max(1) as f64).sqrt(), sd, corr, effect, split }
 }
 
 /// Runs the fit from `start` (the parameters' values) and returns the values at the solution
 /// with the data's residuals and Jacobian there.
-fn solve(residuals: &dyn Fn(&[f64]) -> Option<Vec<f64>>, start: &[f64]) -> Result<(Vec<f64>, Vec<f64>, DMatrix<f64>), String> {
+/// A fit's solution: the logarithms, the data's residuals and Jacobian there, and whether
+/// it settled.
+type Solution = (Vec<f64>, Vec<f64>, DMatrix<f64>, bool);
+
+fn solve(residuals: &dyn Fn(&[f64]) -> Option<Vec<f64>>, start: &[f64]) -> Result<Solution, String> {
     let x0: Vec<f64> = start.iter().map(|v| v.ln()).collect();
     let problem = LogFit { residuals, x: DVector::from_vec(x0.clone()), start: x0 };
     let (done, report) = LevenbergMarquardt::new().with_patience(200).minimize(problem);
@@ -313,7 +333,7 @@ fn solve(residuals: &dyn Fn(&[f64]) -> Option<Vec<f64>>, start: &[f64]) -> Resul
     let x: Vec<f64> = done.x.iter().copied().collect();
     let r = residuals(&x).ok_or("the network cannot be solved at the fitted values")?;
     let j = jacobian(residuals, &x).ok_or("the network cannot be solved near the fitted values")?;
-    Ok((x, r, j))
+    Ok((x, r, j, report.termination.was_successful()))
 }
 
 /// The weighted residuals of a predicted impedance against a sweep: log |Z| over 1 %, phase
@@ -350,8 +370,8 @@ fn judge(names: &[Param], start: &[f64], x: &[f64], r: &[f64], j: &DMatrix<f64>)
             let partner = correlated.iter().find(|c| c.a == names[k].name() || c.b == names[k].name());
             let reason = if st.effect[k] < st.rms {
                 format!(
-                    "its effect on the terminal impedance is below the sweep's residual (a 10 % change moves the impedance by at most {:.2} % or degrees, against a residual of {:.2}): measure it on the bench",
-                    st.effect[k], st.rms
+                    "its effect on the terminal impedance is below the sweep's residual (a 10 % change in it moves |Z| by at most {:.2} % or the phase by {:.2} degrees, against a residual of {:.2}): measure it on the bench",
+                    st.split[k].0, st.split[k].1, st.rms
                 )
             } else if let Some(c) = partner {
                 let other = if c.a == names[k].name() { &c.b } else { &c.a };
@@ -385,6 +405,8 @@ pub struct Diagnosis {
     pub to_hz: f64,
     /// RMS of the weighted residuals at the solution (1 = the noise of a 1 % / 1 degree rig).
     pub residual: f64,
+    /// Whether the fit settled (MINPACK's tests on the sums of squares and the step).
+    pub converged: bool,
     /// The same residual as RMS |Z| error in per cent and phase error in degrees.
     pub residual_z_pct: f64,
     pub residual_phase_deg: f64,
@@ -422,18 +444,22 @@ pub fn diagnose(network: &Network, amp: &Amplifier, sweep: &ImpedanceTable, para
         r.iter().all(|v| v.is_finite()).then_some(r)
     };
     residuals(&start.iter().map(|v| v.ln()).collect::<Vec<_>>()).ok_or("the network as found cannot be solved at the sweep's points")?;
-    let (x, r, j) = solve(&residuals, &start)?;
+    let (x, r, j, converged) = solve(&residuals, &start)?;
     let (estimates, correlated, rms) = judge(&params, &start, &x, &r, &j);
     let m = idx.len() as f64;
     let zs: f64 = r.iter().step_by(2).map(|v| (v * Z_SIGMA * 100.0).powi(2)).sum::<f64>() / m;
     let ps: f64 = r.iter().skip(1).step_by(2).map(|v| (v * PHASE_SIGMA_DEG).powi(2)).sum::<f64>() / m;
-    let sentence = finding(network, &estimates);
+    let mut sentence = finding(network, &estimates);
+    if !converged {
+        sentence.push_str(" The fit stopped before it settled: treat these estimates with caution, or name fewer suspects.");
+    }
     Ok(Diagnosis {
         file: sweep.file.clone(),
         points: idx.len(),
         from_hz: freqs[0],
         to_hz: freqs[freqs.len() - 1],
         residual: rms,
+        converged,
         residual_z_pct: zs.sqrt(),
         residual_phase_deg: ps.sqrt(),
         estimates,
@@ -473,7 +499,15 @@ fn finding(net: &Network, e: &[Estimate]) -> String {
         .filter(|x| x.part == worst.part)
         .map(|x| {
             let v = |a: f64| value_text(net, &x.part, &x.field, a);
-            format!("its {} estimated at {} (95 % interval {} to {}) against {} on record ({:+.0} %)", field_words(&x.field), v(x.value), v(x.low), v(x.high), v(x.start), 100.0 * (x.value / x.start - 1.0))
+            format!(
+                "its {} estimated at {} (95 % interval {} to {}) against {} on record ({:+.0} %)",
+                field_words(&x.field),
+                v(x.value),
+                v(x.low),
+                v(x.high),
+                v(x.start),
+                100.0 * (x.value / x.start - 1.0)
+            )
         })
         .collect();
     let others: Vec<String> = moved.iter().filter(|x| x.part != worst.part).map(|x| format!("{} {}", x.part, field_words(&x.field))).collect();
@@ -592,14 +626,21 @@ pub fn characterise(sweep: &ImpedanceTable, leach: bool) -> Result<DriverFit, St
         let r = weigh(sweep.freq_hz.iter().map(|f| crate::engine::driver::impedance(&m, *f)), sweep, &idx);
         r.iter().all(|v| v.is_finite()).then_some(r)
     };
-    let (x, r, j) = solve(&residuals, &start)?;
+    let (x, r, j, converged) = solve(&residuals, &start)?;
+    if !converged {
+        return Err("the fit did not settle: sweep from well below to well above fs, with the driver in free air".into());
+    }
     let params: Vec<Param> = names.iter().map(|f| Param::new("driver", f)).collect();
     let (estimates, correlated, rms) = judge(&params, &start, &x, &r, &j);
     let v: Vec<f64> = x.iter().map(|a| a.exp()).collect();
     let o = if leach { 3 } else { 2 };
     let (fs, qms, qes) = (v[o], v[o + 1], v[o + 2]);
     let qts = qms * qes / (qms + qes);
-    let coil = if leach { format!("leach: {{ k: {}, n: {} }}", crate::units::trim_number(v[1], 4), crate::units::trim_number(v[2], 3)) } else { format!("le: {}", format_si(v[1], Quantity::Inductance, 3)) };
+    let coil = if leach {
+        format!("leach: {{ k: {}, n: {} }}", crate::units::trim_number(v[1], 4), crate::units::trim_number(v[2], 3))
+    } else {
+        format!("le: {}", format_si(v[1], Quantity::Inductance, 3))
+    };
     let model_yaml = format!(
         "model: {{ re: {}, {coil}, fs: {}, qms: {}, qes: {} }}   # fitted from {} (Qts {})",
         format_si(v[0], Quantity::Resistance, 4),

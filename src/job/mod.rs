@@ -108,6 +108,11 @@ pub fn read_impedance_table(path: &Path) -> Result<crate::model::ImpedanceTable,
     let t = ctx.impedance_table(&r);
     match t {
         Some(t) if ctx.diags.is_empty() => Ok(t),
-        _ => Err(ctx.diags.iter().map(|d| format!("{}: {}{}", path.display(), d.message, d.hint.as_ref().map(|h| format!("\n  hint: {h}")).unwrap_or_default())).collect::<Vec<_>>().join("\n")),
+        _ => Err(ctx
+            .diags
+            .iter()
+            .map(|d| format!("{}: {}{}", path.display(), d.message, d.hint.as_ref().map(|h| format!("\n  hint: {h}")).unwrap_or_default()))
+            .collect::<Vec<_>>()
+            .join("\n")),
     }
 }

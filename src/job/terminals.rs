@@ -33,7 +33,9 @@ pub(crate) fn terminals(node: &Node, path: &str, ctx: &mut Ctx) -> Terminals {
             }
             _ => match ctx.text(n, &field).as_deref() {
                 Some("all") => t.diagnose_all = true,
-                Some(other) => ctx.error(n.pos(), &field, format!("expected `all` or a list, found \"{other}\""), Some("write `diagnose: [C1, L1.dcr, LF.re]` or `diagnose: all`".into())),
+                Some(other) => {
+                    ctx.error(n.pos(), &field, format!("expected `all` or a list, found \"{other}\""), Some("write `diagnose: [C1, L1.dcr, LF.re]` or `diagnose: all`".into()))
+                }
                 None => {}
             },
         }

@@ -305,12 +305,14 @@ pub enum Block {
     Power,
     /// The photographs, before and after.
     Photos,
+    /// The sweeps at the terminals: the prediction confirmed, and the diagnosis.
+    Terminals,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 17] = [
+    pub const NAMES: [&'static str; 18] = [
         "levels",
         "parts",
         "compensation",
@@ -328,6 +330,7 @@ impl Block {
         "history",
         "power",
         "photos",
+        "terminals",
     ];
 
     pub fn named(name: &str) -> Option<Block> {
@@ -349,6 +352,7 @@ impl Block {
             "history" => Block::History,
             "power" => Block::Power,
             "photos" => Block::Photos,
+            "terminals" => Block::Terminals,
             _ => return None,
         })
     }
@@ -376,6 +380,7 @@ impl Block {
             Block::History => "history",
             Block::Power => "power",
             Block::Photos => "photos",
+            Block::Terminals => "terminals",
         }
     }
 }
@@ -393,11 +398,22 @@ pub enum PlotKind {
     PairFound,
     /// The same as left.
     PairLeft,
+    /// Predicted against measured |Z| at the terminals, for each scenario with a sweep.
+    Terminals,
 }
 
 impl PlotKind {
-    pub const ALL: [PlotKind; 8] =
-        [PlotKind::Response, PlotKind::Change, PlotKind::Impedance, PlotKind::Phase, PlotKind::Tolerance, PlotKind::Acoustic, PlotKind::PairFound, PlotKind::PairLeft];
+    pub const ALL: [PlotKind; 9] = [
+        PlotKind::Response,
+        PlotKind::Change,
+        PlotKind::Impedance,
+        PlotKind::Phase,
+        PlotKind::Tolerance,
+        PlotKind::Acoustic,
+        PlotKind::PairFound,
+        PlotKind::PairLeft,
+        PlotKind::Terminals,
+    ];
     pub fn name(self) -> &'static str {
         match self {
             PlotKind::Response => "response",
@@ -408,6 +424,7 @@ impl PlotKind {
             PlotKind::Acoustic => "acoustic",
             PlotKind::PairFound => "pair-found",
             PlotKind::PairLeft => "pair-left",
+            PlotKind::Terminals => "terminals",
         }
     }
 }

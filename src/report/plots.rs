@@ -316,7 +316,32 @@ pub fn all(job: &Job, f: &Findings) -> Vec<(PlotKind, String)> {
     if f.acoustic.is_some() {
         push(PlotKind::Acoustic, acoustic(f));
     }
+    if !f.confirmation.is_empty() {
+        push(PlotKind::Terminals, terminals(job, f));
+    }
     out
+}
+
+/// Each sweep at the terminals (dots) against the prediction for its scenario.
+fn terminals(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+    let mut curves = Vec::new();
+    let (mut lo, mut hi) = (f64::INFINITY, 0.0f64);
+    for c in &f.confirmation {
+        // Told apart by pattern, so they read in greyscale: measured as found dots, as left
+        // sparse dashes; predicted as found short dashes, as left solid.
+        let (predicted, measured) = if c.scenario == crate::model::Scenario::AsLeft { (Pattern::Solid, Pattern::Sparse) } else { (Pattern::Short, Pattern::Dot) };
+        curves.push(Curve { label: format!("measured {}", c.scenario.label()), colour: BRICK, pattern: measured, points: c.curves.iter().map(|p| (p[0], p[1].log10())).collect() });
+        curves.push(Curve {
+            label: format!("calculated {}", c.scenario.label()),
+            colour: NAVY,
+            pattern: predicted,
+            points: c.curves.iter().map(|p| (p[0], p[3].log10())).collect(),
+        });
+        lo = lo.min(c.from_hz);
+        hi = hi.max(c.to_hz);
+    }
+    // Worded for every reader: the owner's report shows it too.
+    impedance_chart(job, "Impedance at the speaker's terminals: measured against calculated", "impedance (Ω)", (lo, hi * 1.0001), curves)
 }
 
 /// Every plot a job of one cabinet or several supports.
@@ -409,17 +434,17 @@ fn set_impedance(job: &Job, set: &SetFindings) -> Result<String, Box<dyn std::er
         pattern: Pattern::Long,
         points: first.freqs.iter().cloned().zip(first.scenes.as_designed.z.iter().map(log)).collect(),
     });
-    impedance_chart(job, "Input impedance magnitude at the amplifier terminals, each cabinet as left", xr(first), curves)
+    impedance_chart(job, "Input impedance magnitude at the amplifier terminals, each cabinet as left", "|Z| (Ω)", xr(first), curves)
 }
 
 /// A log |Z| chart of `curves` with the 80 % floor of the rated impedance drawn in.
-fn impedance_chart(job: &Job, title: &str, x: (f64, f64), curves: Vec<Curve>) -> Result<String, Box<dyn std::error::Error>> {
+fn impedance_chart(job: &Job, title: &str, y_label: &str, x: (f64, f64), curves: Vec<Curve>) -> Result<String, Box<dyn std::error::Error>> {
     let rated = job.rated_impedance_ohm();
     let floor = crate::analysis::load::rated_floor(rated);
     let (lo, hi) = range(curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)), 0.3);
     log_chart(Chart {
         title,
-        y_label: "|Z| (Ω)",
+        y_label,
         x,
         y: (lo.min(floor.log10() - 0.1), hi),
         curves,
@@ -452,6 +477,7 @@ pub fn caption(kind: PlotKind) -> &'static str {
         PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, the pair did not match.",
         PlotKind::PairLeft => "The same as left, after the work: traces that lie together show a matched pair.",
         PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
+        PlotKind::Terminals => "Impedance magnitude measured at the speaker's terminals (as found dots, as left sparse dashes) against the impedance calculated from the parts' values and readings (as found short dashes, as left solid); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
     }
 }
 
@@ -524,7 +550,7 @@ fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
     // A log axis: the dips that matter to an amplifier (a few ohms) stay readable beside the
     // resonance peaks (tens of ohms).
     let curves = impedance_curves(f, "|Z|", NAVY, |z| z.norm().max(1e-3).log10());
-    impedance_chart(job, "Input impedance magnitude at the amplifier terminals", xr(f), curves)
+    impedance_chart(job, "Input impedance magnitude at the amplifier terminals", "|Z| (Ω)", xr(f), curves)
 }
 
 fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {

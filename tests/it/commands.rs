@@ -8,7 +8,7 @@ use crate::util::{job_from, root, Cli};
 use voicekeep::analysis;
 use voicekeep::analysis::compensate::AlternativeKind;
 
-pub const SAMPLES: [&str; 7] = [
+pub const SAMPLES: [&str; 8] = [
     "samples/two-way-recap.yaml",
     "samples/three-way-mid-table.yaml",
     "samples/repair-like-for-like.yaml",
@@ -16,6 +16,7 @@ pub const SAMPLES: [&str; 7] = [
     "samples/substitute-tweeter.yaml",
     "samples/quote-three-options.yaml",
     "samples/pair-quote.yaml",
+    "samples/sweep-diagnosis.yaml",
 ];
 
 #[test]

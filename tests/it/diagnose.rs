@@ -103,7 +103,10 @@ fn a_part_with_no_effect_at_the_terminals_is_not_identifiable() {
     let e = estimate(&d, "C2", "esr");
     assert_eq!(e["identifiable"], false, "{e}");
     let why = e["reason"].as_str().unwrap();
-    assert!(why.starts_with("not identifiable from this sweep: its effect on the terminal impedance is below the sweep's residual") && why.ends_with("measure it on the bench"), "{why}");
+    assert!(
+        why.starts_with("not identifiable from this sweep: its effect on the terminal impedance is below the sweep's residual") && why.ends_with("measure it on the bench"),
+        "{why}"
+    );
     assert_eq!(estimate(&d, "C1", "value")["identifiable"], true);
 }
 
@@ -202,10 +205,58 @@ fn the_printed_model_block_is_one_the_job_file_takes() {
 fn mistakes_in_a_diagnosis_are_located_with_a_hint() {
     let job = format!("{}terminals: {{ as_found: s.csv, diagnose: [C9, C1.dcr] }}\n", reference());
     let o = Cli::new().job(&job).file("s.csv", &sweep_file("bw-c1-drifted.csv")).args(["check", "{job}"]).run();
-    o.code(1).stderr_has("terminals.diagnose[1]: there is no part or driver \"C9\" to estimate").stderr_has("terminals.diagnose[2]: C1 has no `dcr` to estimate").stderr_has("value, esr");
+    o.code(1)
+        .stderr_has("terminals.diagnose[1]: there is no part or driver \"C9\" to estimate")
+        .stderr_has("terminals.diagnose[2]: C1 has no `dcr` to estimate")
+        .stderr_has("value, esr");
     let none = format!("{}terminals: {{ diagnose: all }}\n", reference());
     Cli::new().job(&none).args(["check", "{job}"]).run().code(1).stderr_has("terminals.diagnose: a diagnosis needs the sweep as found");
     Cli::new().job(&reference()).args(["diagnose", "{job}"]).run().code(1).stderr_has("there is no sweep as found to diagnose from").stderr_has("hint:");
     let o = Cli::new().file("drv.csv", b"# flat\n10,6,0\n20,6,0\n40,6,0\n80,6,0\n160,6,0\n320,6,0\n640,6,0\n1280,6,0\n").args(["characterise", "{dir}/drv.csv"]).run();
     o.code(1).stderr_has("no resonance peak");
+}
+
+fn pdf_text(pdf: &std::path::Path) -> String {
+    let out = std::process::Command::new("pdftotext").arg(pdf).arg("-").output().unwrap();
+    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+#[test]
+fn the_reports_show_the_sweeps_at_the_terminals_each_to_its_reader() {
+    // samples/sweep-diagnosis.yaml: swept before (C1 drifted) and after (as designed).
+    let sample = "samples/sweep-diagnosis.yaml";
+    let o = Cli::new().args(["solve", sample, "--format", "json"]).run();
+    o.code(0);
+    let j: Value = serde_json::from_str(&o.stdout).unwrap();
+    assert_eq!(j["confirmation"]["as_found"]["verdict"], "over");
+    assert_eq!(j["confirmation"]["as_left"]["verdict"], "ok");
+    let text = |template: &str| {
+        let o = Cli::new().args(["report", sample, "--template", template, "-o", "{dir}/r.pdf"]).run();
+        o.code(0);
+        (pdf_text(&o.dir.join("r.pdf")), o.dir.join("r.pdf"))
+    };
+    let (archive, _) = text("archive");
+    let rms = j["confirmation"]["as_left"]["z_rms_pct"].as_f64().unwrap();
+    for want in [
+        "Sweeps at the terminals".to_string(),
+        "Before the work: the measured sweep departs from the prediction".into(),
+        format!("After the work: the measured sweep confirms the prediction: |Z| within {rms:.1} % RMS"),
+        "Diagnosis from the sweep as found".into(),
+        "Most likely drifted: C1, its value estimated at".into(),
+        "Impedance at the speaker's terminals: measured against calculated".into(),
+        "Estimates are never used as bench readings".into(),
+    ] {
+        assert!(archive.contains(&want), "archive: {want}");
+    }
+    let (customer, _) = text("customer");
+    assert!(
+        customer.contains(&format!("Measured at its terminals after the work, the speaker matches the calculation: its impedance is within {rms:.1} % of it on average")),
+        "{customer}"
+    );
+    assert!(customer.contains("measured against calculated"), "the owner sees the proof");
+    let (sale, _) = text("sale");
+    assert!(sale.contains("Measured at its terminals after the work") && !sale.contains("measured against calculated") && !sale.contains("Diagnosis"));
+    for plain in [&customer, &sale] {
+        assert!(!plain.contains("Most likely drifted") && !plain.contains("|Z|"));
+    }
 }

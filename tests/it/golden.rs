@@ -9,8 +9,9 @@ use serde_json::Value;
 
 use crate::util::{root, Cli};
 
-const JOBS: [&str; 13] = [
+const JOBS: [&str; 14] = [
     "samples/quote-three-options.yaml",
+    "samples/sweep-diagnosis.yaml",
     "samples/pair-quote.yaml",
     "samples/substitute-tweeter.yaml",
     "samples/two-way-recap.yaml",

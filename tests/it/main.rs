@@ -4,8 +4,8 @@
 mod analytic;
 mod bad;
 mod commands;
-mod fixtures;
 mod diagnose;
+mod fixtures;
 mod golden;
 mod nodal;
 mod options;

@@ -42,7 +42,8 @@ fn every_sample_renders_under_every_template_and_matches_solve() {
             let ohm = |v: &serde_json::Value| voicekeep::units::trade(&voicekeep::results::ohm(v.as_f64().unwrap())).replace(" Ω", "Ω");
             for cab in &cabinets {
                 for l in cab["levels"].as_array().unwrap() {
-                    let left = format!("{:+.2} dB", l["as_left_db"].as_f64().unwrap());
+                    // A level that rounds to zero prints as +0.00 dB, never as -0.00.
+                    let left = format!("{:+.2} dB", l["as_left_db"].as_f64().unwrap()).replace("-0.00 dB", "+0.00 dB");
                     assert!(text.contains(&left), "{sample} {template}: level {left} missing");
                 }
             }

@@ -231,6 +231,8 @@ pub struct ReportData {
     /// The photographs this report shows: all in the archive, those marked `customer` in the
     /// customer's report, none on the sale sheet.
     pub photos: Vec<service::PhotoData>,
+    /// The sweeps at the terminals: confirmation and diagnosis (None without a sweep).
+    pub terminals: Option<service::TerminalsData>,
 }
 
 /// The options side by side, each one's parts, and the recommendation.
@@ -337,6 +339,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::History => ("history", None, None),
         Block::Power => ("power", None, None),
         Block::Photos => ("photos", None, None),
+        Block::Terminals => ("terminals", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -378,6 +381,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         history: service::history(&c),
         power: service::power(&c),
         photos: service::photos(&c),
+        terminals: service::terminals(&c),
     };
 
     if let Some(ch) = &f.chosen {
@@ -447,6 +451,18 @@ pub(super) fn trade_units(d: &mut ReportData) {
         &mut d.history,
     ] {
         table(tb);
+    }
+    if let Some(x) = &mut d.terminals {
+        x.basis = t(&x.basis);
+        table(&mut x.table);
+        for s in &mut x.sentences {
+            *s = t(s);
+        }
+        if let Some(g) = &mut x.diagnosis {
+            g.basis = t(&g.basis);
+            g.sentence = t(&g.sentence);
+            table(&mut g.table);
+        }
     }
     if let Some(o) = &mut d.options {
         o.basis = t(&o.basis);

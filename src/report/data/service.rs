@@ -252,3 +252,117 @@ mod tests {
         assert_eq!(round_down_2(1200.0), 1200.0);
     }
 }
+
+/// The sweeps at the terminals: the prediction against each sweep, and the diagnosis from the
+/// sweep as found.
+#[derive(Debug, Serialize)]
+pub struct TerminalsData {
+    pub basis: String,
+    pub table: Table,
+    pub sentences: Vec<String>,
+    /// The archive's record of the diagnosis: what it was estimated from, the estimates, and
+    /// the finding.
+    pub diagnosis: Option<DiagnosisData>,
+}
+
+#[derive(Debug, Serialize)]
+pub struct DiagnosisData {
+    pub basis: String,
+    pub table: Table,
+    pub sentence: String,
+}
+
+pub(super) fn terminals(c: &Ctx) -> Option<TerminalsData> {
+    use crate::model::Scenario;
+    use crate::units::hz;
+    let f = c.f;
+    if f.confirmation.is_empty() {
+        return None;
+    }
+    let plain = c.audience.plain();
+    let when = |s: Scenario| if s == Scenario::AsLeft { "after the work" } else { "before the work" };
+    let mut sentences = Vec::new();
+    for k in &f.confirmation {
+        if plain {
+            // The owner and the buyer hear of the speaker as it left; the record keeps both.
+            if k.scenario != Scenario::AsLeft {
+                continue;
+            }
+            sentences.push(if k.verdict == crate::analysis::Verdict::Ok {
+                format!(
+                    "Measured at its terminals after the work, the speaker matches the calculation: its impedance is within {:.1} % of it on average (the shop's limit is {} %).",
+                    k.z_rms_pct,
+                    trim_number(k.limits.z_rms_pct, 3)
+                )
+            } else {
+                format!(
+                    "Measured at its terminals after the work, the speaker departs from the calculation by up to {:.0} % near {}: the shop checks the work again before the speaker goes back.",
+                    k.z_worst_pct.abs(),
+                    hz(Some(k.worst_hz))
+                )
+            });
+        } else {
+            sentences.push(format!("{}: {}.", capitalise(when(k.scenario)), k.reason));
+        }
+    }
+    let rows = f
+        .confirmation
+        .iter()
+        .map(|k| {
+            Row(vec![
+                k.scenario.label().into(),
+                format!("{} ({} points, {} to {})", k.file, k.points, hz(Some(k.from_hz)), hz(Some(k.to_hz))),
+                format!("{:.2} %", k.z_rms_pct),
+                format!("{:+.2} % at {}", k.z_worst_pct, hz(Some(k.worst_hz))),
+                format!("{:.2}°", k.phase_rms_deg),
+                k.verdict.name().into(),
+            ])
+        })
+        .collect();
+    let l = f.confirmation[0].limits;
+    let diagnosis = match (&f.diagnosis, c.audience) {
+        (Some(d), super::Audience::Archive) => Some(diagnosis(c, d)),
+        _ => None,
+    };
+    Some(TerminalsData {
+        basis: format!(
+            "the input impedance predicted from the parts' values and readings, at each sweep's points inside the analysis sweep, against the sweep measured at the terminals; |Z| errors in per cent of the measured |Z|; limits {} % RMS and {} % at worst for |Z|, {} degrees RMS for phase (common practice for a sound card with a sense resistor, or the job's)",
+            trim_number(l.z_rms_pct, 3),
+            trim_number(l.z_worst_pct, 3),
+            trim_number(l.phase_rms_deg, 3)
+        ),
+        table: Table::new(&["Scenario", "Sweep", "|Z| RMS error", "|Z| worst error", "Phase RMS error", "Verdict"], rows),
+        sentences,
+        diagnosis,
+    })
+}
+
+fn diagnosis(c: &Ctx, d: &Result<crate::analysis::diagnose::Diagnosis, String>) -> DiagnosisData {
+    use crate::analysis::diagnose::{field_words, value_text};
+    let d = match d {
+        Ok(d) => d,
+        Err(e) => return DiagnosisData { basis: String::new(), table: Table::new(&[], vec![]), sentence: format!("No diagnosis could be made from the sweep as found: {e}.") },
+    };
+    let net = &c.f.scenes.as_found.network;
+    let rows = d
+        .estimates
+        .iter()
+        .map(|e| {
+            let v = |x: f64| value_text(net, &e.part, &e.field, x);
+            let (interval, note) = if e.identifiable { (format!("{} to {}", v(e.low), v(e.high)), String::new()) } else { ("-".into(), e.reason.clone()) };
+            Row(vec![format!("{} {}", e.part, field_words(&e.field)), v(e.start), v(e.value), interval, note])
+        })
+        .collect();
+    DiagnosisData {
+        basis: format!(
+            "{}; residual {:.2} (|Z| {:.2} % RMS, phase {:.2} degrees RMS){}",
+            d.basis,
+            d.residual,
+            d.residual_z_pct,
+            d.residual_phase_deg,
+            if d.converged { "" } else { "; the fit stopped before it settled" }
+        ),
+        table: Table::new(&["Parameter", "On record", "Estimated", "95 % interval", "Note"], rows),
+        sentence: d.sentence.clone(),
+    }
+}
