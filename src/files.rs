@@ -23,11 +23,21 @@ pub trait Files: Sync {
 #[derive(Debug, Clone)]
 pub struct DiskFiles {
     base: PathBuf,
+    /// Whether a job may name files outside its folder (`--allow-outside`).
+    outside: bool,
 }
 
 impl DiskFiles {
+    /// The files of `base`, confined to it: an absolute path, `..` or a link that leads out
+    /// is refused.
     pub fn new(base: &Path) -> DiskFiles {
-        DiskFiles { base: base.to_path_buf() }
+        DiskFiles { base: base.to_path_buf(), outside: false }
+    }
+
+    /// The same, reading outside the folder too when `allow` is set.
+    pub fn allowing_outside(mut self, allow: bool) -> DiskFiles {
+        self.outside = allow;
+        self
     }
 
     /// The folder of the job file at `job`.
@@ -43,7 +53,22 @@ impl DiskFiles {
 impl Files for DiskFiles {
     fn read(&self, name: &str) -> Result<Vec<u8>, FileError> {
         let full = self.path_of(name);
-        std::fs::read(&full).map_err(|e| FileError { file: full.display().to_string(), reason: e.to_string() })
+        let fail = |reason: String| FileError { file: full.display().to_string(), reason };
+        if !self.outside {
+            // Where the path really leads, links followed, against the folder's own place.
+            let outside = || {
+                fail("it is outside the job's folder (an absolute path, `..` or a link that leads out); voicekeep reads only the files beside the job unless run with --allow-outside".into())
+            };
+            if Path::new(name).is_absolute() {
+                return Err(outside());
+            }
+            let base = std::fs::canonicalize(&self.base).map_err(|e| fail(e.to_string()))?;
+            let real = std::fs::canonicalize(&full).map_err(|e| fail(e.to_string()))?;
+            if !real.starts_with(&base) {
+                return Err(outside());
+            }
+        }
+        std::fs::read(&full).map_err(|e| fail(e.to_string()))
     }
 }
 

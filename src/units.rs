@@ -51,6 +51,24 @@ impl Quantity {
         }
     }
 
+    /// The range a value of this quantity can have in a passive loudspeaker job (its size
+    /// above zero; zero and the sign are judged where the field is read). Wide on purpose:
+    /// it refuses what cannot be physical (a 1e30 F capacitor, a 1e-15 ohm voice coil, a
+    /// 10 MHz sweep), not what is merely unusual.
+    pub fn plausible(self) -> (f64, f64, &'static str) {
+        match self {
+            Quantity::Capacitance => (1e-12, 1.0, "from 1 pF to 1 F"),
+            Quantity::Inductance => (1e-9, 10.0, "from 1 nH to 10 H"),
+            Quantity::Resistance => (1e-6, 1e7, "from 1 micro-ohm to 10 Mohm (0 ohm for a wire link)"),
+            Quantity::Power => (1e-3, 1e5, "from 1 mW to 100 kW"),
+            Quantity::Voltage => (1e-3, 1e5, "from 1 mV to 100 kV"),
+            Quantity::Current => (1e-3, 1e4, "from 1 mA to 10 kA"),
+            Quantity::Frequency => (0.1, 1e6, "from 0.1 Hz to 1 MHz"),
+            Quantity::Percent => (0.0, 1.0, "from 0 % to 100 %"),
+            Quantity::Decibel => (-300.0, 300.0, "from -300 dB to +300 dB"),
+        }
+    }
+
     /// A typical value, shown in messages.
     pub fn example(self) -> &'static str {
         match self {

@@ -33,6 +33,10 @@ and amplifier load, and writes a dated service report.\n\nStart with `voicekeep 
 pub struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Let a job read tables, photographs and templates outside its own folder (absolute
+    /// paths, `..`, links that lead out); by default they are refused
+    #[arg(long, global = true)]
+    allow_outside: bool,
 }
 
 #[derive(Subcommand, Debug)]
@@ -135,6 +139,7 @@ where
             return ExitCode::from(code);
         }
     };
+    OUTSIDE.store(cli.allow_outside, std::sync::atomic::Ordering::Relaxed);
     ExitCode::from(match cli.command {
         Command::Check { job } => check(&job),
         Command::Solve { job, format } => solve(&job, format),
@@ -160,8 +165,11 @@ fn out(text: &str) -> u8 {
     }
 }
 
+/// `--allow-outside`, set once at the start of a run.
+static OUTSIDE: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
 fn load(path: &Path) -> Result<Job, u8> {
-    job::load(path).map_err(|e| {
+    job::load_allowing(path, OUTSIDE.load(std::sync::atomic::Ordering::Relaxed)).map_err(|e| {
         eprintln!("{e}");
         match e {
             LoadError::Io { .. } => FAILURE,
@@ -383,6 +391,19 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Resu
     if *template == Template::Quote && !proposes {
         eprintln!("{}: a quotation offers work, and this job lists neither `options` nor `changes`", path.display());
         eprintln!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template (customer, archive, sale)");
+        return Err(PROBLEMS);
+    }
+    // The report never takes the place of the job or of anything it read.
+    let folder = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let same =
+        |a: &Path| match (std::fs::canonicalize(a), target.parent().filter(|p| !p.as_os_str().is_empty()).map(std::fs::canonicalize).unwrap_or_else(|| std::fs::canonicalize(".")))
+        {
+            (Ok(a), Ok(dir)) => target.file_name().is_some_and(|n| dir.join(n) == a),
+            _ => false,
+        };
+    if same(path) || job.inputs.iter().any(|i| same(&folder.join(&i.name))) {
+        eprintln!("{}: the report would overwrite {}, one of the job's own inputs", path.display(), target.display());
+        eprintln!("  hint: write the report elsewhere with -o, such as -o {}", path.with_extension("pdf").display());
         return Err(PROBLEMS);
     }
     let f = analyse(path, job)?;

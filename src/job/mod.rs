@@ -48,9 +48,17 @@ impl fmt::Display for LoadError {
     }
 }
 
+/// The largest job file voicekeep reads (a large three-way job is about 10 KB).
+pub const MAX_JOB_BYTES: usize = 1024 * 1024;
+
 /// Reads and validates the job file at `path`; its tables and template are read from its folder.
 pub fn load(path: &Path) -> Result<Job, LoadError> {
-    let files = DiskFiles::beside(path);
+    load_allowing(path, false)
+}
+
+/// As [`load`]; with `outside` the job may name files outside its folder.
+pub fn load_allowing(path: &Path, outside: bool) -> Result<Job, LoadError> {
+    let files = DiskFiles::beside(path).allowing_outside(outside);
     let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| path.display().to_string());
     load_with(&files, &name, &path.display().to_string())
 }
@@ -70,6 +78,11 @@ pub fn load_bytes(bytes: &[u8], display: &str, name: &str, base: &Path) -> Resul
 /// Validates job text held in memory, reading what it names from `files`.
 pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> Result<Job, LoadError> {
     let problems = |list: Vec<Diagnostic>, source: &str| LoadError::Problems(Problems { file: display.to_string(), source: source.to_string(), list });
+    if bytes.len() > MAX_JOB_BYTES {
+        let at = vec![Diagnostic::new(Pos::START, "", format!("the job file is {} KB, above the {} KB a job file may be", bytes.len() / 1024, MAX_JOB_BYTES / 1024))
+            .hint("a job file holds one speaker's network, readings and changes; tables and photographs go in files beside it")];
+        return Err(problems(at, ""));
+    }
     let text = match std::str::from_utf8(bytes) {
         Ok(t) => t,
         Err(e) => {

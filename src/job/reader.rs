@@ -8,6 +8,9 @@ use crate::job::yaml::{Key, Node};
 use crate::model::InputFile;
 use crate::units::{parse_value, Quantity};
 
+/// The longest text a field may hold (notes, sentences, names): a few pages.
+pub const MAX_TEXT_CHARS: usize = 20_000;
+
 pub struct Ctx<'a> {
     pub diags: Vec<Diagnostic>,
     /// Where the job's tables and template are read from.
@@ -99,6 +102,15 @@ impl<'a> Ctx<'a> {
 
     pub fn text(&mut self, node: &Node, path: &str) -> Option<String> {
         match node {
+            Node::Scalar { text, .. } if text.chars().count() > MAX_TEXT_CHARS => {
+                self.error(
+                    node.pos(),
+                    path,
+                    format!("this text is {} characters long, above the {MAX_TEXT_CHARS} a field may hold", text.chars().count()),
+                    Some("keep long notes in a file of the shop's own; a report field holds a few pages at most".into()),
+                );
+                None
+            }
             Node::Scalar { text, .. } => Some(text.clone()),
             _ => {
                 self.error(node.pos(), path, format!("expected text, found {}", node.kind_name()), None);
@@ -128,7 +140,26 @@ impl<'a> Ctx<'a> {
         }
         let text = self.text(node, path)?;
         match parse_value(&text, q) {
-            Ok(v) => Some(v),
+            Ok(v) if !v.is_finite() => {
+                self.error(node.pos(), path, format!("\"{text}\" is not a finite number"), Some(format!("write {} such as {}", q.noun(), q.example())));
+                None
+            }
+            Ok(v) => {
+                // Zero and negatives are judged by the field; a size outside what can be
+                // physical is refused here, with the range.
+                let (lo, hi, words) = q.plausible();
+                let size = if q == Quantity::Decibel { v } else { v.abs() };
+                if (size != 0.0 || q == Quantity::Decibel) && (size < lo || size > hi) {
+                    self.error(
+                        node.pos(),
+                        path,
+                        format!("\"{text}\" is not a plausible value for {}: voicekeep takes {words}", q.noun()),
+                        Some(format!("check the unit and its prefix (for example {})", q.example())),
+                    );
+                    return None;
+                }
+                Some(v)
+            }
             Err(e) => {
                 self.error(node.pos(), path, e.message, e.hint);
                 None

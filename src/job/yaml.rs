@@ -72,11 +72,16 @@ pub struct SyntaxError {
     pub message: String,
 }
 
+/// The deepest a job file nests lists and mappings (a job needs five or six levels).
+pub const MAX_DEPTH: usize = 32;
+
 #[derive(Default)]
 struct Builder {
     stack: Vec<Partial>,
     root: Option<Node>,
     error: Option<SyntaxError>,
+    /// Levels opened beyond [`MAX_DEPTH`], not built.
+    beyond: usize,
 }
 
 enum Partial {
@@ -114,6 +119,22 @@ impl Builder {
 impl MarkedEventReceiver for Builder {
     fn on_event(&mut self, ev: Event, mark: Marker) {
         let pos = Pos::from(mark);
+        // Nesting beyond the limit is refused at its first level and not built at all.
+        match ev {
+            Event::SequenceStart(..) | Event::MappingStart(..) if self.beyond > 0 || self.stack.len() >= MAX_DEPTH => {
+                if self.beyond == 0 && self.error.is_none() {
+                    self.error = Some(SyntaxError { pos, message: format!("lists and mappings nest deeper than the {MAX_DEPTH} levels a job file may use") });
+                }
+                self.beyond += 1;
+                return;
+            }
+            Event::SequenceEnd | Event::MappingEnd if self.beyond > 0 => {
+                self.beyond -= 1;
+                return;
+            }
+            _ if self.beyond > 0 => return,
+            _ => {}
+        }
         match ev {
             Event::Scalar(text, style, _, _) => {
                 let quoted = !matches!(style, TScalarStyle::Plain);

@@ -7,6 +7,7 @@ mod commands;
 mod diagnose;
 mod fixtures;
 mod golden;
+mod hostile;
 mod nodal;
 mod options;
 mod pair;

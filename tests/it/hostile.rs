@@ -1,0 +1,158 @@
+//! Hostile input: jobs no honest mistake would make, each of which must exit 1 within a
+//! second with a located, readable message and no panic; paths that leave the job's folder;
+//! a report that would overwrite its own inputs.
+
+use std::time::{Duration, Instant};
+
+use crate::util::{root, Cli};
+
+const BASE: &str = "voicekeep: 1
+job: { number: H-1, date: 2026-01-01 }
+amplifier: { power: 10 W, into: 8 ohm }
+network:
+  input: [IN, COM]
+  parts:
+    C1: { kind: capacitor, between: [IN, H1], value: 6.8 uF, esr: 0.1 ohm }
+    L1: { kind: inductor, between: [IN, W1], value: 0.47 mH, dcr: 0.2 ohm }
+  drivers:
+    HF: { role: tweeter, between: [H1, COM], model: { resistance: 8 ohm } }
+    LF: { role: woofer, between: [W1, COM], model: { re: 6 ohm, le: 0.5 mH } }
+analysis: { sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 } }
+";
+
+fn with(old: &str, new: &str) -> String {
+    assert!(BASE.contains(old), "{old}");
+    BASE.replacen(old, new, 1)
+}
+
+/// Each hostile job (with the table beside it, for some), and words its message must hold.
+type Case = (&'static str, Vec<u8>, Option<Vec<u8>>, &'static str);
+
+fn corpus() -> Vec<Case> {
+    let s = |t: String| t.into_bytes();
+    let deep = format!("{}extra: {}1{}\n", BASE, "[".repeat(40), "]".repeat(40));
+    let jobs: Vec<(&'static str, Vec<u8>, &'static str)> = vec![
+        ("empty file", Vec::new(), "missing `voicekeep: 1`"),
+        ("binary junk", (0u8..=255).cycle().take(4096).collect(), "not UTF-8"),
+        ("truncated YAML", BASE.as_bytes()[..BASE.len() / 2].to_vec(), "job.yaml:"),
+        ("only a scalar", b"hello".to_vec(), "job.yaml:"),
+        ("a list at the top", b"- a\n- b\n".to_vec(), "job.yaml:"),
+        ("tabs for indentation", s(BASE.replace("  input", "\tinput")), "YAML syntax"),
+        ("alias", s(format!("{BASE}x: &a [1, 2]\ny: *a\n")), "aliases"),
+        ("alias bomb", s(format!("{BASE}a: &a [x, x, x, x, x, x, x, x, x]\nb: &b [*a, *a, *a, *a, *a, *a, *a, *a, *a]\nc: &c [*b, *b, *b, *b, *b, *b, *b, *b, *b]\nd: [*c, *c, *c, *c, *c, *c, *c, *c, *c]\n")), "aliases"),
+        ("deep nesting", s(deep), "nest deeper"),
+        ("duplicate key", s(format!("{BASE}analysis: {{}}\n")), "twice"),
+        ("huge capacitor", s(with("value: 6.8 uF", "value: 1e30 F")), "not a plausible value for a capacitance"),
+        ("tiny capacitor", s(with("value: 6.8 uF", "value: 1e-20 F")), "from 1 pF to 1 F"),
+        ("tiny voice coil", s(with("re: 6 ohm", "re: 1e-15 ohm")), "not a plausible value for a resistance"),
+        ("huge inductor", s(with("value: 0.47 mH", "value: 5000 H")), "from 1 nH to 10 H"),
+        ("10 MHz sweep", s(with("to: 20 kHz", "to: 10 MHz")), "not a plausible value for a frequency"),
+        ("NaN value", s(with("value: 6.8 uF", "value: NaN uF")), "network.parts.C1.value"),
+        ("infinite value", s(with("value: 6.8 uF", "value: inf uF")), "network.parts.C1.value"),
+        ("negative inductance", s(with("value: 0.47 mH", "value: -0.47 mH")), "network.parts.L1.value"),
+        ("zero capacitance", s(with("value: 6.8 uF", "value: 0 uF")), "network.parts.C1.value"),
+        ("absurd amplifier", s(with("power: 10 W", "power: 1e12 W")), "not a plausible value for a power"),
+        ("number as a part", s(with("C1: { kind: capacitor, between: [IN, H1], value: 6.8 uF, esr: 0.1 ohm }", "C1: 42")), "network.parts.C1"),
+        ("list as a value", s(with("value: 6.8 uF", "value: [6.8 uF]")), "network.parts.C1.value"),
+        ("map as a date", s(with("date: 2026-01-01", "date: { y: 2026 }")), "job.date"),
+        ("wrong type for parts", s(with("  parts:\n", "  parts: [a, b]\n  old_parts:\n")), "network.parts"),
+        ("control characters in a reference", s(with("C1:", "C\u{7}1:")), "not a usable reference"),
+        ("unicode reference", s(with("C1:", "Ç1:")), "not a usable reference"),
+        ("unknown top-level key", s(format!("{BASE}netwrok: {{}}\n")), "netwrok"),
+        ("a node of one terminal only", s(with("between: [IN, W1]", "between: [IN, W9]")), "node W9 is touched by L1 alone"),
+        ("a part shorted on itself", s(with("between: [IN, H1]", "between: [IN, IN]")), "shorted out"),
+        ("a driver floating", s(with("between: [W1, COM], model", "between: [X1, X2], model")), "touched by"),
+        ("no drivers", s(with("    HF: { role: tweeter, between: [H1, COM], model: { resistance: 8 ohm } }\n    LF: { role: woofer, between: [W1, COM], model: { re: 6 ohm, le: 0.5 mH } }\n", "    {}\n")), "job.yaml:"),
+        ("remove a part twice", s(format!("{BASE}changes:\n  - remove: C1\n  - remove: C1\n")), "changes[2]"),
+        ("replace a missing part", s(format!("{BASE}changes:\n  - replace: C9\n    with: {{ value: 1 uF }}\n")), "C9"),
+        ("self-referencing insert", s(format!("{BASE}changes:\n  - insert:\n      C1: {{ kind: capacitor, between: [IN, H1], value: 1 uF }}\n")), "changes[1]"),
+        ("sweep of one point", s(with("from: 20 Hz, to: 20 kHz", "from: 1 kHz, to: 1 kHz")), "analysis.sweep"),
+        ("text of 30000 characters", s(with("number: H-1", &format!("number: H-1, work: \"{}\"", "x".repeat(30_000)))), "above the 20000 a field may hold"),
+        ("a job of 2 MB", s(format!("{BASE}# {}\n", "x".repeat(2 * 1024 * 1024))), "above the 1024 KB a job file may be"),
+        ("a 20 MB string", s(with("number: H-1", &format!("number: H-1, work: \"{}\"", "x".repeat(20 * 1024 * 1024)))), "above the 1024 KB"),
+        ("a bad date", s(with("date: 2026-01-01", "date: 2026-02-30")), "job.date"),
+        ("a wrong version", s(with("voicekeep: 1", "voicekeep: 99")), "voicekeep"),
+    ];
+    let mut v: Vec<Case> = jobs.into_iter().map(|(n, j, w)| (n, j, None, w)).collect();
+    // Tables: NaN, empty, duplicated and unsorted frequencies, binary junk.
+    let job = with("model: { resistance: 8 ohm }", "model: { table: mid.csv }").into_bytes();
+    for (name, table) in [
+        ("table with NaN", b"20,8,0\n200,NaN,0\n2000,8,0\n20000,8,0\n".to_vec()),
+        ("empty table", Vec::new()),
+        ("duplicated frequencies", b"20,8,0\n20,8,0\n2000,8,0\n20000,8,0\n".to_vec()),
+        ("unsorted frequencies", b"2000,8,0\n20,8,0\n20000,8,0\n".to_vec()),
+        ("binary table", (0u8..=255).collect()),
+    ] {
+        v.push((name, job.clone(), Some(table), "mid.csv"));
+    }
+    v
+}
+
+#[test]
+fn every_hostile_job_exits_1_quickly_with_a_located_message_and_no_panic() {
+    let corpus = corpus();
+    assert!(corpus.len() >= 40, "{} hostile jobs", corpus.len());
+    let mut wrong = Vec::new();
+    for (name, job, table, words) in &corpus {
+        let mut cli = Cli::new().file("job.yaml", job);
+        if let Some(t) = table {
+            cli = cli.file("mid.csv", t);
+        }
+        let started = Instant::now();
+        let o = cli.args(["check", "{job}"]).run();
+        let took = started.elapsed();
+        let located = o.stderr.contains("job.yaml:") || o.stderr.contains("mid.csv");
+        if took >= Duration::from_secs(1) || o.stderr.contains("panicked") || o.code != 1 || !o.stderr.contains(words) || !located {
+            wrong.push(format!("{name} ({took:?}, exit {}): want \"{words}\", got: {}", o.code, o.stderr.lines().next().unwrap_or("")));
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}
+
+#[test]
+fn a_table_outside_the_jobs_folder_is_refused_unless_allowed() {
+    let dir = tempfile::tempdir().unwrap();
+    let (inner, outer) = (dir.path().join("jobs"), dir.path().join("elsewhere"));
+    std::fs::create_dir_all(&inner).unwrap();
+    std::fs::create_dir_all(&outer).unwrap();
+    let table = "20,8,0\n200,8,0\n2000,8,0\n20000,8,0\n";
+    std::fs::write(outer.join("mid.csv"), table).unwrap();
+    #[cfg(unix)]
+    std::os::unix::fs::symlink(outer.join("mid.csv"), inner.join("link.csv")).unwrap();
+    let abs = outer.join("mid.csv").display().to_string();
+    for (how, name) in [("absolute", abs.as_str()), ("parent", "../elsewhere/mid.csv"), ("symlink", "link.csv")] {
+        let job = inner.join(format!("{how}.yaml"));
+        std::fs::write(&job, with("model: { resistance: 8 ohm }", &format!("model: {{ table: \"{name}\" }}"))).unwrap();
+        let run = |extra: &[&str]| {
+            let mut c = std::process::Command::new(env!("CARGO_BIN_EXE_voicekeep"));
+            c.args(extra).arg("check").arg(&job);
+            c.output().unwrap()
+        };
+        let o = run(&[]);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(1), "{how}: {err}");
+        assert!(err.contains("outside the job's folder") && err.contains("--allow-outside") && err.contains("network.drivers.HF.model.table"), "{how}: {err}");
+        let o = run(&["--allow-outside"]);
+        assert_eq!(o.status.code(), Some(0), "{how} allowed: {}", String::from_utf8_lossy(&o.stderr));
+    }
+    // A file beside the job is read as always.
+    std::fs::write(inner.join("mid.csv"), table).unwrap();
+    let job = inner.join("beside.yaml");
+    std::fs::write(&job, with("model: { resistance: 8 ohm }", "model: { table: mid.csv }")).unwrap();
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_voicekeep")).arg("check").arg(&job).output().unwrap();
+    assert_eq!(o.status.code(), Some(0));
+}
+
+#[test]
+fn a_report_never_overwrites_the_job_or_its_inputs() {
+    let text = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    for target in ["{job}", "{dir}/job.yaml"] {
+        let o = Cli::new().job(&text).args(["report", "{job}", "-o", target]).run();
+        o.code(1).stderr_has("would overwrite").stderr_has("hint:");
+        assert_eq!(std::fs::read_to_string(o.dir.join("job.yaml")).unwrap(), text, "the job is untouched");
+    }
+    let job = with("model: { resistance: 8 ohm }", "model: { table: mid.csv }");
+    let o = Cli::new().job(&job).file("mid.csv", b"20,8,0\n200,8,0\n2000,8,0\n20000,8,0\n").args(["report", "{job}", "-o", "{dir}/mid.csv"]).run();
+    o.code(1).stderr_has("would overwrite");
+    assert_eq!(std::fs::read(o.dir.join("mid.csv")).unwrap(), b"20,8,0\n200,8,0\n2000,8,0\n20000,8,0\n");
+}
