@@ -19,6 +19,8 @@ pub const Z_SIGMA: f64 = 0.01;
 pub const PHASE_SIGMA_DEG: f64 = 1.0;
 /// 1.96: the two-sided 95 % point of the normal distribution.
 const Z95: f64 = 1.959_964;
+/// A fit whose residual is this many times a rig's noise does not describe the sweep.
+pub const MISFIT: f64 = 5.0;
 /// Two estimates correlated beyond this cannot be told apart by the sweep.
 pub const CORRELATION_LIMIT: f64 = 0.95;
 /// An estimate whose 95 % interval spans more than this factor either way is not a finding.
@@ -449,7 +451,17 @@ pub fn diagnose(network: &Network, amp: &Amplifier, sweep: &ImpedanceTable, para
     let m = idx.len() as f64;
     let zs: f64 = r.iter().step_by(2).map(|v| (v * Z_SIGMA * 100.0).powi(2)).sum::<f64>() / m;
     let ps: f64 = r.iter().skip(1).step_by(2).map(|v| (v * PHASE_SIGMA_DEG).powi(2)).sum::<f64>() / m;
-    let mut sentence = finding(network, &estimates);
+    // A residual far above a rig's noise means the network cannot make this sweep at all:
+    // the sweep is of another speaker, or the network is wrong, or more than the suspects
+    // has changed. No part is named from such a fit.
+    let mut sentence = if rms > MISFIT {
+        format!(
+            "The sweep does not fit this network (a residual of {rms:.0} times a rig's noise, |Z| off by {:.0} % RMS even at the best values of the suspects): check that the sweep is of this speaker at its terminals and that the network is right, or name more suspects; no part can be named from it.",
+            zs.sqrt()
+        )
+    } else {
+        finding(network, &estimates)
+    };
     if !converged {
         sentence.push_str(" The fit stopped before it settled: treat these estimates with caution, or name fewer suspects.");
     }

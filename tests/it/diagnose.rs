@@ -260,3 +260,19 @@ fn the_reports_show_the_sweeps_at_the_terminals_each_to_its_reader() {
         assert!(!plain.contains("Most likely drifted") && !plain.contains("|Z|"));
     }
 }
+
+#[test]
+fn a_sweep_of_another_speaker_names_no_part() {
+    // The three-way sample's sweep is not this network's: the residual is many times the
+    // noise, and the finding says so instead of naming a part.
+    let job = format!("{}terminals: {{ as_found: s.csv, diagnose: [C1] }}\n", reference());
+    let mut other = String::from("# a different speaker\n");
+    let mut f = 20.0f64;
+    while f <= 20_000.0 {
+        other.push_str(&format!("{f},{},0\n", 3.0 + 20.0 / (1.0 + (f / 60.0 - 60.0 / f).powi(2))));
+        f *= 2f64.powf(1.0 / 12.0);
+    }
+    let d = diagnose(&job, "s.csv", other.as_bytes());
+    let s = d["sentence"].as_str().unwrap();
+    assert!(num(&d, "residual") > 5.0 && s.starts_with("The sweep does not fit this network") && s.ends_with("no part can be named from it."), "{s}");
+}
