@@ -12,6 +12,9 @@ use crate::job::yaml::Node;
 use crate::model::*;
 use crate::units::Quantity;
 
+/// The most parts a network may have.
+pub const MAX_PARTS: usize = 500;
+
 const JOB_KEYS: &[&str] =
     &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service", "terminals"];
 
@@ -370,6 +373,14 @@ fn network(node: &Node, ctx: &mut Ctx) -> Option<RawNetwork> {
                 }
             }
         }
+    }
+    if parts.len() > MAX_PARTS {
+        ctx.error(
+            f.pos,
+            &f.at("parts"),
+            format!("{} parts, above the {MAX_PARTS} a network may have", parts.len()),
+            Some("a passive crossover has tens of parts; check that this is one speaker's network".into()),
+        );
     }
     let mut drivers = Vec::new();
     if let Some(n) = ctx.req(&f, "drivers", "at least one driver") {

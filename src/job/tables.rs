@@ -7,6 +7,9 @@ use crate::job::reader::Ctx;
 use crate::model::{ImpedanceTable, InputFile, PriceItem, PriceList, ResponseTable};
 use crate::units::Quantity;
 
+/// The most rows a table may have (a sweep of 100 points per decade over four decades is 400).
+pub const MAX_TABLE_ROWS: usize = 100_000;
+
 impl Ctx<'_> {
     /// A shop's price list: a CSV with the header `kind,value,rating,type,unit_price` and one
     /// stock item a line (`#` comments); values and ratings with their units, as in the job.
@@ -136,6 +139,16 @@ impl Ctx<'_> {
         let (node, path) = (r, r.field.as_str());
         let (name, text) = self.read_file(r)?;
         let mut cols: [Vec<f64>; 3] = Default::default();
+        let rows = text.lines().filter(|l| !l.split('#').next().unwrap_or("").trim().is_empty()).count();
+        if rows > MAX_TABLE_ROWS {
+            self.error(
+                node.pos,
+                path,
+                format!("{name} has {rows} rows, above the {MAX_TABLE_ROWS} a table may have"),
+                Some("a sweep of a few hundred points per decade is plenty; thin it out".into()),
+            );
+            return None;
+        }
         for (i, line) in text.lines().enumerate() {
             let line = line.split('#').next().unwrap_or("").trim();
             if line.is_empty() {

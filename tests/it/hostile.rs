@@ -72,6 +72,7 @@ fn corpus() -> Vec<Case> {
         ("a 20 MB string", s(with("number: H-1", &format!("number: H-1, work: \"{}\"", "x".repeat(20 * 1024 * 1024)))), "above the 1024 KB"),
         ("a bad date", s(with("date: 2026-01-01", "date: 2026-02-30")), "job.date"),
         ("a wrong version", s(with("voicekeep: 1", "voicekeep: 99")), "voicekeep"),
+        ("600 parts", s(with("  parts:\n", &format!("  parts:\n{}", (0..600).map(|i| format!("    R{i}: {{ kind: resistor, between: [IN, H1], value: 1 ohm }}\n")).collect::<String>()))), "above the 500 a network may have"),
     ];
     let mut v: Vec<Case> = jobs.into_iter().map(|(n, j, w)| (n, j, None, w)).collect();
     // Tables: NaN, empty, duplicated and unsorted frequencies, binary junk.
@@ -82,6 +83,7 @@ fn corpus() -> Vec<Case> {
         ("duplicated frequencies", b"20,8,0\n20,8,0\n2000,8,0\n20000,8,0\n".to_vec()),
         ("unsorted frequencies", b"2000,8,0\n20,8,0\n20000,8,0\n".to_vec()),
         ("binary table", (0u8..=255).collect()),
+        ("a table of 200,000 rows", (0..200_000).map(|i| format!("{},8,0\n", 20.0 + i as f64 * 0.1)).collect::<String>().into_bytes()),
     ] {
         v.push((name, job.clone(), Some(table), "mid.csv"));
     }
