@@ -55,6 +55,12 @@ pub fn job_of(job: &Job, o: &JobOption) -> Job {
     j.compensate = o.compensate.clone();
     j.options.clear();
     j.analysis.tolerance = None;
+    // The sweeps at the terminals are of the speaker, not of an option: neither confirmed
+    // nor diagnosed again for each option.
+    j.terminals = Default::default();
+    for c in &mut j.cabinets {
+        c.terminals = Default::default();
+    }
     j
 }
 
