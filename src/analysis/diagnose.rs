@@ -5,8 +5,10 @@
 //! covariance (J'J)^-1 scaled by the residual variance) and a judgement of whether the sweep
 //! can tell it at all. Also Small's model fitted to a driver's own impedance sweep.
 
-use levenberg_marquardt::{LeastSquaresProblem, LevenbergMarquardt};
-use nalgebra::{DMatrix, DVector, Dyn, VecStorage, U1};
+use levenberg_marquardt::LevenbergMarquardt;
+use nalgebra::DMatrix;
+
+use crate::analysis::logfit::{jacobian, LogFit};
 
 use crate::analysis::input_impedances;
 use crate::model::{Amplifier, DriverModel, ImpedanceTable, Network, PartKind, Resonance, VoiceCoilInductance};
@@ -21,6 +23,9 @@ pub const PHASE_SIGMA_DEG: f64 = 1.0;
 const Z95: f64 = 1.959_964;
 /// A fit whose residual is this many times a rig's noise does not describe the sweep.
 pub const MISFIT: f64 = 5.0;
+/// A weak pull of each logarithm toward its start (this weight per factor of e), so a
+/// parameter the sweep cannot see stays where it was rather than wandering off.
+const PRIOR: f64 = 0.03;
 /// Two estimates correlated beyond this cannot be told apart by the sweep.
 pub const CORRELATION_LIMIT: f64 = 0.95;
 /// An estimate whose 95 % interval spans more than this factor either way is not a finding.
@@ -182,64 +187,6 @@ pub fn params_of(net: &Network, t: &crate::model::terminals::Terminals) -> Vec<P
     out
 }
 
-/// A least-squares fit over the logarithms of its parameters.
-struct LogFit<'a> {
-    /// The weighted residuals at the given logarithms (None if they cannot be computed).
-    residuals: &'a dyn Fn(&[f64]) -> Option<Vec<f64>>,
-    x: DVector<f64>,
-    /// A weak pull of each logarithm toward its start (weight [`PRIOR`] per factor of e), so
-    /// a parameter the data cannot see stays where it was rather than wandering off.
-    start: Vec<f64>,
-}
-
-const PRIOR: f64 = 0.03;
-
-impl LogFit<'_> {
-    fn all(&self, x: &[f64]) -> Option<Vec<f64>> {
-        let mut r = (self.residuals)(x)?;
-        r.extend(x.iter().zip(&self.start).map(|(a, b)| PRIOR * (a - b)));
-        Some(r)
-    }
-}
-
-impl LeastSquaresProblem<f64, Dyn, Dyn> for LogFit<'_> {
-    type ResidualStorage = VecStorage<f64, Dyn, U1>;
-    type JacobianStorage = VecStorage<f64, Dyn, Dyn>;
-    type ParameterStorage = VecStorage<f64, Dyn, U1>;
-
-    fn set_params(&mut self, x: &DVector<f64>) {
-        self.x.copy_from(x);
-    }
-
-    fn params(&self) -> DVector<f64> {
-        self.x.clone()
-    }
-
-    fn residuals(&self) -> Option<DVector<f64>> {
-        self.all(self.x.as_slice()).map(DVector::from_vec)
-    }
-
-    fn jacobian(&self) -> Option<DMatrix<f64>> {
-        jacobian(&|x| self.all(x), self.x.as_slice())
-    }
-}
-
-/// Forward differences in the logarithms (a step of 1e-6, a millionth of the value).
-fn jacobian(f: &dyn Fn(&[f64]) -> Option<Vec<f64>>, x: &[f64]) -> Option<DMatrix<f64>> {
-    let base = f(x)?;
-    let mut j = DMatrix::zeros(base.len(), x.len());
-    let h = 1e-6;
-    for k in 0..x.len() {
-        let mut xk = x.to_vec();
-        xk[k] += h;
-        let r = f(&xk)?;
-        for (i, (a, b)) in r.iter().zip(&base).enumerate() {
-            j[(i, k)] = (a - b) / h;
-        }
-    }
-    Some(j)
-}
-
 /// One estimate: the value, its 95 % interval, and whether the sweep can tell it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Estimate {
@@ -327,7 +274,7 @@ type Solution = (Vec<f64>, Vec<f64>, DMatrix<f64>, bool);
 
 fn solve(residuals: &dyn Fn(&[f64]) -> Option<Vec<f64>>, start: &[f64]) -> Result<Solution, String> {
     let x0: Vec<f64> = start.iter().map(|v| v.ln()).collect();
-    let problem = LogFit { residuals, x: DVector::from_vec(x0.clone()), start: x0 };
+    let problem = LogFit::new(residuals, x0, PRIOR);
     let (done, report) = LevenbergMarquardt::new().with_patience(200).minimize(problem);
     if !report.termination.was_successful() && report.number_of_evaluations == 0 {
         return Err(format!("the fit did not start: {:?}", report.termination));

@@ -11,6 +11,7 @@ pub mod eseries;
 pub mod health;
 pub mod levels;
 pub mod load;
+pub mod logfit;
 pub mod options;
 pub mod pair;
 pub mod power;

@@ -8,8 +8,9 @@ pub use alternatives::{Alternative, AlternativeKind};
 
 use std::cell::RefCell;
 
-use levenberg_marquardt::{LeastSquaresProblem, LevenbergMarquardt};
-use nalgebra::{DMatrix, DVector, Dyn, VecStorage, U1};
+use levenberg_marquardt::LevenbergMarquardt;
+
+use crate::analysis::logfit::LogFit;
 use num_complex::Complex64;
 
 use crate::analysis::eseries::{best_e12_pair, round_to};
@@ -260,49 +261,6 @@ fn minimise(lo: f64, hi: f64, mut f: impl FnMut(f64) -> Result<f64, SolveError>)
     Ok(if f(lo)? <= f(x)? { lo } else { x })
 }
 
-/// Levenberg-Marquardt (MINPACK's, from the levenberg-marquardt crate) over the logarithms
-/// of the search parameters, for fits of several resistors whose effects are coupled (a
-/// series and shunt pair): coordinate descent crawls along such a valley.
-struct Joint<'a, 'b> {
-    fit: &'b Fitter<'a>,
-    x: DVector<f64>,
-}
-
-impl LeastSquaresProblem<f64, Dyn, Dyn> for Joint<'_, '_> {
-    type ResidualStorage = VecStorage<f64, Dyn, U1>;
-    type JacobianStorage = VecStorage<f64, Dyn, Dyn>;
-    type ParameterStorage = VecStorage<f64, Dyn, U1>;
-
-    fn set_params(&mut self, x: &DVector<f64>) {
-        self.x.copy_from(x);
-    }
-
-    fn params(&self) -> DVector<f64> {
-        self.x.clone()
-    }
-
-    fn residuals(&self) -> Option<DVector<f64>> {
-        let p: Vec<f64> = self.x.iter().map(|v| v.exp()).collect();
-        self.fit.set_all(&p);
-        self.fit.residuals().ok().map(DVector::from_vec)
-    }
-
-    fn jacobian(&self) -> Option<DMatrix<f64>> {
-        let base = self.residuals()?;
-        let mut j = DMatrix::zeros(base.len(), self.x.len());
-        for k in 0..self.x.len() {
-            let h = 1e-6;
-            let mut x = self.x.clone();
-            x[k] += h;
-            let p: Vec<f64> = x.iter().map(|v| v.exp()).collect();
-            self.fit.set_all(&p);
-            let r = DVector::from_vec(self.fit.residuals().ok()?);
-            j.set_column(k, &((r - &base) / h));
-        }
-        Some(j)
-    }
-}
-
 /// What the compensation works from: the job's entries, the design's drivers, the change
 /// steps and the amplifier, the sweep and bands, and the scenes already solved.
 pub struct Context<'a> {
@@ -375,8 +333,16 @@ fn solve_exact(fit: &Fitter, excess: &[f64]) -> Result<Vec<f64>, SolveError> {
     }
     if n > 1 && exact.iter().zip(excess).all(|(p, e)| *p > 0.0 || *e < -0.005) {
         let before = fit.sum_sq()?;
-        let x0 = DVector::from_iterator(n, exact.iter().map(|p| p.max(1e-12).ln()));
-        let (solved, _report) = LevenbergMarquardt::new().minimize(Joint { fit, x: x0 });
+        // Levenberg-Marquardt over the logarithms of the search parameters, for fits of
+        // several resistors whose effects are coupled (a series and shunt pair): coordinate
+        // descent crawls along such a valley.
+        let x0: Vec<f64> = exact.iter().map(|p| p.max(1e-12).ln()).collect();
+        let residuals = |x: &[f64]| {
+            let p: Vec<f64> = x.iter().map(|v| v.exp()).collect();
+            fit.set_all(&p);
+            fit.residuals().ok()
+        };
+        let (solved, _report) = LevenbergMarquardt::new().minimize(LogFit::new(&residuals, x0, 0.0));
         let p: Vec<f64> = solved.x.iter().map(|v| v.exp()).collect();
         fit.set_all(&p);
         if fit.sum_sq()? < before {
