@@ -121,10 +121,13 @@ pub fn read_impedance_table(path: &Path) -> Result<crate::model::ImpedanceTable,
     let t = ctx.impedance_table(&r);
     match t {
         Some(t) if ctx.diags.is_empty() => Ok(t),
+        // No job here: a hint about the job's folder would mislead.
         _ => Err(ctx
             .diags
             .iter()
-            .map(|d| format!("{}: {}{}", path.display(), d.message, d.hint.as_ref().map(|h| format!("\n  hint: {h}")).unwrap_or_default()))
+            .map(|d| {
+                format!("{}: {}{}", path.display(), d.message, d.hint.as_ref().filter(|h| !h.contains("job file's folder")).map(|h| format!("\n  hint: {h}")).unwrap_or_default())
+            })
             .collect::<Vec<_>>()
             .join("\n")),
     }

@@ -214,6 +214,9 @@ fn mistakes_in_a_diagnosis_are_located_with_a_hint() {
     Cli::new().job(&reference()).args(["diagnose", "{job}"]).run().code(1).stderr_has("there is no sweep as found to diagnose from").stderr_has("hint:");
     let o = Cli::new().file("drv.csv", b"# flat\n10,6,0\n20,6,0\n40,6,0\n80,6,0\n160,6,0\n320,6,0\n640,6,0\n1280,6,0\n").args(["characterise", "{dir}/drv.csv"]).run();
     o.code(1).stderr_has("no resonance peak");
+    let o = Cli::new().args(["characterise", "{dir}/missing.csv"]).run();
+    o.code(1).stderr_has("cannot read table file").stderr_has("missing.csv");
+    assert!(!o.stderr.contains("job file's folder"), "no job here: {}", o.stderr);
 }
 
 fn pdf_text(pdf: &std::path::Path) -> String {
