@@ -14,6 +14,12 @@ use crate::units::Quantity;
 
 /// The most parts a network may have.
 pub const MAX_PARTS: usize = 500;
+/// The most drivers a network may have.
+pub const MAX_DRIVERS: usize = 32;
+/// The most nodes a network may join (the input's two among them).
+pub const MAX_NODES: usize = 500;
+/// The most steps one list of changes (the job's, a cabinet's, an option's) may hold.
+pub const MAX_STEPS: usize = 200;
 
 const JOB_KEYS: &[&str] =
     &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service", "terminals"];
@@ -94,6 +100,15 @@ fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>>
         ctx.error(node.pos(), field, format!("expected a list of steps (- replace: C1 ...), found {}", node.kind_name()), None);
         return Vec::new();
     };
+    if items.len() > MAX_STEPS {
+        ctx.error(
+            node.pos(),
+            field,
+            format!("{} steps, above the {MAX_STEPS} one list of changes may hold", items.len()),
+            Some("a re-cap replaces each part once; check that this is one speaker's work".into()),
+        );
+        return Vec::new();
+    }
     let mut out = Vec::new();
     for (i, item) in items.iter().enumerate() {
         let number = i + 1;
@@ -401,6 +416,25 @@ fn network(node: &Node, ctx: &mut Ctx) -> Option<RawNetwork> {
         if drivers.is_empty() && matches!(n, Node::Map { entries, .. } if entries.is_empty()) {
             ctx.error(n.pos(), &f.at("drivers"), "no drivers: the network must drive at least one", None);
         }
+        if drivers.len() > MAX_DRIVERS {
+            ctx.error(
+                n.pos(),
+                &f.at("drivers"),
+                format!("{} drivers, above the {MAX_DRIVERS} a network may have", drivers.len()),
+                Some("a passive speaker has a handful of drivers; check that this is one speaker's network".into()),
+            );
+        }
+    }
+    let mut nodes: std::collections::BTreeSet<&str> = input.iter().flatten().map(String::as_str).collect();
+    nodes.extend(parts.iter().flat_map(|p| p.between.iter().map(String::as_str)));
+    nodes.extend(drivers.iter().flat_map(|d| d.between.iter().map(String::as_str)));
+    if nodes.len() > MAX_NODES {
+        ctx.error(
+            f.pos,
+            "network",
+            format!("{} nodes, above the {MAX_NODES} a network may join", nodes.len()),
+            Some("a passive crossover joins tens of nodes; check that this is one speaker's network".into()),
+        );
     }
     Some(RawNetwork { input: input?, input_pos: f.key_pos("input").unwrap_or(f.pos), parts, drivers })
 }

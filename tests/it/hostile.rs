@@ -72,6 +72,9 @@ fn corpus() -> Vec<Case> {
         ("a 20 MB string", s(with("number: H-1", &format!("number: H-1, work: \"{}\"", "x".repeat(20 * 1024 * 1024)))), "above the 1024 KB"),
         ("a bad date", s(with("date: 2026-01-01", "date: 2026-02-30")), "job.date"),
         ("a wrong version", s(with("voicekeep: 1", "voicekeep: 99")), "voicekeep"),
+        ("40 drivers", s(with("  drivers:\n", &format!("  drivers:\n{}", (0..40).map(|i| format!("    D{i}: {{ role: woofer, between: [W1, COM], model: {{ resistance: 8 ohm }} }}\n")).collect::<String>()))), "42 drivers, above the 32"),
+        ("600 nodes", s(with("  parts:\n", &format!("  parts:\n{}", (0..300).map(|i| format!("    R{i}: {{ kind: resistor, between: [A{i}, B{i}], value: 1 ohm }}\n")).collect::<String>()))), "nodes, above the 500 a network may join"),
+        ("250 change steps", s(format!("{BASE}changes:\n{}", "  - replace: C1\n    with: { value: 6.8 uF }\n".repeat(250))), "250 steps, above the 200"),
         ("600 parts", s(with("  parts:\n", &format!("  parts:\n{}", (0..600).map(|i| format!("    R{i}: {{ kind: resistor, between: [IN, H1], value: 1 ohm }}\n")).collect::<String>()))), "above the 500 a network may have"),
     ];
     let mut v: Vec<Case> = jobs.into_iter().map(|(n, j, w)| (n, j, None, w)).collect();
