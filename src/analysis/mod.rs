@@ -168,6 +168,7 @@ impl AnalysisError {
                 let parts: &[String] = match e {
                     SolveError::Floating { parts, .. } | SolveError::Singular { parts, .. } => parts,
                     SolveError::Internal(_) => &[],
+                    SolveError::IllConditioned { parts, .. } => parts,
                 };
                 let left = job.as_left_unsolved().ok();
                 let place = parts.iter().find_map(|p| {
@@ -175,6 +176,10 @@ impl AnalysisError {
                     pos.map(|pos| (pos, p.clone()))
                 });
                 let (pos, field) = place.map(|(pos, p)| (pos, format!("network.{p}"))).unwrap_or((job.network.input_pos, "network".into()));
+                let hint = match e {
+                    SolveError::IllConditioned { .. } => "check the values of the two parts named: one far outside its usual range (a micro-ohm link beside a megohm part, a farad capacitor) is usually a slip of prefix or unit",
+                    _ => hint,
+                };
                 Diagnostic::new(pos, field, format!("{}: {e}", s.label())).hint(hint)
             }
             AnalysisError::Step(e) => Diagnostic::new(if e.pos == Pos::default() { Pos::START } else { e.pos }, format!("changes[{}]", e.number), e.message.clone()),

@@ -124,7 +124,18 @@ fn peaks_pass(c: &Circuit, grid: &[f64], weights: &[f64]) -> Result<Vec<Peaks>, 
         |i, point| match point {
             Ok(p) => {
                 let w = weights[i];
-                p.each_element(c, |k, v2, i2, power| peaks[k].add(i, v2, i2, power, w));
+                let mut taken = 0.0;
+                p.each_element(c, |k, v2, i2, power| {
+                    taken += power;
+                    peaks[k].add(i, v2, i2, power, w)
+                });
+                // Tellegen: the power drawn equals the power the parts take, for any exact
+                // solution. Where rounding has eaten the answer, the two part.
+                let drawn = (p.v(c.input) * p.i_in().conj()).re;
+                let mismatch = (drawn - taken).abs() / drawn.abs().max(taken.abs()).max(1e-300);
+                if !(mismatch <= engine::POWER_BALANCE) && first_error.is_none() {
+                    first_error = Some(ill_conditioned(c, grid[i], mismatch));
+                }
             }
             Err(e) => {
                 first_error.get_or_insert(e);
@@ -135,6 +146,15 @@ fn peaks_pass(c: &Circuit, grid: &[f64], weights: &[f64]) -> Result<Vec<Peaks>, 
         Some(e) => Err(e),
         None => Ok(peaks),
     }
+}
+
+/// The finding for a solution that fails the power balance at `f_hz`: the elements of
+/// smallest and largest finite, non-zero impedance there.
+fn ill_conditioned(c: &Circuit, f_hz: f64, mismatch: f64) -> SolveError {
+    let sized: Vec<(f64, &str)> = c.elements.iter().map(|e| (e.model.impedance(f_hz).norm(), e.name.as_str())).filter(|(z, _)| z.is_finite() && *z > 0.0).collect();
+    let least = sized.iter().copied().fold((f64::INFINITY, ""), |a, b| if b.0 < a.0 { b } else { a });
+    let most = sized.iter().copied().fold((0.0, ""), |a, b| if b.0 > a.0 { b } else { a });
+    SolveError::IllConditioned { f_hz, mismatch, parts: vec![least.1.to_string(), most.1.to_string()], ohms: vec![least.0, most.0] }
 }
 
 /// Each driver's level (dB re the EMF, network order) at every point of `freqs`: for a

@@ -45,9 +45,20 @@ pub enum SolveError {
     /// The matrix is singular at this frequency (a short across the source, a loop of
     /// zero-impedance parts).
     Singular { f_hz: f64, nodes: Vec<String>, parts: Vec<String> },
+    /// The solution is not accurate: the power the network draws and the power its parts
+    /// take differ by `mismatch` (a fraction) at `f_hz`, where sound arithmetic agrees to
+    /// about 1e-12. `parts` are the elements of smallest and largest impedance there, whose
+    /// ratio `spread` is what rounding cannot carry.
+    IllConditioned { f_hz: f64, mismatch: f64, parts: Vec<String>, ohms: Vec<f64> },
     /// A broken invariant of voicekeep's own, never a problem in the job.
     Internal(String),
 }
+
+/// The largest relative difference between the power a solution draws and the power its
+/// parts take that voicekeep accepts. Tellegen's theorem makes the two equal for any exact
+/// solution; on the samples they agree to 1e-12 or better, and at 1e-5 every figure printed
+/// (four significant digits, levels to 0.01 dB) is still right.
+pub const POWER_BALANCE: f64 = 1e-5;
 
 impl fmt::Display for SolveError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
@@ -68,6 +79,18 @@ impl fmt::Display for SolveError {
                 nodes.join(", "),
                 parts.join(", ")
             ),
+            SolveError::IllConditioned { f_hz, mismatch, parts, ohms } => {
+                let sized: Vec<String> = parts.iter().zip(ohms).map(|(p, z)| format!("{p} at {}", crate::units::format_si(*z, crate::units::Quantity::Resistance, 2))).collect();
+                let spread = ohms.iter().copied().fold(0.0, f64::max) / ohms.iter().copied().fold(f64::INFINITY, f64::min);
+                write!(
+                    f,
+                    "the network is too ill-conditioned to solve accurately at {} Hz: the power it draws and the power its parts take differ by {:.1e} of the whole, where a sound solution agrees to 1e-12; its impedances there span a factor of {:.0e} ({}), more than double-precision arithmetic carries",
+                    crate::units::trim_number(*f_hz, 4),
+                    mismatch,
+                    spread,
+                    sized.join(" and ")
+                )
+            }
             SolveError::Internal(m) => write!(f, "internal error: {m}; please report this"),
         }
     }

@@ -161,3 +161,36 @@ fn a_report_never_overwrites_the_job_or_its_inputs() {
     o.code(1).stderr_has("would overwrite");
     assert_eq!(std::fs::read(o.dir.join("mid.csv")).unwrap(), b"20,8,0\n200,8,0\n2000,8,0\n20000,8,0\n");
 }
+
+#[test]
+fn an_ill_conditioned_network_is_refused_and_explained_and_a_sound_one_beside_it_solved() {
+    // A micro-ohm link feeding a 10 Mohm load: the current through the link is the difference
+    // of two voltages equal to 1 part in 1e13, which double precision (about 1e-16) holds to
+    // only 3 digits. Tellegen's theorem (power drawn = power taken, for any exact solution)
+    // shows it.
+    let net = |link: &str, load: &str| {
+        format!(
+            "voicekeep: 1\njob: {{ number: I-1, date: 2026-01-01 }}\namplifier: {{ power: 10 W, into: 8 ohm }}\nnetwork:\n  input: [IN, COM]\n  parts:\n    R1: {{ kind: resistor, between: [IN, A], value: {link} }}\n  drivers:\n    HF: {{ role: tweeter, between: [A, COM], model: {{ resistance: {load} }} }}\nanalysis: {{ sweep: {{ from: 20 Hz, to: 20 kHz, per_octave: 3 }} }}\n"
+        )
+    };
+    for command in ["solve", "report"] {
+        let o = Cli::new().job(&net("1 uohm", "10 Mohm")).args([command, "{job}"]).run();
+        o.code(1)
+            .stderr_has("job.yaml:7:5: network.R1")
+            .stderr_has("too ill-conditioned to solve accurately")
+            .stderr_has("R1 at 1 uohm and HF at 10 Mohm")
+            .stderr_has("slip of prefix");
+        assert!(!o.dir.join("job.pdf").exists(), "{command} wrote a report");
+    }
+    // A milliohm link into the same load: conditioned well enough, and right. The input
+    // impedance is the series sum, 10 Mohm + 1 mohm, by Ohm's law.
+    let o = Cli::new().job(&net("1 mohm", "10 Mohm")).args(["solve", "{job}", "--format", "json"]).run();
+    o.code(0);
+    let v: serde_json::Value = serde_json::from_str(&o.stdout).unwrap();
+    for z in v["scenarios"]["as_designed"]["impedance"]["ohm"].as_array().unwrap() {
+        let z = z.as_f64().unwrap();
+        assert!((z - (10e6 + 1e-3)).abs() <= 1e-5 * 10e6, "|Z| {z}");
+    }
+    // The same link into a driver of 8 ohm: the samples' kind of network.
+    Cli::new().job(&net("1 uohm", "8 ohm")).args(["solve", "{job}"]).run().code(0);
+}
