@@ -266,6 +266,9 @@ pub fn parse_value(text: &str, quantity: Quantity) -> Result<f64, ValueError> {
         if factor != 1.0 {
             return Err(ValueError { message: expected(), hint: Some(format!("{} takes no SI prefix", quantity.symbol())) });
         }
+        if !number.is_finite() {
+            return Err(ValueError { message: format!("{} is not a finite number", t), hint: None });
+        }
         return Ok(if quantity == Quantity::Percent { number / 100.0 } else { number });
     }
     let value = number * factor;
