@@ -118,17 +118,68 @@ fn template_error(world: &dyn World, diags: &[typst::diag::SourceDiagnostic]) ->
     ReportError::Template { messages }
 }
 
-/// Writes `bytes` to `path` through a temporary file in the same folder (tempfile's), synced
-/// and then renamed over `path`: a reader never sees half a file, an existing file is replaced
-/// only whole, and a failure removes the temporary file.
+/// Writes `bytes` to `path` so that `path` only ever holds its old contents or all of the new,
+/// and an interrupted run (a crash, Ctrl-C, SIGKILL, a full disk) leaves no partial file
+/// behind. On Linux the bytes go to an unnamed file in the target's folder (`O_TMPFILE`),
+/// which vanishes with the process if it dies; once written and synced it is linked under a
+/// temporary name and renamed over `path`. Elsewhere, or where the folder's file system
+/// has no unnamed files, tempfile's named temporary file is written and renamed instead, and
+/// a failure removes it.
 pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    use std::io::Write;
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    #[cfg(target_os = "linux")]
+    if let Some(done) = unnamed::write(dir, path, bytes) {
+        return done;
+    }
     let mut tmp = tempfile::Builder::new().prefix(".voicekeep-").suffix(".tmp").tempfile_in(dir)?;
-    tmp.write_all(bytes)?;
+    write_paced(tmp.as_file_mut(), bytes)?;
     tmp.as_file().sync_all()?;
     tmp.persist(path).map_err(|e| e.error)?;
     Ok(())
+}
+
+/// Writes all of `bytes`. A test hook: with `VOICEKEEP_TEST_WRITE_PAUSE_MS` set, the write
+/// goes in 16 pieces with that pause after each, announced on stderr, so that a test can
+/// kill the process while the report is being written (tests/it/interrupted.rs).
+fn write_paced(file: &mut std::fs::File, bytes: &[u8]) -> std::io::Result<()> {
+    use std::io::Write;
+    let Some(ms) = std::env::var("VOICEKEEP_TEST_WRITE_PAUSE_MS").ok().and_then(|v| v.parse::<u64>().ok()) else {
+        return file.write_all(bytes);
+    };
+    eprintln!("voicekeep: writing the report in pieces (VOICEKEEP_TEST_WRITE_PAUSE_MS)");
+    for piece in bytes.chunks(bytes.len().div_ceil(16).max(1)) {
+        file.write_all(piece)?;
+        file.flush()?;
+        std::thread::sleep(std::time::Duration::from_millis(ms));
+    }
+    Ok(())
+}
+
+#[cfg(target_os = "linux")]
+mod unnamed {
+    use std::os::fd::AsRawFd;
+    use std::path::Path;
+
+    use rustix::fs::{linkat, openat, AtFlags, Mode, OFlags, CWD};
+
+    /// None when the folder cannot hold an unnamed file (or /proc is missing), so the caller
+    /// falls back to a named one; otherwise the outcome of the write.
+    pub(super) fn write(dir: &Path, path: &Path, bytes: &[u8]) -> Option<std::io::Result<()>> {
+        let fd = openat(CWD, dir, OFlags::WRONLY | OFlags::TMPFILE | OFlags::CLOEXEC, Mode::from_raw_mode(0o644)).ok()?;
+        let mut file = std::fs::File::from(fd);
+        if let Err(e) = super::write_paced(&mut file, bytes).and_then(|_| file.sync_all()) {
+            return Some(Err(e));
+        }
+        // A name of its own for the moment between link and rename; one left by a run
+        // killed in that moment is a whole earlier report, replaced here.
+        let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+        let staged = dir.join(format!(".{name}.voicekeep-new"));
+        let _ = std::fs::remove_file(&staged);
+        linkat(CWD, format!("/proc/self/fd/{}", file.as_raw_fd()), CWD, &staged, AtFlags::SYMLINK_FOLLOW).ok()?;
+        Some(std::fs::rename(&staged, path).inspect_err(|_| {
+            let _ = std::fs::remove_file(&staged);
+        }))
+    }
 }
 
 #[cfg(test)]
@@ -143,8 +194,8 @@ mod tests {
         write_atomically(&p, b"first").unwrap();
         write_atomically(&p, b"second").unwrap();
         assert_eq!(std::fs::read(&p).unwrap(), b"second");
-        let left: Vec<_> = std::fs::read_dir(&dir).unwrap().filter_map(|e| e.ok()).filter(|e| e.file_name().to_string_lossy().ends_with(".tmp")).collect();
-        assert!(left.is_empty());
+        let left: Vec<_> = std::fs::read_dir(&dir).unwrap().filter_map(|e| e.ok()).map(|e| e.file_name()).collect();
+        assert_eq!(left, [std::ffi::OsString::from("r.pdf")], "nothing but the report is left");
         assert!(write_atomically(&dir.join("no-such-dir/r.pdf"), b"x").is_err());
         std::fs::remove_dir_all(&dir).unwrap();
     }

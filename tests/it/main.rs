@@ -8,6 +8,7 @@ mod diagnose;
 mod fixtures;
 mod golden;
 mod hostile;
+mod interrupted;
 mod nodal;
 mod options;
 mod pair;
