@@ -133,7 +133,7 @@ fn peaks_pass(c: &Circuit, grid: &[f64], weights: &[f64]) -> Result<Vec<Peaks>, 
                 // solution. Where rounding has eaten the answer, the two part.
                 let drawn = (p.v(c.input) * p.i_in().conj()).re;
                 let mismatch = (drawn - taken).abs() / drawn.abs().max(taken.abs()).max(1e-300);
-                if !(mismatch <= engine::POWER_BALANCE) && first_error.is_none() {
+                if (mismatch > engine::POWER_BALANCE || mismatch.is_nan()) && first_error.is_none() {
                     first_error = Some(ill_conditioned(c, grid[i], mismatch));
                 }
             }

@@ -39,7 +39,7 @@ fn starter_jobs_pass_check() {
 
 /// The contract checks: the project's copy (which the project extends as keys are added),
 /// and the shared original when it is beside the checkout.
-fn contract_scripts() -> Vec<PathBuf> {
+pub(crate) fn contract_scripts() -> Vec<PathBuf> {
     let shared = root().join("../shared/checks/json-contract.py");
     let mut out = vec![root().join("tests/contract/json-contract.py")];
     if shared.exists() {

@@ -194,3 +194,38 @@ fn an_ill_conditioned_network_is_refused_and_explained_and_a_sound_one_beside_it
     // The same link into a driver of 8 ohm: the samples' kind of network.
     Cli::new().job(&net("1 uohm", "8 ohm")).args(["solve", "{job}"]).run().code(0);
 }
+
+#[test]
+fn near_misses_at_the_edges_of_the_plausible_ranges_solve_to_finite_results() {
+    // Each value at an end of its range is accepted, and what `solve` prints keeps the JSON
+    // contract, whose check asserts every number finite.
+    let cases = [
+        ("a 1 F capacitor", "value: 6.8 uF", "value: 1 F"),
+        ("a 1 pF capacitor", "value: 6.8 uF", "value: 1 pF"),
+        ("a 10 H inductor", "value: 0.47 mH", "value: 10 H"),
+        ("a 1 nH inductor", "value: 0.47 mH", "value: 1 nH"),
+        ("no ESR", "esr: 0.1 ohm", "esr: 0 ohm"),
+        ("a micro-ohm DCR", "dcr: 0.2 ohm", "dcr: 1 uohm"),
+        ("a 10 Mohm driver", "resistance: 8 ohm", "resistance: 10 Mohm"),
+        ("a 0.1 Hz to 1 MHz sweep", "from: 20 Hz, to: 20 kHz, per_octave: 6", "from: 0.1 Hz, to: 1 MHz, per_octave: 1"),
+        ("a 100 kW amplifier", "power: 10 W", "power: 100 kW"),
+        ("a 1 mW amplifier", "power: 10 W", "power: 1 mW"),
+    ];
+    let mut wrong = Vec::new();
+    for (name, old, new) in cases {
+        let o = Cli::new().job(&with(old, new)).args(["solve", "{job}", "--format", "json"]).run();
+        if o.code != 0 {
+            wrong.push(format!("{name}: exit {}: {}", o.code, o.stderr.lines().next().unwrap_or("")));
+            continue;
+        }
+        let file = o.dir.join("results.json");
+        std::fs::write(&file, &o.stdout).unwrap();
+        for script in crate::commands::contract_scripts() {
+            let check = std::process::Command::new("python3").arg(&script).arg(&file).output().expect("python3 runs the contract check");
+            if !check.status.success() {
+                wrong.push(format!("{name}: {}", String::from_utf8_lossy(&check.stdout)));
+            }
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}
