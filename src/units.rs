@@ -21,6 +21,19 @@ pub enum Quantity {
 }
 
 impl Quantity {
+    /// Every quantity a job's values take.
+    pub const ALL: [Quantity; 9] = [
+        Quantity::Capacitance,
+        Quantity::Inductance,
+        Quantity::Resistance,
+        Quantity::Power,
+        Quantity::Voltage,
+        Quantity::Current,
+        Quantity::Frequency,
+        Quantity::Percent,
+        Quantity::Decibel,
+    ];
+
     /// The unit symbol used when printing values of this quantity.
     pub fn symbol(self) -> &'static str {
         match self {

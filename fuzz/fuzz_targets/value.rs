@@ -4,21 +4,9 @@
 use libfuzzer_sys::fuzz_target;
 use voicekeep::units::{parse_value, Quantity};
 
-const ALL: [Quantity; 9] = [
-    Quantity::Capacitance,
-    Quantity::Inductance,
-    Quantity::Resistance,
-    Quantity::Power,
-    Quantity::Voltage,
-    Quantity::Current,
-    Quantity::Frequency,
-    Quantity::Percent,
-    Quantity::Decibel,
-];
-
 fuzz_target!(|data: &[u8]| {
     let Ok(text) = std::str::from_utf8(data) else { return };
-    for q in ALL {
+    for q in Quantity::ALL {
         match parse_value(text, q) {
             Ok(v) => assert!(v.is_finite(), "{text:?} read as {v} ({q:?})"),
             // The message quotes what was written, so a written "NaN" may appear in it.
