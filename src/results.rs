@@ -523,7 +523,14 @@ fn compensation_text(s: &mut String, _job: &Job, f: &Findings) {
         } else {
             let _ = writeln!(s, "  fit {} = {} ({}{}) {}", c.part, ohm(c.fitted_ohm), c.series.name(), rating, c.placement);
         }
-        let exact = if c.exact_ohm.is_finite() { ohm(c.exact_ohm) } else { "open".to_string() };
+        // Where no resistor can raise the driver, the search's bound is no value to print.
+        let exact = if c.cannot_raise {
+            "none".to_string()
+        } else if c.exact_ohm.is_finite() {
+            ohm(c.exact_ohm)
+        } else {
+            "open".to_string()
+        };
         let _ = writeln!(
             s,
             "    exact {exact}; {} matches {} over {}-{} within {:.3} dB RMS (worst {}){}",

@@ -65,6 +65,11 @@ fn quantity_of(k: PartKind) -> (Quantity, Quantity) {
     }
 }
 
+/// A part that is bought: not a resistor the work leaves out (0 ohm, a wire link; or open).
+fn bought(p: &Part) -> bool {
+    !(p.kind == PartKind::Resistor && (p.value == 0.0 || p.value.is_infinite()))
+}
+
 /// The line for one fitted part: its value as left, and the rating it needs (the job's, or
 /// the one chosen for `rating: auto`).
 fn part_line(p: &Part, series: Option<String>, rating_w: impl Fn(&str) -> Option<f64>) -> Line {
@@ -98,12 +103,12 @@ fn lines_of(job: &Job, changes: &[crate::model::Change], left: &crate::model::Ne
     for c in changes {
         match &c.step {
             ChangeStep::Replace { target, with: Patch::Part(_) } | ChangeStep::Insert { part: Part { name: target, .. }, .. } => {
-                if let Some(p) = left.part(target) {
+                if let Some(p) = left.part(target).filter(|p| bought(p)) {
                     out.push(part_line(p, series(target), rating_w));
                 }
             }
             ChangeStep::Add { parts } => {
-                for p in parts.iter().filter_map(|p| left.part(&p.name)) {
+                for p in parts.iter().filter_map(|p| left.part(&p.name)).filter(|p| bought(p)) {
                     out.push(part_line(p, series(&p.name), rating_w));
                 }
             }

@@ -219,10 +219,7 @@ fn mistakes_in_a_diagnosis_are_located_with_a_hint() {
     assert!(!o.stderr.contains("job file's folder"), "no job here: {}", o.stderr);
 }
 
-fn pdf_text(pdf: &std::path::Path) -> String {
-    let out = std::process::Command::new("pdftotext").arg(pdf).arg("-").output().unwrap();
-    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
-}
+use crate::util::pdf_words as pdf_text;
 
 #[test]
 fn the_reports_show_the_sweeps_at_the_terminals_each_to_its_reader() {

@@ -227,3 +227,31 @@ fn qts_with_one_of_qms_and_qes_gives_the_other_and_disagreement_is_an_error() {
     assert!(bad("model: { re: 6 ohm, fs: 900 Hz, qts: 1.4, qes: 1.3 }").contains("qts must be below qes"));
     assert!(bad("model: { re: 6 ohm, fs: 900 Hz, qts: 0.5, qes: 1.3, qms: 3 }").contains("does not agree with qms 3 and qes 1.3"));
 }
+
+#[test]
+fn an_l_pad_that_cannot_help_a_quieter_substitute_is_not_bought_nor_said_to_be_fitted() {
+    // The substitute sample with a substitute 5.5 dB less sensitive than the original (92.5
+    // dB against 98): the L-pad's series arm is a wire link, its shunt is left open, and
+    // neither is a part to buy. Found by the job_solve fuzz target ("inf ohm" on the list).
+    let job = std::fs::read_to_string(crate::util::root().join("samples/substitute-tweeter.yaml")).unwrap();
+    let job = job.replacen("sensitivity: 90 dB", "sensitivity: 98 dB", 1);
+    let o = Cli::new().job(&job).args(["solve", "{job}"]).run();
+    o.code(0);
+    let bought = o.stdout.split("PARTS TO BUY").nth(1).expect("a parts list");
+    assert!(!bought.contains("(R7)") && !bought.contains("(R8)") && !bought.contains("inf"), "{bought}");
+    assert!(!o.stdout.contains("exact 1 pohm") && !o.stdout.contains("Mohm;"), "the search's bounds are no values:\n{}", o.stdout);
+    let j = Cli::new().job(&job).args(["solve", "{job}", "--format", "json"]).run();
+    let v: Value = serde_json::from_str(&j.stdout).unwrap();
+    let names: Vec<String> = v["parts"].as_array().unwrap().iter().flat_map(|l| l["parts"].as_array().unwrap().iter().map(|p| p.as_str().unwrap().to_string())).collect();
+    assert_eq!(names, ["HF"], "only the driver is bought");
+    for (template, want, never) in [
+        ("customer", "R8 was planned in the tweeter's filter but not fitted: no resistor could bring the level back up.", "the level matched without it"),
+        ("archive", "R8 is left out (a wire link in its place)", "It is fitted so HF plays"),
+    ] {
+        let r = Cli::new().job(&job).args(["report", "{job}", "--template", template, "-o", "{dir}/r.pdf"]).run();
+        r.code(0);
+        let flat = crate::util::pdf_words(&r.dir.join("r.pdf"));
+        assert!(flat.contains(want), "{template}: {flat}");
+        assert!(!flat.contains(never) && !flat.contains("auto,") && !flat.contains(" inf "), "{template}: {flat}");
+    }
+}

@@ -12,6 +12,12 @@ pub fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
 
+/// A report's words as pdftotext reads them, on one line with single spaces.
+pub fn pdf_words(pdf: &Path) -> String {
+    let out = Command::new("pdftotext").arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
+    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
 pub fn job_from(yaml: &str) -> voicekeep::model::Job {
     voicekeep::job::load_bytes(yaml.as_bytes(), "t.yaml", "t.yaml", Path::new(".")).unwrap_or_else(|e| panic!("{e}"))
 }

@@ -196,7 +196,10 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
         .fits
         .iter()
         .map(|fit| {
-            let rating = rating_of(&fit.part).map(|(w, chosen)| format!("{} W{}", trim_number(w, 3), if chosen { " (chosen)" } else { "" })).unwrap_or_else(|| "-".into());
+            let rating = rating_of(&fit.part)
+                .filter(|_| !fit.is_none())
+                .map(|(w, chosen)| format!("{} W{}", trim_number(w, 3), if chosen { " (chosen)" } else { "" }))
+                .unwrap_or_else(|| "-".into());
             let fitted = if fit.fault {
                 "fault".to_string()
             } else if fit.fitted_ohm.is_infinite() {
@@ -209,7 +212,13 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
             Row(vec![
                 fit.part.clone(),
                 fit.driver.clone(),
-                if fit.exact_ohm.is_finite() { ohm(fit.exact_ohm) } else { "open".into() },
+                if fit.cannot_raise {
+                    "none".into()
+                } else if fit.exact_ohm.is_finite() {
+                    ohm(fit.exact_ohm)
+                } else {
+                    "open".into()
+                },
                 fitted,
                 fit.series.name().to_string(),
                 format!("{:.3} dB", fit.residual_db),
@@ -219,6 +228,21 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
         })
         .collect();
     for fit in &f.compensation.fits {
+        if fit.is_none() && !fit.fault {
+            let left = if fit.fitted_ohm.is_infinite() { "left out (nothing across it)" } else { "left out (a wire link in its place)" };
+            notes.push(if fit.cannot_raise {
+                format!(
+                    "{} is {left}: {} already plays {:.2} dB below its {} level, and no resistor can raise it.",
+                    fit.part,
+                    fit.driver,
+                    -fit.excess_db,
+                    fit.reference.adjective()
+                )
+            } else {
+                format!("{} is {left}: {} plays at its {} level without it.", fit.part, fit.driver, fit.reference.adjective())
+            });
+            continue;
+        }
         notes.push(format!(
             "{} goes {}. It is fitted so {} plays at its {} level over {} - {}{}.",
             fit.part,

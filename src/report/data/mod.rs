@@ -282,8 +282,9 @@ pub fn part_text(p: &Part) -> String {
         Some(crate::model::Fault::Shorted) => return "shorted".into(),
         None => {}
     }
-    let v = if p.auto_value && p.value == 0.0 {
-        "auto".to_string()
+    // Reports show solved networks: an `auto` resistor at 0 ohm is the fit's wire link.
+    let v = if p.kind == PartKind::Resistor && p.auto_value && p.value == 0.0 {
+        "not fitted (a wire link)".to_string()
     } else if p.value.is_infinite() {
         "not fitted (open)".to_string()
     } else {

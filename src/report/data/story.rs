@@ -182,8 +182,9 @@ pub(super) fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, inser
     let fitted = net_left.part(&part.name).unwrap_or(part);
     let fit = c.f.compensation.fits.iter().find(|f| f.part == part.name);
     if plain {
-        if fit.is_some_and(|f| f.is_none()) {
-            return format!("{} was planned in {} but was not needed: the level matched without it.", part.name, part_place(net_left, &part.name));
+        if let Some(f) = fit.filter(|f| f.is_none()) {
+            let why = if f.cannot_raise { "no resistor could bring the level back up" } else { "the level matched without it" };
+            return format!("{} was planned in {} but not fitted: {why}.", part.name, part_place(net_left, &part.name));
         }
         let why = fit.map(|f| format!(" to bring {} back to its original level", driver_words(net_left, &f.driver))).unwrap_or_default();
         return format!("Fitted {}, {}, in {}{why}.", part.name, fitted_words(c, fitted), part_place(net_left, &part.name));

@@ -42,6 +42,10 @@ pub(super) fn kind_noun(kind: PartKind) -> &'static str {
 
 /// A part's rating as the trade writes it, from the job or as voicekeep chose it.
 pub(super) fn rating_text(c: &Ctx, p: &Part) -> Option<String> {
+    // A resistor left out (a wire link, or open) carries no rating.
+    if p.kind == PartKind::Resistor && (p.value == 0.0 || p.value.is_infinite()) {
+        return None;
+    }
     match p.rating {
         Rating::Given(v) => Some(match p.kind {
             PartKind::Resistor => format!("{} W", trim_number(v, 3)),
