@@ -131,8 +131,10 @@ fn peaks_pass(c: &Circuit, grid: &[f64], weights: &[f64]) -> Result<Vec<Peaks>, 
                 });
                 // Tellegen: the power drawn equals the power the parts take, for any exact
                 // solution. Where rounding has eaten the answer, the two part.
+                // Measured against the source's apparent power (1 V EMF times the current
+                // it gives), so a shorted input, which draws next to nothing, is no miss.
                 let drawn = (p.v(c.input) * p.i_in().conj()).re;
-                let mismatch = (drawn - taken).abs() / drawn.abs().max(taken.abs()).max(1e-300);
+                let mismatch = (drawn - taken).abs() / drawn.abs().max(taken.abs()).max(p.i_in().norm()).max(1e-300);
                 if (mismatch > engine::POWER_BALANCE || mismatch.is_nan()) && first_error.is_none() {
                     first_error = Some(ill_conditioned(c, grid[i], mismatch));
                 }

@@ -218,6 +218,19 @@ fn network(raw: RawNetwork, ctx: &mut Ctx) -> Network {
             _ => ctx.failed.push(d.name),
         }
     }
+    // A wire link straight across the terminals shorts the amplifier: the engine would solve
+    // it (into the amplifier's output impedance), but nothing after it would mean anything.
+    for p in &raw.parts {
+        let across = (p.between[0] == raw.input[0] && p.between[1] == raw.input[1]) || (p.between[0] == raw.input[1] && p.between[1] == raw.input[0]);
+        if across && p.kind == PartKind::Resistor && p.value == 0.0 && !p.auto_value && p.fault.is_none() {
+            ctx.error(
+                p.pos,
+                &format!("network.parts.{}", p.name),
+                format!("{} is a wire link (0 ohm) straight across the amplifier's terminals: it would short the amplifier", p.name),
+                Some("check its `between` nodes or its value".into()),
+            );
+        }
+    }
     Network { input: raw.input, input_pos: raw.input_pos, labels: Default::default(), parts: raw.parts, drivers }
 }
 

@@ -60,6 +60,7 @@ fn corpus() -> Vec<Case> {
         ("unicode reference", s(with("C1:", "Ç1:")), "not a usable reference"),
         ("unknown top-level key", s(format!("{BASE}netwrok: {{}}\n")), "netwrok"),
         ("a node of one terminal only", s(with("between: [IN, W1]", "between: [IN, W9]")), "node W9 is touched by L1 alone"),
+        ("a wire link across the terminals", s(with("L1: { kind: inductor", "R0: { kind: resistor, between: [COM, IN], value: 0 ohm }\n    L1: { kind: inductor")), "straight across the amplifier's terminals"),
         ("a part shorted on itself", s(with("between: [IN, H1]", "between: [IN, IN]")), "shorted out"),
         ("a driver floating", s(with("between: [W1, COM], model", "between: [X1, X2], model")), "touched by"),
         ("no drivers", s(with("    HF: { role: tweeter, between: [H1, COM], model: { resistance: 8 ohm } }\n    LF: { role: woofer, between: [W1, COM], model: { re: 6 ohm, le: 0.5 mH } }\n", "    {}\n")), "job.yaml:"),
