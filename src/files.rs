@@ -68,6 +68,12 @@ impl Files for DiskFiles {
                 return Err(outside());
             }
         }
+        // Only regular files: a pipe or a device would block the read or never end.
+        match std::fs::metadata(&full) {
+            Ok(m) if !m.is_file() => return Err(fail(if m.is_dir() { "it is a folder, not a file".into() } else { "it is not a regular file (a pipe, socket or device)".into() })),
+            Err(e) => return Err(fail(e.to_string())),
+            Ok(_) => {}
+        }
         std::fs::read(&full).map_err(|e| fail(e.to_string()))
     }
 }

@@ -8,7 +8,12 @@ use std::fmt;
 pub struct Money(pub i64);
 
 impl Money {
-    /// "12", "12.3" or "12.30" (a point, at most two decimals, not negative); None otherwise.
+    /// The largest price or rate a job may give: a thousand million, so that no sum of a
+    /// job's lines can come near the count's limit.
+    pub const MAX: Money = Money(1_000_000_000_00);
+
+    /// "12", "12.3" or "12.30" (a point, at most two decimals, not negative, at most
+    /// [`Money::MAX`]); None otherwise.
     pub fn parse(text: &str) -> Option<Money> {
         let t = text.trim();
         let (whole, frac) = t.split_once('.').unwrap_or((t, ""));
@@ -17,18 +22,26 @@ impl Money {
         }
         let w: i64 = whole.parse().ok()?;
         let f: i64 = if frac.is_empty() { 0 } else { format!("{frac:0<2}").parse().ok()? };
-        w.checked_mul(100)?.checked_add(f).map(Money)
+        w.checked_mul(100)?.checked_add(f).map(Money).filter(|m| *m <= Money::MAX)
     }
 
     pub fn times(self, n: u32) -> Option<Money> {
         self.0.checked_mul(n as i64).map(Money)
     }
 
-    /// The labour at this hourly rate for `hours` (taken to the hundredth of an hour), exact,
-    /// rounded half up to the hundredth; None if it overflows.
+    /// The labour at this hourly rate for `hours`, exact, rounded half up to the hundredth;
+    /// None if it overflows. The hours are taken as the decimal the job wrote (Rust prints
+    /// a float as the shortest decimal that reads back to it: 0.333333 stays 0.333333).
     pub fn for_hours(self, hours: f64) -> Option<Money> {
-        let centi_hours = (hours * 100.0).round() as i64;
-        self.0.checked_mul(centi_hours).and_then(|c| c.checked_add(50)).map(|c| Money(c.div_euclid(100)))
+        if !(hours.is_finite() && hours >= 0.0) {
+            return None;
+        }
+        let text = hours.to_string();
+        let (whole, frac) = text.split_once('.').unwrap_or((&text, ""));
+        let scale = 10i128.checked_pow(frac.len() as u32)?;
+        let digits: i128 = format!("{whole}{frac}").parse().ok()?;
+        let hundredths = (self.0 as i128).checked_mul(digits)?;
+        i64::try_from((2 * hundredths + scale) / (2 * scale)).ok().map(Money)
     }
 
     pub fn plus(self, other: Money) -> Option<Money> {
@@ -82,6 +95,15 @@ mod tests {
         assert_eq!(rate("44.00").for_hours(1.5).unwrap().to_string(), "66.00");
         assert_eq!(rate("42.50").for_hours(1.25).unwrap().to_string(), "53.13");
         assert_eq!(rate("33.33").for_hours(0.1).unwrap().to_string(), "3.33");
+        // 48.00 x 0.333333 h = 15.999984 -> 16.00 (not 0.33 h's 15.84); 48.00 x 1.999 h =
+        // 95.952 -> 95.95; 48.00 x 0.004 h = 0.192 -> 0.19; 42.50 x 0.15 h = 6.375 -> 6.38.
+        assert_eq!(rate("48.00").for_hours(0.333333).unwrap().to_string(), "16.00");
+        assert_eq!(rate("48.00").for_hours(1.999).unwrap().to_string(), "95.95");
+        assert_eq!(rate("48.00").for_hours(0.004).unwrap().to_string(), "0.19");
+        assert_eq!(rate("42.50").for_hours(0.15).unwrap().to_string(), "6.38");
+        assert_eq!(Money::parse("1000000000.00"), Some(Money::MAX));
+        assert_eq!(Money::parse("1000000000.01"), None, "above the largest price");
+        assert_eq!(Money::parse("92233720368547758.07"), None);
         assert_eq!(Money(i64::MAX / 10).for_hours(200.0), None, "overflow is refused, not wrapped");
     }
 }

@@ -90,8 +90,16 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
             return Err(problems(vec![Diagnostic::new(Pos { line, col: 1 }, "", "the file is not UTF-8 text").hint("save the job file as UTF-8")], ""));
         }
     };
-    let root = yaml::parse(text)
-        .map_err(|e| problems(vec![Diagnostic::new(e.pos, "", format!("YAML syntax: {}", e.message)).hint("check indentation (spaces, not tabs), colons and brackets")], text))?;
+    // A byte-order mark, as some editors write, is not part of the first key.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let root = yaml::parse(text).map_err(|e| {
+        let hint = if e.message.starts_with("a second YAML document") {
+            "remove the `---` line and what follows it, or put it in a job file of its own"
+        } else {
+            "check indentation (spaces, not tabs), colons and brackets"
+        };
+        problems(vec![Diagnostic::new(e.pos, "", format!("YAML syntax: {}", e.message)).hint(hint)], text)
+    })?;
     let mut ctx = reader::Ctx::new(files);
     ctx.inputs.push(InputFile { name: name.to_string(), bytes: bytes.to_vec() });
     let job = parse::parse(&root, &mut ctx).and_then(|raw| build::build(raw, &mut ctx));

@@ -229,7 +229,7 @@ fn quote(node: &Node, ctx: &mut Ctx) -> (Quote, Option<crate::diag::Pos>) {
                 n.pos(),
                 &f.at("labour_rate"),
                 format!("\"{t}\" is not a price"),
-                Some("a number with a point and at most two decimals, such as 42.50, in the price list's currency".into()),
+                Some("a number up to 1000000000 with a point and at most two decimals, such as 42.50, in the price list's currency".into()),
             );
         }
         m
@@ -502,6 +502,15 @@ fn analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
 fn sweep(node: &Node, ctx: &mut Ctx) -> Option<Sweep> {
     let f = ctx.fields(node, "analysis.sweep", &["from", "to", "per_octave", "at"])?;
     if let Some(n) = f.get("at") {
+        if let Some(other) = ["from", "to", "per_octave"].into_iter().find(|k| f.get(k).is_some()) {
+            ctx.error(
+                n.pos(),
+                &f.at("at"),
+                format!("`at` lists the sweep's points itself, so `{other}` would be ignored"),
+                Some("give either `at: [...]` or `from`, `to` and `per_octave`".into()),
+            );
+            return None;
+        }
         let Node::Seq { items, .. } = n else {
             ctx.error(n.pos(), &f.at("at"), "expected a list of frequencies, such as [100 Hz, 1 kHz]", None);
             return None;

@@ -192,7 +192,12 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
             let t = inner.text(n, "labour_rate")?;
             let m = crate::money::Money::parse(&t);
             if m.is_none() {
-                inner.error(n.pos(), "labour_rate", format!("\"{t}\" is not a price"), Some("a number with a point and at most two decimals, such as 42.50".into()));
+                inner.error(
+                    n.pos(),
+                    "labour_rate",
+                    format!("\"{t}\" is not a price"),
+                    Some("a number up to 1000000000 with a point and at most two decimals, such as 42.50".into()),
+                );
             }
             m
         });

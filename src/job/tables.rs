@@ -78,7 +78,7 @@ impl Ctx<'_> {
                     r.pos,
                     &r.field,
                     format!("{at}: unit price \"{}\" is not a price", cells[4]),
-                    Some("a number with a point and at most two decimals, such as 0.85, in the list's currency".into()),
+                    Some("a number up to 1000000000 with a point and at most two decimals, such as 0.85, in the list's currency".into()),
                 );
                 continue;
             };
@@ -103,7 +103,8 @@ impl Ctx<'_> {
     pub(crate) fn read_file(&mut self, r: &TableRef) -> Option<(String, String)> {
         match self.files.read(&r.name) {
             Ok(bytes) => {
-                let text = String::from_utf8_lossy(&bytes).into_owned();
+                // A byte-order mark, as some spreadsheets write, is not part of the first cell.
+                let text = String::from_utf8_lossy(&bytes).trim_start_matches('\u{feff}').to_string();
                 if !self.inputs.iter().any(|f| f.name == r.name) {
                     self.inputs.push(InputFile { name: r.name.clone(), bytes });
                 }
@@ -188,6 +189,11 @@ impl Ctx<'_> {
                 self.error(node.pos, path, format!("{name}:{}: frequency must be above 0 Hz", i + 1), None);
                 return None;
             }
+            let (lo, hi, range) = Quantity::Frequency.plausible();
+            if !(lo..=hi).contains(&f) {
+                self.error(node.pos, path, format!("{name}:{}: {f} Hz is not a plausible frequency ({range})", i + 1), None);
+                return None;
+            }
             for (c, n) in cols.iter_mut().zip(nums.iter()) {
                 c.push(n.unwrap_or(0.0));
             }
@@ -206,12 +212,52 @@ impl Ctx<'_> {
             self.error(r.pos, &r.field, format!("{file}: row {} has |Z| = {} ohm; impedance magnitudes must be above zero", i + 1, ohm[i]), None);
             return None;
         }
+        let (lo, hi, range) = Quantity::Resistance.plausible();
+        if let Some(i) = ohm.iter().position(|z| !(lo..=hi).contains(z)) {
+            self.error(
+                r.pos,
+                &r.field,
+                format!("{file}: row {} has |Z| = {} ohm, not a plausible impedance ({range})", i + 1, ohm[i]),
+                Some("the columns are frequency Hz, |Z| ohm, phase deg".into()),
+            );
+            return None;
+        }
+        // A passive impedance lies within +-90 degrees; a meter's wrap may show up to 180.
+        if let Some(i) = ph.iter().position(|p| p.abs() > 180.0) {
+            self.error(
+                r.pos,
+                &r.field,
+                format!("{file}: row {} has a phase of {} deg; an impedance's phase lies within -180 to +180 deg", i + 1, ph[i]),
+                Some("the columns are frequency Hz, |Z| ohm, phase deg".into()),
+            );
+            return None;
+        }
         Some(ImpedanceTable { file, freq_hz: fr, ohm, phase_deg: ph })
     }
 
     /// A driver's acoustic response at 2.83 V, 1 m: frequency Hz, SPL dB, phase deg.
     pub(crate) fn response_table(&mut self, r: &TableRef) -> Option<ResponseTable> {
         let (file, [f, spl, ph]) = self.table(r, 2)?;
+        let (lo, hi, range) = Quantity::Decibel.plausible();
+        if let Some(i) = spl.iter().position(|v| !(lo..=hi).contains(v)) {
+            self.error(
+                r.pos,
+                &r.field,
+                format!("{file}: row {} has an SPL of {} dB, not a plausible level ({range})", i + 1, spl[i]),
+                Some("the columns are frequency Hz, SPL dB, phase deg".into()),
+            );
+            return None;
+        }
+        // Acoustic phase may be unwrapped, but not beyond a thousand turns.
+        if let Some(i) = ph.iter().position(|p| p.abs() > 360_000.0) {
+            self.error(
+                r.pos,
+                &r.field,
+                format!("{file}: row {} has a phase of {} deg, more than a thousand turns", i + 1, ph[i]),
+                Some("the columns are frequency Hz, SPL dB, phase deg".into()),
+            );
+            return None;
+        }
         Some(ResponseTable { file, freq_hz: f, spl_db: spl, phase_deg: ph })
     }
 }

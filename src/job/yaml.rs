@@ -82,6 +82,8 @@ struct Builder {
     error: Option<SyntaxError>,
     /// Levels opened beyond [`MAX_DEPTH`], not built.
     beyond: usize,
+    /// YAML documents begun: a job file holds one.
+    documents: usize,
 }
 
 enum Partial {
@@ -119,6 +121,16 @@ impl Builder {
 impl MarkedEventReceiver for Builder {
     fn on_event(&mut self, ev: Event, mark: Marker) {
         let pos = Pos::from(mark);
+        if matches!(ev, Event::DocumentStart) {
+            self.documents += 1;
+            if self.documents == 2 && self.error.is_none() {
+                self.error = Some(SyntaxError { pos, message: "a second YAML document (after `---`): a job file holds one, and nothing after it would be read".into() });
+            }
+            return;
+        }
+        if self.documents > 1 {
+            return;
+        }
         // Nesting beyond the limit is refused at its first level and not built at all.
         match ev {
             Event::SequenceStart(..) | Event::MappingStart(..) if self.beyond > 0 || self.stack.len() >= MAX_DEPTH => {
@@ -167,7 +179,7 @@ impl MarkedEventReceiver for Builder {
 pub fn parse(text: &str) -> Result<Node, SyntaxError> {
     let mut builder = Builder::default();
     let mut parser = Parser::new_from_str(text);
-    if let Err(e) = parser.load(&mut builder, false) {
+    if let Err(e) = parser.load(&mut builder, true) {
         let m = e.marker();
         return Err(SyntaxError { pos: Pos::from(*m), message: e.info().to_string() });
     }

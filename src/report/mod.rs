@@ -127,6 +127,12 @@ fn template_error(world: &dyn World, diags: &[typst::diag::SourceDiagnostic]) ->
 /// a failure removes it.
 pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    // The rename would put the file in the place of a device, a pipe or a folder's link.
+    if let Ok(m) = std::fs::symlink_metadata(path) {
+        if !m.is_file() {
+            return Err(std::io::Error::other("it exists and is not a regular file (a folder, a link, a device or a pipe); choose another name"));
+        }
+    }
     #[cfg(target_os = "linux")]
     if let Some(done) = unnamed::write(dir, path, bytes) {
         return done;

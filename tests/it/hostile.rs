@@ -60,6 +60,8 @@ fn corpus() -> Vec<Case> {
         ("unicode reference", s(with("C1:", "Ç1:")), "not a usable reference"),
         ("unknown top-level key", s(format!("{BASE}netwrok: {{}}\n")), "netwrok"),
         ("a node of one terminal only", s(with("between: [IN, W1]", "between: [IN, W9]")), "node W9 is touched by L1 alone"),
+        ("a second YAML document", s(format!("{BASE}---\nchanges: []\n")), "a second YAML document"),
+        ("a sweep of points and a range", s(with("per_octave: 6 }", "per_octave: 6, at: [1 kHz] }")), "`from` would be ignored"),
         ("a wire link across the terminals", s(with("L1: { kind: inductor", "R0: { kind: resistor, between: [COM, IN], value: 0 ohm }\n    L1: { kind: inductor")), "straight across the amplifier's terminals"),
         ("a part shorted on itself", s(with("between: [IN, H1]", "between: [IN, IN]")), "shorted out"),
         ("a driver floating", s(with("between: [W1, COM], model", "between: [X1, X2], model")), "touched by"),
@@ -81,15 +83,18 @@ fn corpus() -> Vec<Case> {
     let mut v: Vec<Case> = jobs.into_iter().map(|(n, j, w)| (n, j, None, w)).collect();
     // Tables: NaN, empty, duplicated and unsorted frequencies, binary junk.
     let job = with("model: { resistance: 8 ohm }", "model: { table: mid.csv }").into_bytes();
-    for (name, table) in [
-        ("table with NaN", b"20,8,0\n200,NaN,0\n2000,8,0\n20000,8,0\n".to_vec()),
-        ("empty table", Vec::new()),
-        ("duplicated frequencies", b"20,8,0\n20,8,0\n2000,8,0\n20000,8,0\n".to_vec()),
-        ("unsorted frequencies", b"2000,8,0\n20,8,0\n20000,8,0\n".to_vec()),
-        ("binary table", (0u8..=255).collect()),
-        ("a table of 200,000 rows", (0..200_000).map(|i| format!("{},8,0\n", 20.0 + i as f64 * 0.1)).collect::<String>().into_bytes()),
+    for (name, table, words) in [
+        ("table with NaN", b"20,8,0\n200,NaN,0\n2000,8,0\n20000,8,0\n".to_vec(), "mid.csv"),
+        ("empty table", Vec::new(), "mid.csv"),
+        ("duplicated frequencies", b"20,8,0\n20,8,0\n2000,8,0\n20000,8,0\n".to_vec(), "mid.csv"),
+        ("unsorted frequencies", b"2000,8,0\n20,8,0\n20000,8,0\n".to_vec(), "mid.csv"),
+        ("binary table", (0u8..=255).collect(), "mid.csv"),
+        ("a table of 200,000 rows", (0..200_000).map(|i| format!("{},8,0\n", 20.0 + i as f64 * 0.1)).collect::<String>().into_bytes(), "mid.csv"),
+        ("a |Z| of 1e-200 ohm", b"20,8,0\n200,1e-200,0\n2000,8,0\n20000,8,0\n".to_vec(), "not a plausible impedance"),
+        ("a phase of 500 degrees", b"20,8,0\n200,8,500\n2000,8,0\n20000,8,0\n".to_vec(), "within -180 to +180 deg"),
+        ("a row at 10 MHz", b"20,8,0\n200,8,0\n2000,8,0\n1e7,8,0\n".to_vec(), "not a plausible frequency"),
     ] {
-        v.push((name, job.clone(), Some(table), "mid.csv"));
+        v.push((name, job.clone(), Some(table), words));
     }
     v
 }
@@ -229,4 +234,53 @@ fn near_misses_at_the_edges_of_the_plausible_ranges_solve_to_finite_results() {
         }
     }
     assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}
+
+#[test]
+#[cfg(unix)]
+fn a_pipe_for_a_table_is_refused_not_waited_on_and_a_bom_is_no_part_of_a_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let made = std::process::Command::new("mkfifo").arg(dir.path().join("mid.csv")).status().expect("mkfifo (coreutils)");
+    assert!(made.success());
+    std::fs::write(dir.path().join("job.yaml"), with("model: { resistance: 8 ohm }", "model: { table: mid.csv }")).unwrap();
+    let started = Instant::now();
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_voicekeep")).arg("check").arg(dir.path().join("job.yaml")).output().unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(started.elapsed() < Duration::from_secs(5), "waited on the pipe");
+    assert_eq!(o.status.code(), Some(1), "{err}");
+    assert!(err.contains("not a regular file") && err.contains("network.drivers.HF.model.table"), "{err}");
+    // A byte-order mark before the job and before a table: read as the text after it.
+    let bom = |t: &str| [b"\xef\xbb\xbf".as_slice(), t.as_bytes()].concat();
+    let o = Cli::new()
+        .file("job.yaml", &bom(&with("model: { resistance: 8 ohm }", "model: { table: mid.csv }")))
+        .file("mid.csv", &bom("frequency,ohm,phase\n20,8,0\n200,8,0\n2000,8,0\n20000,8,0\n"))
+        .args(["check", "{job}"])
+        .run();
+    o.code(0);
+    // A table whose first row is numbers keeps that row after a byte-order mark.
+    let o = Cli::new()
+        .file("job.yaml", with("model: { resistance: 8 ohm }", "model: { table: mid.csv }").as_bytes())
+        .file("mid.csv", &bom("20,8,0\n20000,8,0\n"))
+        .args(["check", "{job}"])
+        .run();
+    o.code(0);
+}
+
+#[test]
+#[cfg(unix)]
+fn a_report_never_takes_the_place_of_a_device_or_a_folder() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("job.yaml"), BASE).unwrap();
+    std::fs::create_dir(dir.path().join("out.pdf")).unwrap();
+    // A pipe stands for a device here: a test must not risk /dev/null itself.
+    assert!(std::process::Command::new("mkfifo").arg(dir.path().join("pipe.pdf")).status().unwrap().success());
+    for target in [dir.path().join("out.pdf"), dir.path().join("pipe.pdf")] {
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_voicekeep")).arg("report").arg(dir.path().join("job.yaml")).arg("-o").arg(&target).output().unwrap();
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_ne!(o.status.code(), Some(0), "{}: {err}", target.display());
+        assert!(err.contains("not a regular file"), "{}: {err}", target.display());
+    }
+    assert!(dir.path().join("out.pdf").is_dir());
+    use std::os::unix::fs::FileTypeExt;
+    assert!(std::fs::metadata(dir.path().join("pipe.pdf")).unwrap().file_type().is_fifo(), "the pipe is still a pipe");
 }
