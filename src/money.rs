@@ -8,9 +8,9 @@ use std::fmt;
 pub struct Money(pub i64);
 
 impl Money {
-    /// The largest price or rate a job may give: a thousand million, so that no sum of a
+    /// The largest price or rate a job may give: a thousand million (in hundredths), so that no sum of a
     /// job's lines can come near the count's limit.
-    pub const MAX: Money = Money(1_000_000_000_00);
+    pub const MAX: Money = Money(100_000_000_000);
 
     /// "12", "12.3" or "12.30" (a point, at most two decimals, not negative, at most
     /// [`Money::MAX`]); None otherwise.
