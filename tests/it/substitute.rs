@@ -247,6 +247,7 @@ fn an_l_pad_that_cannot_help_a_quieter_substitute_is_not_bought_nor_said_to_be_f
     for (template, want, never) in [
         ("customer", "R8 was planned in the tweeter's filter but not fitted: no resistor could bring the level back up.", "the level matched without it"),
         ("archive", "R8 is left out (a wire link in its place)", "It is fitted so HF plays"),
+        ("sale", "no resistor (left open)", "inf ohm"),
     ] {
         let r = Cli::new().job(&job).args(["report", "{job}", "--template", template, "-o", "{dir}/r.pdf"]).run();
         r.code(0);

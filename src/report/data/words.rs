@@ -59,6 +59,13 @@ pub(super) fn rating_text(c: &Ctx, p: &Part) -> Option<String> {
 
 /// "a 3.3 uF polypropylene film capacitor rated 250 V": what was fitted, for the customer.
 pub(super) fn fitted_words(c: &Ctx, p: &Part) -> String {
+    // A resistor the work leaves out is not a part fitted.
+    if p.kind == PartKind::Resistor && p.value.is_infinite() {
+        return "no resistor (left open)".into();
+    }
+    if p.kind == PartKind::Resistor && p.value == 0.0 {
+        return "a wire link (no resistor)".into();
+    }
     let value = format_si(p.value, quantity(p.kind), 3);
     let kind = match (&p.type_text, p.kind) {
         (Some(t), PartKind::Capacitor) if !t.to_lowercase().contains("capacitor") => format!("{t} capacitor"),
