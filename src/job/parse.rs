@@ -20,6 +20,12 @@ pub const MAX_DRIVERS: usize = 32;
 pub const MAX_NODES: usize = 500;
 /// The most steps one list of changes (the job's, a cabinet's, an option's) may hold.
 pub const MAX_STEPS: usize = 200;
+/// The most `compensate` entries (parts fitted together) one list may hold.
+pub const MAX_FITTED: usize = 12;
+/// The most cabinets one job may hold (a pair, or a small set).
+pub const MAX_CABINETS: usize = 16;
+/// The most options one quotation may offer.
+pub const MAX_OPTIONS: usize = 12;
 
 const JOB_KEYS: &[&str] =
     &["voicekeep", "job", "amplifier", "network", "measured", "changes", "cabinets", "compensate", "prices", "options", "quote", "analysis", "report", "service", "terminals"];
@@ -169,6 +175,17 @@ fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>>
 /// readings and `changes` steps.
 fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
     let mut out = Vec::new();
+    if let Node::Map { entries, .. } = node {
+        if entries.len() > MAX_CABINETS {
+            ctx.error(
+                node.pos(),
+                "cabinets",
+                format!("{} cabinets, above the {MAX_CABINETS} a job may hold", entries.len()),
+                Some("a job is one speaker, a pair or a small set; report larger batches as several jobs".into()),
+            );
+            return out;
+        }
+    }
     for (k, v) in map_entries(node, "cabinets", ctx) {
         let path = format!("cabinets.{}", k.name);
         if k.name.trim().is_empty() {
@@ -195,6 +212,17 @@ fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
 /// The options offered before the work, each with its words, labour and own steps.
 fn options<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawOption<'n>> {
     let mut out = Vec::new();
+    if let Node::Map { entries, .. } = node {
+        if entries.len() > MAX_OPTIONS {
+            ctx.error(
+                node.pos(),
+                "options",
+                format!("{} options, above the {MAX_OPTIONS} a job may hold", entries.len()),
+                Some("a quotation offers a few choices; each is solved in full".into()),
+            );
+            return out;
+        }
+    }
     for (k, v) in map_entries(node, "options", ctx) {
         let path = format!("options.{}", k.name);
         let Some(f) = ctx.fields(v, &path, &["say", "labour_hours", "changes", "compensate"]) else { continue };
@@ -249,6 +277,17 @@ fn prices(node: &Node, ctx: &mut Ctx) -> Option<(TableRef, String)> {
 /// The compensate entries as written; the parts and drivers they name are found later.
 fn compensate(node: &Node, field: &str, ctx: &mut Ctx) -> Vec<RawCompensate> {
     let mut out = Vec::new();
+    if let Node::Map { entries, .. } = node {
+        if entries.len() > MAX_FITTED {
+            ctx.error(
+                node.pos(),
+                field,
+                format!("{} parts to fit, above the {MAX_FITTED} one fit may solve together", entries.len()),
+                Some("a speaker's level needs a resistor or an L-pad per driver; the joint fit's time grows steeply with every part".into()),
+            );
+            return out;
+        }
+    }
     for (k, v) in map_entries(node, field, ctx) {
         let path = format!("{field}.{}", k.name);
         let Some(f) = ctx.fields(v, &path, &["driver", "match", "band", "series", "keep_impedance"]) else {

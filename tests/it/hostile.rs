@@ -78,6 +78,9 @@ fn corpus() -> Vec<Case> {
         ("40 drivers", s(with("  drivers:\n", &format!("  drivers:\n{}", (0..40).map(|i| format!("    D{i}: {{ role: woofer, between: [W1, COM], model: {{ resistance: 8 ohm }} }}\n")).collect::<String>()))), "42 drivers, above the 32"),
         ("600 nodes", s(with("  parts:\n", &format!("  parts:\n{}", (0..300).map(|i| format!("    R{i}: {{ kind: resistor, between: [A{i}, B{i}], value: 1 ohm }}\n")).collect::<String>()))), "nodes, above the 500 a network may join"),
         ("250 change steps", s(format!("{BASE}changes:\n{}", "  - replace: C1\n    with: { value: 6.8 uF }\n".repeat(250))), "250 steps, above the 200"),
+        ("14 parts to fit", s(format!("{}compensate:\n{}", with("  parts:\n", &format!("  parts:\n{}", (0..14).map(|i| format!("    A{i}: {{ kind: resistor, between: [IN, H1], value: auto }}\n")).collect::<String>())), (0..14).map(|i| format!("  A{i}: {{ driver: HF }}\n")).collect::<String>())), "14 parts to fit, above the 12"),
+        ("20 options", s(format!("{BASE}options:\n{}", (0..20).map(|i| format!("  o{i}: {{ changes: [] }}\n")).collect::<String>())), "20 options, above the 12"),
+        ("20 cabinets", s(format!("{BASE}cabinets:\n{}", (0..20).map(|i| format!("  S{i}: {{}}\n")).collect::<String>())), "20 cabinets, above the 16"),
         ("600 parts", s(with("  parts:\n", &format!("  parts:\n{}", (0..600).map(|i| format!("    R{i}: {{ kind: resistor, between: [IN, H1], value: 1 ohm }}\n")).collect::<String>()))), "above the 500 a network may have"),
     ];
     let mut v: Vec<Case> = jobs.into_iter().map(|(n, j, w)| (n, j, None, w)).collect();
