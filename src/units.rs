@@ -201,7 +201,8 @@ fn parse_rkm(text: &str, quantity: Quantity) -> Option<f64> {
         return None;
     }
     let number: f64 = format!("{}.{}", if whole.is_empty() { "0" } else { whole }, if frac.is_empty() { "0" } else { frac }).parse().ok()?;
-    Some(number * factor)
+    // Hundreds of digits are no code a part is marked with.
+    Some(number * factor).filter(|v| v.is_finite())
 }
 
 /// The unit a slip of case most likely meant for this field (`uf` for `uF`, `khz` for

@@ -199,6 +199,18 @@ fn a_damaged_job_is_refused_where_it_breaks_or_solved_finite() {
 }
 
 #[test]
+fn an_rkm_code_of_hundreds_of_digits_is_refused_not_read_as_infinity() {
+    // Found by the value fuzz target: 330 digits, then the code letter, read as inf farad.
+    for (code, q) in [
+        (format!("{}u8", "8".repeat(330)), Quantity::Capacitance),
+        (format!("{}R5", "9".repeat(400)), Quantity::Resistance),
+        (format!("{}m", "1".repeat(320)), Quantity::Inductance),
+    ] {
+        assert!(parse_value(&code, q).is_err(), "{code} was read");
+    }
+}
+
+#[test]
 fn the_base_job_loads_and_solves() {
     // The properties above mean little if their starting job were refused.
     let job = load(BASE).expect("the base job loads");
