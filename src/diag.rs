@@ -59,8 +59,13 @@ impl fmt::Display for Problems {
             }
             if let Some(line) = d.pos.line.checked_sub(1).and_then(|i| lines.get(i)) {
                 let gutter = d.pos.line.to_string();
-                writeln!(f, "{} | {}", gutter, line)?;
-                let caret_pad: String = line.chars().take(d.pos.col.saturating_sub(1)).map(|c| if c == '\t' { '\t' } else { ' ' }).collect();
+                // A long line is shown around the column only: 60 characters either side.
+                let col = d.pos.col.saturating_sub(1);
+                let start = col.saturating_sub(60);
+                let shown: String = line.chars().skip(start).take(120).collect();
+                let (before, after) = (if start > 0 { "..." } else { "" }, if line.chars().count() > start + 120 { "..." } else { "" });
+                writeln!(f, "{} | {before}{shown}{after}", gutter)?;
+                let caret_pad: String = before.chars().chain(line.chars().skip(start).take(col - start)).map(|c| if c == '\t' { '\t' } else { ' ' }).collect();
                 writeln!(f, "{} | {}^", " ".repeat(gutter.len()), caret_pad)?;
             }
             if let Some(h) = &d.hint {

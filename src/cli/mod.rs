@@ -221,6 +221,11 @@ fn analyse(path: &Path, job: &Job) -> Result<analysis::Outcome, u8> {
     })
 }
 
+/// "1 driver", "2 drivers".
+fn count(n: usize, noun: &str) -> String {
+    format!("{n} {noun}{}", if n == 1 { "" } else { "s" })
+}
+
 fn check(path: &Path) -> u8 {
     match load(path) {
         Ok(job) => {
@@ -229,11 +234,11 @@ fn check(path: &Path) -> u8 {
                 Ok(_) => {
                     let cabinets = if job.cabinets.is_empty() { String::new() } else { format!(", {} cabinets", job.cabinets.len()) };
                     out(&format!(
-                        "{}: ok ({} parts, {} drivers, {} change steps{cabinets})\n",
+                        "{}: ok ({}, {}, {}{cabinets})\n",
                         path.display(),
-                        job.network.parts.len(),
-                        job.network.drivers.len(),
-                        job.changes.len()
+                        count(job.network.parts.len(), "part"),
+                        count(job.network.drivers.len(), "driver"),
+                        count(job.changes.len(), "change step")
                     ))
                 }
                 Err(code) => code,

@@ -79,7 +79,7 @@ pub fn load_bytes(bytes: &[u8], display: &str, name: &str, base: &Path) -> Resul
 pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> Result<Job, LoadError> {
     let problems = |list: Vec<Diagnostic>, source: &str| LoadError::Problems(Problems { file: display.to_string(), source: source.to_string(), list });
     if bytes.len() > MAX_JOB_BYTES {
-        let at = vec![Diagnostic::new(Pos::START, "", format!("the job file is {} KB, above the {} KB a job file may be", bytes.len() / 1024, MAX_JOB_BYTES / 1024))
+        let at = vec![Diagnostic::new(Pos::START, "", format!("the job file is {} bytes, above the {} (1 MB) a job file may be", bytes.len(), MAX_JOB_BYTES))
             .hint("a job file holds one speaker's network, readings and changes; tables and photographs go in files beside it")];
         return Err(problems(at, ""));
     }

@@ -336,10 +336,11 @@ fn part_health_flags_carry_their_level_effect() {
 
 #[test]
 fn a_network_that_cannot_be_solved_is_a_job_problem_naming_its_parts() {
-    // A 0 ohm part straight across the amplifier (no output impedance): the equations are
-    // singular at every frequency. And a driver wired to a node nothing else reaches, which
+    // Two 0 ohm links in series across the amplifier (no output impedance): the equations
+    // are singular at every frequency. (One link straight across is refused before the
+    // engine, in hostile.rs.) And a driver wired to a node nothing else reaches, which
     // validation catches before the engine would.
-    let short = "voicekeep: 1\njob: { number: A, date: 2026-01-01 }\namplifier: { power: 50 W, into: 8 ohm }\nnetwork:\n  input: [IN, COM]\n  parts:\n    R0: { kind: resistor, between: [IN, COM], value: 0 ohm }\n    L1: { kind: inductor, between: [IN, W1], value: 1 mH, dcr: 0.3 ohm }\n  drivers:\n    LF: { role: woofer, between: [W1, COM], model: { resistance: 6 ohm } }\nanalysis: { sweep: { from: 20 Hz, to: 2 kHz, per_octave: 3 } }\n";
+    let short = "voicekeep: 1\njob: { number: A, date: 2026-01-01 }\namplifier: { power: 50 W, into: 8 ohm }\nnetwork:\n  input: [IN, COM]\n  parts:\n    R0: { kind: resistor, between: [IN, X], value: 0 ohm }\n    R9: { kind: resistor, between: [X, COM], value: 0 ohm }\n    L1: { kind: inductor, between: [IN, W1], value: 1 mH, dcr: 0.3 ohm }\n  drivers:\n    LF: { role: woofer, between: [W1, COM], model: { resistance: 6 ohm } }\nanalysis: { sweep: { from: 20 Hz, to: 2 kHz, per_octave: 3 } }\n";
     for cmd in ["check", "solve"] {
         let o = Cli::new().job(short).args([cmd, "{job}"]).run();
         // Placed like every other job problem: R0's line and column, its field, a hint.
@@ -350,7 +351,9 @@ fn a_network_that_cannot_be_solved_is_a_job_problem_naming_its_parts() {
     o.code(1).stderr_has("R0");
     assert!(!o.dir.join("r.pdf").exists(), "no report from a network that cannot be solved");
 
-    let floating = short.replace("    R0: { kind: resistor, between: [IN, COM], value: 0 ohm }\n", "").replace("between: [W1, COM], model", "between: [W1, X9], model");
+    let floating = short
+        .replace("    R0: { kind: resistor, between: [IN, X], value: 0 ohm }\n    R9: { kind: resistor, between: [X, COM], value: 0 ohm }\n", "")
+        .replace("between: [W1, COM], model", "between: [W1, X9], model");
     let o = Cli::new().job(&floating).args(["check", "{job}"]).run();
     o.code(1).stderr_has(":9:5: network.LF: node X9 is touched by LF alone").stderr_has("hint:");
 }
