@@ -390,6 +390,26 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
     }
 }
 
+/// The files a job read, and the job file itself, as their real paths.
+fn read_by(path: &Path, job: &Job) -> Vec<PathBuf> {
+    let folder = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    std::iter::once(path.to_path_buf()).chain(job.inputs.iter().map(|i| folder.join(&i.name))).filter_map(|p| std::fs::canonicalize(p).ok()).collect()
+}
+
+/// Where a file written to `target` lands: its folder's real path and its name.
+fn where_written(target: &Path) -> PathBuf {
+    let dir = target.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let dir = std::fs::canonicalize(dir).unwrap_or_else(|_| dir.to_path_buf());
+    dir.join(target.file_name().unwrap_or_default())
+}
+
+/// A name beside the job for what it writes, `JOB-report.pdf`, that no input can have
+/// unless the shop named one so.
+fn elsewhere(path: &Path, suffix: &str) -> PathBuf {
+    let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into());
+    path.with_file_name(format!("{stem}-{suffix}"))
+}
+
 fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Result<(), u8> {
     // A quotation offers work: choices (`options`) or one proposal (`changes`).
     let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
@@ -399,16 +419,9 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Resu
         return Err(PROBLEMS);
     }
     // The report never takes the place of the job or of anything it read.
-    let folder = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let same =
-        |a: &Path| match (std::fs::canonicalize(a), target.parent().filter(|p| !p.as_os_str().is_empty()).map(std::fs::canonicalize).unwrap_or_else(|| std::fs::canonicalize(".")))
-        {
-            (Ok(a), Ok(dir)) => target.file_name().is_some_and(|n| dir.join(n) == a),
-            _ => false,
-        };
-    if same(path) || job.inputs.iter().any(|i| same(&folder.join(&i.name))) {
+    if read_by(path, job).contains(&where_written(target)) {
         eprintln!("{}: the report would overwrite {}, one of the job's own inputs", path.display(), target.display());
-        eprintln!("  hint: write the report elsewhere with -o, such as -o {}", path.with_extension("pdf").display());
+        eprintln!("  hint: write the report elsewhere with -o, such as -o {}", elsewhere(path, "report.pdf").display());
         return Err(PROBLEMS);
     }
     let f = analyse(path, job)?;
@@ -450,6 +463,11 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
                 }
             },
         };
+        if read_by(path, &job).contains(&where_written(&file)) {
+            eprintln!("{}: the plot would overwrite {}, one of the job's own inputs", path.display(), file.display());
+            eprintln!("  hint: write the plots to another folder with --out");
+            return PROBLEMS;
+        }
         if let Err(e) = report::write_atomically(&file, &bytes) {
             eprintln!("voicekeep: cannot write {}: {e}", file.display());
             return FAILURE;
@@ -554,18 +572,44 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
     if !std::io::IsTerminal::is_terminal(&std::io::stderr()) {
         bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
     }
-    let codes: Vec<(PathBuf, u8)> = jobs
-        .par_iter()
-        .map(|p| {
-            let code = match load(p) {
-                Ok(job) => {
-                    let target = out_dir.join(p.file_stem().unwrap_or_default()).with_extension("pdf");
-                    match render_to(p, &job, &job.template.clone(), &target) {
-                        Ok(()) => OK,
-                        Err(c) => c,
-                    }
+    // Read every job first: no report may take the place of another's, nor of anything any
+    // job of the batch read.
+    let loaded: Vec<(PathBuf, Result<Job, u8>)> = jobs.par_iter().map(|p| (p.clone(), load(p))).collect();
+    let inputs: Vec<(PathBuf, &Path)> =
+        loaded.iter().filter_map(|(p, j)| j.as_ref().ok().map(|j| (p, j))).flat_map(|(p, j)| read_by(p, j).into_iter().map(move |i| (i, p.as_path()))).collect();
+    let mut taken: std::collections::BTreeMap<PathBuf, &Path> = Default::default();
+    let mut planned: Vec<(PathBuf, Result<(&Job, PathBuf), u8>)> = Vec::new();
+    for (p, job) in &loaded {
+        let plan = match job {
+            Err(c) => Err(*c),
+            Ok(job) => {
+                let target = out_dir.join(format!("{}.pdf", p.file_stem().unwrap_or_default().to_string_lossy()));
+                let real = where_written(&target);
+                if let Some(first) = taken.get(&real) {
+                    eprintln!("{}: its report would be {}, as {}'s is", p.display(), target.display(), first.display());
+                    eprintln!("  hint: give the two job files different names (their names less .yaml or .yml name the reports)");
+                    Err(PROBLEMS)
+                } else if let Some((_, owner)) = inputs.iter().find(|(i, owner)| *i == real && *owner != p.as_path()) {
+                    eprintln!("{}: its report would overwrite {}, which {} reads", p.display(), target.display(), owner.display());
+                    eprintln!("  hint: write the reports to another folder with --out");
+                    Err(PROBLEMS)
+                } else {
+                    taken.insert(real, p.as_path());
+                    Ok((job, target))
                 }
-                Err(c) => c,
+            }
+        };
+        planned.push((p.clone(), plan));
+    }
+    let codes: Vec<(PathBuf, u8)> = planned
+        .par_iter()
+        .map(|(p, plan)| {
+            let code = match plan {
+                Ok((job, target)) => match render_to(p, job, &job.template.clone(), target) {
+                    Ok(()) => OK,
+                    Err(c) => c,
+                },
+                Err(c) => *c,
             };
             bar.inc(1);
             (p.clone(), code)

@@ -289,3 +289,50 @@ fn a_report_never_takes_the_place_of_a_device_or_a_folder() {
     use std::os::unix::fs::FileTypeExt;
     assert!(std::fs::metadata(dir.path().join("pipe.pdf")).unwrap().file_type().is_fifo(), "the pipe is still a pipe");
 }
+
+#[test]
+fn batch_and_plot_never_write_over_each_others_reports_or_any_jobs_inputs() {
+    let run = |dir: &std::path::Path, args: &[&str]| {
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_voicekeep")).current_dir(dir).args(args).output().unwrap();
+        (o.status.code(), String::from_utf8_lossy(&o.stdout).into_owned(), String::from_utf8_lossy(&o.stderr).into_owned())
+    };
+    // Two jobs whose names would give the same report: the second in order is refused.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("good.yaml"), BASE).unwrap();
+    std::fs::write(dir.path().join("good.yml"), BASE.replace("number: H-1", "number: H-2")).unwrap();
+    std::fs::write(dir.path().join("good.pdf.yaml"), BASE.replace("number: H-1", "number: H-3")).unwrap();
+    let (code, out, err) = run(dir.path(), &["batch", ".", "--out", "."]);
+    assert_eq!(code, Some(1), "{out}{err}");
+    assert!(err.contains("good.yml: its report would be ./good.pdf, as ./good.yaml's is"), "{err}");
+    assert!(out.contains("2 of 3 jobs reported"), "{out}");
+    let words = crate::util::pdf_words(&dir.path().join("good.pdf"));
+    assert!(words.contains("H-1") && !words.contains("H-2"), "good.pdf is good.yaml's");
+    assert!(dir.path().join("good.pdf.pdf").exists(), "good.pdf.yaml's report is named as `report` names it");
+
+    // A job whose table is named like another job's report.
+    let dir = tempfile::tempdir().unwrap();
+    let table = "20,8,0\n200,8,0\n2000,8,0\n20000,8,0\n";
+    std::fs::write(dir.path().join("b.pdf"), table).unwrap();
+    std::fs::write(dir.path().join("a.yaml"), with("model: { resistance: 8 ohm }", "model: { table: b.pdf }")).unwrap();
+    std::fs::write(dir.path().join("b.yaml"), BASE).unwrap();
+    let (code, _, err) = run(dir.path(), &["batch", ".", "--out", "."]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("b.yaml: its report would overwrite ./b.pdf, which ./a.yaml reads"), "{err}");
+    assert_eq!(std::fs::read_to_string(dir.path().join("b.pdf")).unwrap(), table, "the table is untouched");
+
+    // A plot named like the job's own table.
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("j-response.svg"), table).unwrap();
+    std::fs::write(dir.path().join("j.yaml"), with("model: { resistance: 8 ohm }", "model: { table: j-response.svg }")).unwrap();
+    let (code, _, err) = run(dir.path(), &["plot", "j.yaml", "--out", "."]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("the plot would overwrite ./j-response.svg, one of the job's own inputs"), "{err}");
+    assert_eq!(std::fs::read_to_string(dir.path().join("j-response.svg")).unwrap(), table);
+
+    // The hint for a report that would overwrite an input names a file that is not one.
+    std::fs::write(dir.path().join("j.pdf"), table).unwrap();
+    std::fs::write(dir.path().join("j.yaml"), with("model: { resistance: 8 ohm }", "model: { table: j.pdf }")).unwrap();
+    let (code, _, err) = run(dir.path(), &["report", "j.yaml"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("such as -o j-report.pdf"), "{err}");
+}
