@@ -550,6 +550,9 @@ fn new(example: &str) -> u8 {
     }
 }
 
+/// A batch job read and given its report's path, or the exit code of its refusal.
+type Planned<'j> = Result<(&'j Job, PathBuf), u8>;
+
 fn batch(dir: &Path, out_dir: &Path) -> u8 {
     use rayon::prelude::*;
     let mut jobs: Vec<PathBuf> = match std::fs::read_dir(dir) {
@@ -578,7 +581,7 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
     let inputs: Vec<(PathBuf, &Path)> =
         loaded.iter().filter_map(|(p, j)| j.as_ref().ok().map(|j| (p, j))).flat_map(|(p, j)| read_by(p, j).into_iter().map(move |i| (i, p.as_path()))).collect();
     let mut taken: std::collections::BTreeMap<PathBuf, &Path> = Default::default();
-    let mut planned: Vec<(PathBuf, Result<(&Job, PathBuf), u8>)> = Vec::new();
+    let mut planned: Vec<(PathBuf, Planned)> = Vec::new();
     for (p, job) in &loaded {
         let plan = match job {
             Err(c) => Err(*c),
