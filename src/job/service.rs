@@ -123,6 +123,17 @@ pub(crate) fn image_file(file: &TableRef, what: &str, ctx: &mut Ctx) -> Option<S
         );
         return None;
     }
+    // Typst decodes it when the report is drawn; a damaged file would fail there, in the
+    // template, far from the job's line.
+    if let Err(e) = image::load_from_memory(&bytes) {
+        ctx.error(
+            file.pos,
+            &file.field,
+            format!("\"{}\" cannot be decoded as an image: {}", file.name, e.to_string().replace("\\n", " ").replace('\n', " ").trim()),
+            Some(format!("the file is damaged or cut short; save the {what} again")),
+        );
+        return None;
+    }
     Some(file.name.clone())
 }
 

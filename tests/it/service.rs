@@ -347,6 +347,17 @@ fn a_photograph_that_is_not_an_image_is_refused_with_its_place() {
     o.code(1).stderr_has("cannot read photograph").stderr_has("board.jpg");
     let late = job.replace("taken: before", "taken: later");
     Cli::new().job(&late).file("board.jpg", b"\xff\xd8\xff").args(["check", "{job}"]).run().code(1).stderr_has("service.photos[1].taken: unknown choice \"later\"");
+    // A PNG cut short, or a JPEG whose header is right and the rest junk, is refused when
+    // the job is read, not later in the template; the whole file passes. (A JPEG merely cut
+    // short decodes, its missing rows grey, in the check and in the report alike.)
+    let png = std::fs::read(root().join("samples/photo-after-board.png")).unwrap();
+    let junk = [b"\xff\xd8\xff\xe0".as_slice(), &(0u8..=255).cycle().take(512).collect::<Vec<u8>>()].concat();
+    for (name, bytes) in [("board.png", &png[..png.len() / 3]), ("board.jpg", junk.as_slice())] {
+        let job = job.replace("board.jpg", name);
+        let o = Cli::new().job(&job).file(name, bytes).args(["check", "{job}"]).run();
+        o.code(1).stderr_has(&format!("service.photos[1].file: \"{name}\" cannot be decoded as an image")).stderr_has("damaged or cut short");
+    }
+    Cli::new().job(&job.replace("board.jpg", "board.png")).file("board.png", &png).args(["check", "{job}"]).run().code(0);
 }
 
 #[test]
