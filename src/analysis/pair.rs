@@ -345,7 +345,10 @@ impl PairMatch {
         let t = crate::units::trim_number(self.tolerance_db, 3);
         let [fl, fq] = &self.as_found_cabinets;
         let [ll, lq] = &self.as_left_cabinets;
-        let found = if set {
+        let fault = crate::analysis::compensate::FAULT_DB;
+        let found = if self.as_found_db > fault {
+            format!("as found {fq}'s was all but silent, {} below {fl}'s: a fault (an open part or connection), not a level difference", diff(self.as_found_db))
+        } else if set {
             match &self.odd_cabinet {
                 Some(odd) => format!("as found the set spread {} ({fl} loudest, {fq} quietest), cabinet {odd} farthest from the set's median", diff(self.as_found_db)),
                 None => format!("as found the set spread {}", diff(self.as_found_db)),
@@ -357,6 +360,8 @@ impl PairMatch {
         };
         let left = if self.as_left_db < 0.005 {
             "as left they play alike".to_string()
+        } else if self.as_left_db > fault {
+            format!("as left {lq}'s is all but silent, {} below {ll}'s: a fault to find before the speakers go back", diff(self.as_left_db))
         } else if set {
             format!("as left the spread is {} ({ll} loudest, {lq} quietest)", diff(self.as_left_db))
         } else {

@@ -195,3 +195,29 @@ fn rating_auto_takes_the_worse_cabinet() {
     assert_ne!(alone[0], alone[1], "the test needs cabinets that differ: {alone:?}");
     assert_eq!(ratings[0], alone[0].max(alone[1]));
 }
+
+#[test]
+fn a_driver_silenced_by_an_open_part_is_a_fault_not_a_level_difference() {
+    // The pair sample with the right cabinet's C1 open (the tweeter's series capacitor): its
+    // tweeter plays through nothing but C1's open-circuit leakage, hundreds of dB down. That
+    // is no level difference to print; each reader is told it is a fault.
+    let sample = std::fs::read_to_string(crate::util::root().join("samples/pair-recap.yaml")).unwrap();
+    let job = sample.replacen("      C1: { value: 2.7 uF, esr: 3.4 ohm, at: 1 kHz }", "      C1: { open: true }", 1);
+    assert_ne!(job, sample);
+    let files: Vec<(String, Vec<u8>)> = ["kestrel-prices.csv", "northwater-prices.csv", "mid-impedance.csv", "lf-spl.csv", "hf-spl.csv", "mf-spl.csv"]
+        .iter()
+        .filter(|n| job.contains(*n))
+        .map(|n| (n.to_string(), std::fs::read(crate::util::root().join("samples").join(n)).unwrap()))
+        .collect();
+    let with_files = |c: crate::util::Cli| files.iter().fold(c, |c, (n, b)| c.file(n, b));
+    let o = with_files(crate::util::Cli::new().job(&job)).args(["solve", "{job}"]).run();
+    o.code(0);
+    let text = o.stdout.split_whitespace().collect::<Vec<_>>().join(" ");
+    assert!(text.contains("HF: as found KB-5121's was all but silent, 222.") && text.contains("a fault (an open part or connection), not a level difference"), "{text}");
+    assert!(!text.contains("HF: as found KB-5120 played"), "{text}");
+    let r = with_files(crate::util::Cli::new().job(&job)).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run();
+    r.code(0);
+    let words = crate::util::pdf_words(&r.dir.join("r.pdf"));
+    assert!(words.contains("the tweeter (HF) of cabinet KB-5121 was all but silent: a fault traced to C1 in that cabinet, not a level difference"), "{words}");
+    assert!(words.contains("KB-5121: silent (a fault)") && !words.contains("differed by 2"), "{words}");
+}

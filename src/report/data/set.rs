@@ -236,6 +236,12 @@ fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
                     Some(r) if r.share_db >= 0.5 * m.as_found_db => format!(", mostly from {} in that cabinet", join_and(&names)),
                     Some(_) => format!(", from {} in that cabinet", join_and(&names)),
                 };
+                if m.as_found_db > crate::analysis::compensate::FAULT_DB {
+                    // Tens of dB is a driver that no longer plays: a fault, not a level.
+                    let traced =
+                        if names.is_empty() { "a fault (an open part or connection)".to_string() } else { format!("a fault traced to {} in that cabinet", join_and(&names)) };
+                    return format!("{} of cabinet {} was all but silent: {traced}, not a level difference", driver_words(net, &m.driver), m.as_found_cabinets[1]);
+                }
                 format!("{} differed by {:.2} dB between cabinets, cabinet {who} the odd one out{cause}", driver_words(net, &m.driver), m.as_found_db)
             })
             .collect();
@@ -267,10 +273,18 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
         .iter()
         .map(|m| {
             let who = |c: &[String; 2], v: f64| if v < 0.005 { "alike".to_string() } else { format!("{} louder than {}", c[0], c[1]) };
+            // Tens of dB is a driver that no longer plays: a fault, not a difference to print.
+            let cell = |c: &[String; 2], v: f64| {
+                if v > crate::analysis::compensate::FAULT_DB {
+                    format!("{}: silent (a fault)", c[1])
+                } else {
+                    format!("{v:.2} dB ({})", who(c, v))
+                }
+            };
             Row(vec![
                 if plain { capitalise(&driver_words(net, &m.driver)) } else { m.driver.clone() },
-                format!("{:.2} dB ({})", m.as_found_db, who(&m.as_found_cabinets, m.as_found_db)),
-                format!("{:.2} dB ({})", m.as_left_db, who(&m.as_left_cabinets, m.as_left_db)),
+                cell(&m.as_found_cabinets, m.as_found_db),
+                cell(&m.as_left_cabinets, m.as_left_db),
                 if m.verdict == Verdict::Ok { "match".into() } else { "apart".into() },
             ])
         })
