@@ -169,6 +169,7 @@ impl AnalysisError {
                     SolveError::Floating { parts, .. } | SolveError::Singular { parts, .. } => parts,
                     SolveError::Internal(_) => &[],
                     SolveError::IllConditioned { parts, .. } => parts,
+                    SolveError::Unreachable { part, .. } => std::slice::from_ref(part),
                 };
                 let left = job.as_left_unsolved().ok();
                 let place = parts.iter().find_map(|p| {
@@ -178,6 +179,7 @@ impl AnalysisError {
                 let (pos, field) = place.map(|(pos, p)| (pos, format!("network.{p}"))).unwrap_or((job.network.input_pos, "network".into()));
                 let hint = match e {
                     SolveError::IllConditioned { .. } => "check the values of the two parts named: one far outside its usual range (a micro-ohm link beside a megohm part, a farad capacitor) is usually a slip of prefix or unit",
+                    SolveError::Unreachable { .. } => "name in `compensate` the driver whose path the part is in, or move the part (check its `between` nodes)",
                     _ => hint,
                 };
                 Diagnostic::new(pos, field, format!("{}: {e}", s.label())).hint(hint)

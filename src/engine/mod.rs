@@ -50,6 +50,9 @@ pub enum SolveError {
     /// about 1e-12. `parts` are the elements of smallest and largest impedance there, whose
     /// ratio `spread` is what rounding cannot carry.
     IllConditioned { f_hz: f64, mismatch: f64, parts: Vec<String>, ohms: Vec<f64> },
+    /// A part to fit that cannot move its driver's level: across its whole range it moves
+    /// it by only `moved_db`.
+    Unreachable { part: String, driver: String, moved_db: f64 },
     /// A broken invariant of voicekeep's own, never a problem in the job.
     Internal(String),
 }
@@ -90,6 +93,9 @@ impl fmt::Display for SolveError {
                     spread,
                     sized.join(" and ")
                 )
+            }
+            SolveError::Unreachable { part, driver, moved_db } => {
+                write!(f, "{part} cannot set {driver}'s level: from none to its largest value it moves {driver}'s band level by {moved_db:.3} dB, so it is not in {driver}'s path")
             }
             SolveError::Internal(m) => write!(f, "internal error: {m}; please report this"),
         }

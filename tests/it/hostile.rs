@@ -336,3 +336,21 @@ fn batch_and_plot_never_write_over_each_others_reports_or_any_jobs_inputs() {
     assert_eq!(code, Some(1), "{err}");
     assert!(err.contains("such as -o j-report.pdf"), "{err}");
 }
+
+#[test]
+fn a_part_to_fit_that_is_not_in_its_drivers_path_is_refused_not_fitted() {
+    // The two-way sample's R9 sits at the input of the tweeter's filter; told to restore the
+    // woofer with it, the fit's search is flat (the woofer's level hangs only on the
+    // amplifier's 0.05 ohm output impedance) and once "fitted" 27 ohm, dropping the tweeter
+    // 13.5 dB. Across R9's whole range the woofer moves 0.05 dB: refused, at R9's line.
+    let job = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap().replacen("  R9: { driver: HF", "  R9: { driver: LF", 1);
+    for command in ["check", "solve"] {
+        let o = Cli::new().job(&job).args([command, "{job}"]).run();
+        o.code(1)
+            .stderr_has("job.yaml:61:7: network.R9: as left: R9 cannot set LF's level")
+            .stderr_has("so it is not in LF's path")
+            .stderr_has("hint: name in `compensate` the driver");
+    }
+    // Its own driver, as the sample has it: fitted.
+    Cli::new().args(["check", "samples/two-way-recap.yaml"]).run().code(0);
+}

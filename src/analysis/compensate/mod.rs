@@ -137,6 +137,11 @@ impl Placement {
 /// Levels more than this far below their reference are a fault, not a level difference.
 pub const FAULT_DB: f64 = 40.0;
 
+/// The least a part to fit must move its driver's band level across its whole range (none
+/// to 1 kohm in series, open to 0.1 ohm as a shunt): below it the part is not in the
+/// driver's path.
+pub const UNREACHABLE_DB: f64 = 0.1;
+
 struct Target<'a> {
     entry: &'a CompensateEntry,
     element: usize,
@@ -403,6 +408,17 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
     let n = fit.targets.len();
     fit.set_all(&vec![0.0; n]);
     let excess: Vec<f64> = (0..n).map(|j| fit.deviations(j).map(|d| mean(&d))).collect::<Result<_, _>>()?;
+    // A part that cannot move its driver (it sits in another driver's path) would be "fitted"
+    // to whatever the flat search ends on: swept across its whole range alone, it must move
+    // the driver's band level by a tenth of a dB at least.
+    for (j, t) in fit.targets.iter().enumerate() {
+        fit.set(j, t.placement.range().1);
+        let far = fit.deviations(j).map(|d| mean(&d))?;
+        fit.set(j, 0.0);
+        if (far - excess[j]).abs() < UNREACHABLE_DB {
+            return Err(SolveError::Unreachable { part: t.entry.part.clone(), driver: t.entry.driver.clone(), moved_db: (far - excess[j]).abs() });
+        }
+    }
     let exact = solve_exact(&fit, &excess)?;
     let exact_ohm: Vec<f64> = fit.targets.iter().zip(&exact).map(|(t, p)| t.placement.ohm(*p)).collect();
     let exact_dev: Vec<Vec<f64>> = (0..n).map(|j| fit.deviations(j)).collect::<Result<_, _>>()?;
