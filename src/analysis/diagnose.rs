@@ -516,11 +516,14 @@ pub struct ThreePoint {
 /// |Z| = Re sqrt(r0); Qms = fs sqrt(r0) / (f2 - f1), Qes = Qms / (r0 - 1). `re` is the DC
 /// resistance (the fit's, or the sweep's lowest |Z| below the peak when none is given).
 pub fn three_point(sweep: &ImpedanceTable, re: f64) -> Option<ThreePoint> {
-    let (f, z) = (&sweep.freq_hz, &sweep.ohm);
-    let peak = (0..z.len()).max_by(|a, b| z[*a].total_cmp(&z[*b]))?;
-    if peak == 0 || peak + 1 >= z.len() {
-        return None;
-    }
+    let (f, z, ph) = (&sweep.freq_hz, &sweep.ohm, &sweep.phase_deg);
+    // The resonance is an interior peak of |Z| where the phase turns from inductive to
+    // capacitive; the voice coil's inductance makes |Z| rise again towards the top of a
+    // sweep, to its last point, which is no resonance. Of the interior peaks, those with the
+    // phase crossing within two points either side come first, then the highest.
+    let interior = (1..z.len().saturating_sub(1)).filter(|&i| z[i] > z[i - 1] && z[i] >= z[i + 1]);
+    let crosses = |i: usize| ph[i.saturating_sub(2)..i + 1].iter().any(|p| *p > 0.0) && ph[i..(i + 3).min(ph.len())].iter().any(|p| *p < 0.0);
+    let peak = interior.max_by(|&a, &b| (crosses(a), z[a]).partial_cmp(&(crosses(b), z[b])).unwrap_or(std::cmp::Ordering::Equal))?;
     // The peak refined by a parabola through three points in log frequency.
     let (a, b, c) = (z[peak - 1], z[peak], z[peak + 1]);
     let (la, lb, lc) = (f[peak - 1].ln(), f[peak].ln(), f[peak + 1].ln());

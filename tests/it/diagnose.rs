@@ -142,13 +142,19 @@ fn two_resistors_in_series_cannot_be_told_apart_and_are_named_as_a_pair() {
 /// Small's impedance of a driver in free air, written from the paper: Z = Re + j w Le +
 /// Res / (1 + j Qms (f/fs - fs/f)), Res = Re Qms / Qes; 24 points per octave, 10 Hz to 2 kHz.
 fn small_curve(re: f64, le: f64, fs: f64, qms: f64, qes: f64, noise: Option<u64>) -> String {
+    small_curve_to(re, le, fs, qms, qes, noise, 2000.0)
+}
+
+/// Small's impedance (1972), a resonance in parallel behind Re + jwLe, from 10 Hz to `top`
+/// at 24 points an octave, with a rig's noise when `noise` seeds it.
+fn small_curve_to(re: f64, le: f64, fs: f64, qms: f64, qes: f64, noise: Option<u64>, top: f64) -> String {
     let mut rng = rand_pcg::Pcg64::seed_from_u64(noise.unwrap_or(0));
     let g = Normal::new(0.0, 1.0).unwrap();
     let k = if noise.is_some() { 1.0 } else { 0.0 };
     let res = re * qms / qes;
     let mut out = String::from("# frequency Hz, |Z| ohm, phase deg\n");
     let mut f = 10.0f64;
-    while f <= 2000.0 {
+    while f <= top {
         let w = 2.0 * std::f64::consts::PI * f;
         let z = num_complex::Complex64::new(re, w * le) + res / num_complex::Complex64::new(1.0, qms * (f / fs - fs / f));
         out.push_str(&format!("{f},{},{}\n", z.norm() * (1.0 + k * 0.01 * g.sample(&mut rng)), z.arg().to_degrees() + k * g.sample(&mut rng)));
@@ -190,6 +196,21 @@ fn smalls_model_is_recovered_within_one_per_cent_and_agrees_with_the_three_point
         let e = estimate(&fit, "driver", f);
         assert!(num(e, "low") <= want && want <= num(e, "high") || (num(e, "value") / want - 1.0).abs() < 0.01, "{f}: {e}");
     }
+}
+
+#[test]
+fn a_sweep_whose_voice_coil_inductance_rises_above_the_resonance_is_fitted() {
+    // A woofer swept to 20 kHz: |Z| there (|6 + j 2 pi 20 kHz 0.5 mH| = 63 ohm) is above the
+    // resonance's 42 ohm (Re (1 + Qms / Qes)), and the sweep ends rising. The resonance is the
+    // interior peak where the phase turns, not the sweep's last point.
+    let curve = small_curve_to(6.0, 0.5e-3, 50.0, 3.0, 0.5, None, 20_000.0);
+    let fit = characterise(&curve);
+    for (f, want) in [("re", 6.0), ("fs", 50.0), ("qms", 3.0), ("qes", 0.5)] {
+        let got = num(estimate(&fit, "driver", f), "value");
+        assert!((got / want - 1.0).abs() < 0.01, "{f}: {got} against {want}");
+    }
+    let tp = &fit["three_point"];
+    assert!((num(tp, "fs") / 50.0 - 1.0).abs() < 0.03, "three-point fs {}", num(tp, "fs"));
 }
 
 #[test]
