@@ -514,10 +514,16 @@ fn analysis(node: &Node, ctx: &mut Ctx) -> Option<Analysis> {
                 None => Some(2000),
             };
             let seed = match tf.get("seed") {
+                // Beyond 2^53 a number is no longer read exactly, so the seed written would
+                // not be the seed used: the digits are read as written.
+                Some(big @ Node::Scalar { text, .. }) if text.trim().parse::<u64>().is_ok_and(|v| v > 1 << 53) => {
+                    ctx.error(big.pos(), &tf.at("seed"), "the seed must be a whole number from 0 to 9007199254740992 (2^53)", None);
+                    None
+                }
                 Some(n) => match ctx.bare_number(n, &tf.at("seed")) {
-                    Some(s) if s >= 0.0 && s.fract() == 0.0 => Some(s as u64),
+                    Some(s) if (0.0..=9_007_199_254_740_992.0).contains(&s) && s.fract() == 0.0 => Some(s as u64),
                     Some(_) => {
-                        ctx.error(n.pos(), &tf.at("seed"), "the seed must be a whole number of zero or more", None);
+                        ctx.error(n.pos(), &tf.at("seed"), "the seed must be a whole number from 0 to 9007199254740992 (2^53)", None);
                         None
                     }
                     None => None,

@@ -81,6 +81,7 @@ fn corpus() -> Vec<Case> {
         ("14 parts to fit", s(format!("{}compensate:\n{}", with("  parts:\n", &format!("  parts:\n{}", (0..14).map(|i| format!("    A{i}: {{ kind: resistor, between: [IN, H1], value: auto }}\n")).collect::<String>())), (0..14).map(|i| format!("  A{i}: {{ driver: HF }}\n")).collect::<String>())), "14 parts to fit, above the 12"),
         ("20 options", s(format!("{BASE}options:\n{}", (0..20).map(|i| format!("  o{i}: {{ changes: [] }}\n")).collect::<String>())), "20 options, above the 12"),
         ("20 cabinets", s(format!("{BASE}cabinets:\n{}", (0..20).map(|i| format!("  S{i}: {{}}\n")).collect::<String>())), "20 cabinets, above the 16"),
+        ("a seed beyond 2^53", s(with("per_octave: 6 } }", "per_octave: 6 }, tolerance: { runs: 10, seed: 9007199254740993 } }")), "from 0 to 9007199254740992 (2^53)"),
         ("600 parts", s(with("  parts:\n", &format!("  parts:\n{}", (0..600).map(|i| format!("    R{i}: {{ kind: resistor, between: [IN, H1], value: 1 ohm }}\n")).collect::<String>()))), "above the 500 a network may have"),
     ];
     let mut v: Vec<Case> = jobs.into_iter().map(|(n, j, w)| (n, j, None, w)).collect();
