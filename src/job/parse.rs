@@ -99,6 +99,20 @@ pub fn parse<'n>(root: &'n Node, ctx: &mut Ctx) -> Option<RawJob<'n>> {
     })
 }
 
+/// True, with the error said, when the list or mapping `node` holds more than `max` entries:
+/// `what` names them in the message ("{n} {what}, above the {max} {room}").
+fn too_many(node: &Node, field: &str, max: usize, what: &str, room: &str, hint: &str, ctx: &mut Ctx) -> bool {
+    let n = match node {
+        Node::Map { entries, .. } => entries.len(),
+        Node::Seq { items, .. } => items.len(),
+        _ => 0,
+    };
+    if n > max {
+        ctx.error(node.pos(), field, format!("{n} {what}, above the {max} {room}"), Some(hint.into()));
+    }
+    n > max
+}
+
 /// The change steps as written: each one action, its parts read; what they name is found
 /// in the build stage.
 fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>> {
@@ -106,13 +120,7 @@ fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>>
         ctx.error(node.pos(), field, format!("expected a list of steps (- replace: C1 ...), found {}", node.kind_name()), None);
         return Vec::new();
     };
-    if items.len() > MAX_STEPS {
-        ctx.error(
-            node.pos(),
-            field,
-            format!("{} steps, above the {MAX_STEPS} one list of changes may hold", items.len()),
-            Some("a re-cap replaces each part once; check that this is one speaker's work".into()),
-        );
+    if too_many(node, field, MAX_STEPS, "steps", "one list of changes may hold", "a re-cap replaces each part once; check that this is one speaker's work", ctx) {
         return Vec::new();
     }
     let mut out = Vec::new();
@@ -175,16 +183,8 @@ fn changes<'n>(node: &'n Node, field: &str, ctx: &mut Ctx) -> Vec<RawChange<'n>>
 /// readings and `changes` steps.
 fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
     let mut out = Vec::new();
-    if let Node::Map { entries, .. } = node {
-        if entries.len() > MAX_CABINETS {
-            ctx.error(
-                node.pos(),
-                "cabinets",
-                format!("{} cabinets, above the {MAX_CABINETS} a job may hold", entries.len()),
-                Some("a job is one speaker, a pair or a small set; report larger batches as several jobs".into()),
-            );
-            return out;
-        }
+    if too_many(node, "cabinets", MAX_CABINETS, "cabinets", "a job may hold", "a job is one speaker, a pair or a small set; report larger batches as several jobs", ctx) {
+        return out;
     }
     for (k, v) in map_entries(node, "cabinets", ctx) {
         let path = format!("cabinets.{}", k.name);
@@ -212,16 +212,8 @@ fn cabinets<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawCabinet<'n>> {
 /// The options offered before the work, each with its words, labour and own steps.
 fn options<'n>(node: &'n Node, ctx: &mut Ctx) -> Vec<RawOption<'n>> {
     let mut out = Vec::new();
-    if let Node::Map { entries, .. } = node {
-        if entries.len() > MAX_OPTIONS {
-            ctx.error(
-                node.pos(),
-                "options",
-                format!("{} options, above the {MAX_OPTIONS} a job may hold", entries.len()),
-                Some("a quotation offers a few choices; each is solved in full".into()),
-            );
-            return out;
-        }
+    if too_many(node, "options", MAX_OPTIONS, "options", "a job may hold", "a quotation offers a few choices; each is solved in full", ctx) {
+        return out;
     }
     for (k, v) in map_entries(node, "options", ctx) {
         let path = format!("options.{}", k.name);
@@ -277,16 +269,16 @@ fn prices(node: &Node, ctx: &mut Ctx) -> Option<(TableRef, String)> {
 /// The compensate entries as written; the parts and drivers they name are found later.
 fn compensate(node: &Node, field: &str, ctx: &mut Ctx) -> Vec<RawCompensate> {
     let mut out = Vec::new();
-    if let Node::Map { entries, .. } = node {
-        if entries.len() > MAX_FITTED {
-            ctx.error(
-                node.pos(),
-                field,
-                format!("{} parts to fit, above the {MAX_FITTED} one fit may solve together", entries.len()),
-                Some("a speaker's level needs a resistor or an L-pad per driver; the joint fit's time grows steeply with every part".into()),
-            );
-            return out;
-        }
+    if too_many(
+        node,
+        field,
+        MAX_FITTED,
+        "parts to fit",
+        "one fit may solve together",
+        "a speaker's level needs a resistor or an L-pad per driver; the joint fit's time grows steeply with every part",
+        ctx,
+    ) {
+        return out;
     }
     for (k, v) in map_entries(node, field, ctx) {
         let path = format!("{field}.{}", k.name);

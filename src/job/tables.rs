@@ -205,6 +205,18 @@ impl Ctx<'_> {
         Some((name, cols))
     }
 
+    /// True, with the error said at the table's reference, when a value of `column` is
+    /// `bad`; `message` takes the row's number (from 1) and the value.
+    fn refuse_row(&mut self, r: &TableRef, column: &[f64], bad: impl Fn(f64) -> bool, message: impl Fn(usize, f64) -> String, hint: &str) -> bool {
+        match column.iter().position(|v| bad(*v)) {
+            Some(i) => {
+                self.error(r.pos, &r.field, message(i + 1, column[i]), Some(hint.into()));
+                true
+            }
+            None => false,
+        }
+    }
+
     /// A driver's measured impedance: frequency Hz, |Z| ohm (above zero), phase deg.
     pub(crate) fn impedance_table(&mut self, r: &TableRef) -> Option<ImpedanceTable> {
         let (file, [fr, ohm, ph]) = self.table(r, 2)?;
@@ -213,23 +225,11 @@ impl Ctx<'_> {
             return None;
         }
         let (lo, hi, range) = Quantity::Resistance.plausible();
-        if let Some(i) = ohm.iter().position(|z| !(lo..=hi).contains(z)) {
-            self.error(
-                r.pos,
-                &r.field,
-                format!("{file}: row {} has |Z| = {} ohm, not a plausible impedance ({range})", i + 1, ohm[i]),
-                Some("the columns are frequency Hz, |Z| ohm, phase deg".into()),
-            );
-            return None;
-        }
-        // A passive impedance lies within +-90 degrees; a meter's wrap may show up to 180.
-        if let Some(i) = ph.iter().position(|p| p.abs() > 180.0) {
-            self.error(
-                r.pos,
-                &r.field,
-                format!("{file}: row {} has a phase of {} deg; an impedance's phase lies within -180 to +180 deg", i + 1, ph[i]),
-                Some("the columns are frequency Hz, |Z| ohm, phase deg".into()),
-            );
+        let columns = "the columns are frequency Hz, |Z| ohm, phase deg";
+        if self.refuse_row(r, &ohm, |z| !(lo..=hi).contains(&z), |i, z| format!("{file}: row {i} has |Z| = {z} ohm, not a plausible impedance ({range})"), columns)
+            // A passive impedance lies within +-90 degrees; a meter's wrap may show up to 180.
+            || self.refuse_row(r, &ph, |p| p.abs() > 180.0, |i, p| format!("{file}: row {i} has a phase of {p} deg; an impedance's phase lies within -180 to +180 deg"), columns)
+        {
             return None;
         }
         Some(ImpedanceTable { file, freq_hz: fr, ohm, phase_deg: ph })
@@ -239,23 +239,11 @@ impl Ctx<'_> {
     pub(crate) fn response_table(&mut self, r: &TableRef) -> Option<ResponseTable> {
         let (file, [f, spl, ph]) = self.table(r, 2)?;
         let (lo, hi, range) = Quantity::Decibel.plausible();
-        if let Some(i) = spl.iter().position(|v| !(lo..=hi).contains(v)) {
-            self.error(
-                r.pos,
-                &r.field,
-                format!("{file}: row {} has an SPL of {} dB, not a plausible level ({range})", i + 1, spl[i]),
-                Some("the columns are frequency Hz, SPL dB, phase deg".into()),
-            );
-            return None;
-        }
-        // Acoustic phase may be unwrapped, but not beyond a thousand turns.
-        if let Some(i) = ph.iter().position(|p| p.abs() > 360_000.0) {
-            self.error(
-                r.pos,
-                &r.field,
-                format!("{file}: row {} has a phase of {} deg, more than a thousand turns", i + 1, ph[i]),
-                Some("the columns are frequency Hz, SPL dB, phase deg".into()),
-            );
+        let columns = "the columns are frequency Hz, SPL dB, phase deg";
+        if self.refuse_row(r, &spl, |v| !(lo..=hi).contains(&v), |i, v| format!("{file}: row {i} has an SPL of {v} dB, not a plausible level ({range})"), columns)
+            // Acoustic phase may be unwrapped, but not beyond a thousand turns.
+            || self.refuse_row(r, &ph, |p| p.abs() > 360_000.0, |i, p| format!("{file}: row {i} has a phase of {p} deg, more than a thousand turns"), columns)
+        {
             return None;
         }
         Some(ResponseTable { file, freq_hz: f, spl_db: spl, phase_deg: ph })
