@@ -59,11 +59,12 @@ impl fmt::Display for Problems {
             }
             if let Some(line) = d.pos.line.checked_sub(1).and_then(|i| lines.get(i)) {
                 let gutter = d.pos.line.to_string();
-                // A long line is shown around the column only: 60 characters either side.
+                // A line of up to 200 characters is shown whole; a longer one around the
+                // column only, 100 characters either side.
                 let col = d.pos.col.saturating_sub(1);
-                let start = col.saturating_sub(60);
-                let shown: String = line.chars().skip(start).take(120).collect();
-                let (before, after) = (if start > 0 { "..." } else { "" }, if line.chars().count() > start + 120 { "..." } else { "" });
+                let (start, width) = if line.chars().count() <= 200 { (0, 200) } else { (col.saturating_sub(100), 200) };
+                let shown: String = line.chars().skip(start).take(width).collect();
+                let (before, after) = (if start > 0 { "..." } else { "" }, if line.chars().count() > start + width { "..." } else { "" });
                 writeln!(f, "{} | {before}{shown}{after}", gutter)?;
                 let caret_pad: String = before.chars().chain(line.chars().skip(start).take(col - start)).map(|c| if c == '\t' { '\t' } else { ' ' }).collect();
                 writeln!(f, "{} | {}^", " ".repeat(gutter.len()), caret_pad)?;
