@@ -48,33 +48,63 @@ pub struct Problems {
     pub list: Vec<Diagnostic>,
 }
 
+/// The most problems printed for one file; the rest are counted. Past the first few dozen,
+/// one mistake repeated (a file of thousands of unknown keys) is the likelier story.
+pub const MAX_SHOWN: usize = 50;
+
+/// The longest line a message prints (a refused value of 19,000 characters is shown by its
+/// ends and its length).
+pub const MAX_LINE: usize = 300;
+
 impl fmt::Display for Problems {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let lines: Vec<&str> = self.source.lines().collect();
-        for d in &self.list {
+        use crate::text::{printable, shorten};
+        // Everything from the job (keys, node names, file names, values) is printed with its
+        // control characters escaped and each line kept readable.
+        let say = |s: &str| printable(&shorten(s, MAX_LINE));
+        let file = say(&self.file);
+        let lines: Vec<&str> = if self.list.is_empty() { Vec::new() } else { self.source.lines().collect() };
+        for d in self.list.iter().take(MAX_SHOWN) {
             if d.field.is_empty() {
-                writeln!(f, "{}:{}:{}: {}", self.file, d.pos.line, d.pos.col, d.message)?;
+                writeln!(f, "{}:{}:{}: {}", file, d.pos.line, d.pos.col, say(&d.message))?;
             } else {
-                writeln!(f, "{}:{}:{}: {}: {}", self.file, d.pos.line, d.pos.col, d.field, d.message)?;
+                writeln!(f, "{}:{}:{}: {}: {}", file, d.pos.line, d.pos.col, say(&d.field), say(&d.message))?;
             }
             if let Some(line) = d.pos.line.checked_sub(1).and_then(|i| lines.get(i)) {
                 let gutter = d.pos.line.to_string();
                 // A line of up to 200 characters is shown whole; a longer one around the
-                // column only, 100 characters either side.
+                // column only, 100 characters either side. Control characters are escaped,
+                // and the caret counts the escapes' width.
                 let col = d.pos.col.saturating_sub(1);
-                let (start, width) = if line.chars().count() <= 200 { (0, 200) } else { (col.saturating_sub(100), 200) };
+                let count = line.chars().count();
+                let (start, width) = if count <= 200 { (0, 200) } else { (col.saturating_sub(100), 200) };
                 let shown: String = line.chars().skip(start).take(width).collect();
-                let (before, after) = (if start > 0 { "..." } else { "" }, if line.chars().count() > start + width { "..." } else { "" });
-                writeln!(f, "{} | {before}{shown}{after}", gutter)?;
-                let caret_pad: String = before.chars().chain(line.chars().skip(start).take(col - start)).map(|c| if c == '\t' { '\t' } else { ' ' }).collect();
+                let (before, after) = (if start > 0 { "..." } else { "" }, if count > start + width { "..." } else { "" });
+                writeln!(f, "{} | {before}{}{after}", gutter, printable(&shown))?;
+                let upto: String = line.chars().skip(start).take(col.saturating_sub(start)).collect();
+                let caret_pad = " ".repeat(before.len() + printable(&upto).chars().count());
                 writeln!(f, "{} | {}^", " ".repeat(gutter.len()), caret_pad)?;
             }
             if let Some(h) = &d.hint {
-                writeln!(f, "  hint: {}", h)?;
+                writeln!(f, "  hint: {}", say(h))?;
             }
         }
         let n = self.list.len();
-        write!(f, "{}: {} problem{} found", self.file, n, if n == 1 { "" } else { "s" })
+        if n > MAX_SHOWN {
+            writeln!(f, "... and {} more problems not shown; fix these first", n - MAX_SHOWN)?;
+        }
+        write!(f, "{}: {} problem{} found", file, n, if n == 1 { "" } else { "s" })
+    }
+}
+
+/// Warnings about one file, printed as problems are (place, snippet, hint) but marked
+/// `warning:` and without the closing count: the job is not refused.
+pub fn warnings(file: &str, source: &str, list: &[Diagnostic]) -> String {
+    let marked = list.iter().map(|d| Diagnostic { message: format!("warning: {}", d.message), ..d.clone() }).collect();
+    let text = Problems { file: file.to_string(), source: source.to_string(), list: marked }.to_string();
+    match text.rsplit_once('\n') {
+        Some((body, _)) => format!("{body}\n"),
+        None => String::new(),
     }
 }
 

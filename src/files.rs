@@ -12,11 +12,51 @@ pub struct FileError {
     /// The file as a message names it (its full path, for a file on disk).
     pub file: String,
     pub reason: String,
+    /// The file's size, when it was refused for being larger than the reader takes.
+    pub too_big: Option<u64>,
+}
+
+impl FileError {
+    pub fn new(file: String, reason: String) -> FileError {
+        FileError { file, reason, too_big: None }
+    }
+
+    fn too_big(file: String, size: u64, max: usize) -> FileError {
+        FileError { file, reason: format!("it is {} bytes, above the {} ({}) voicekeep reads for a file of this kind", size, max, in_mb(max)), too_big: Some(size) }
+    }
+}
+
+/// A size limit in words: "1 MB", "16 MB".
+pub fn in_mb(bytes: usize) -> String {
+    format!("{} MB", bytes.div_ceil(1024 * 1024))
 }
 
 pub trait Files: Sync {
-    /// The bytes of `name`, a path as the job writes it (relative to the job's folder).
-    fn read(&self, name: &str) -> Result<Vec<u8>, FileError>;
+    /// The bytes of `name`, a path as the job writes it (relative to the job's folder), if
+    /// it holds at most `max` bytes: a larger file is refused before it is read.
+    fn read(&self, name: &str, max: usize) -> Result<Vec<u8>, FileError>;
+}
+
+/// Reads at most `max` bytes of the regular file at `path`, refusing a larger one by its
+/// size before reading, and one that grows past it while being read.
+pub fn read_limited(path: &Path, max: usize) -> Result<Vec<u8>, FileError> {
+    use std::io::Read;
+    let fail = |reason: String| FileError::new(path.display().to_string(), reason);
+    let meta = std::fs::metadata(path).map_err(|e| fail(e.to_string()))?;
+    // Only regular files: a pipe or a device would block the read or never end.
+    if !meta.is_file() {
+        return Err(fail(if meta.is_dir() { "it is a folder, not a file".into() } else { "it is not a regular file (a pipe, socket or device)".into() }));
+    }
+    if meta.len() > max as u64 {
+        return Err(FileError::too_big(path.display().to_string(), meta.len(), max));
+    }
+    let file = std::fs::File::open(path).map_err(|e| fail(e.to_string()))?;
+    let mut bytes = Vec::with_capacity(meta.len() as usize);
+    file.take(max as u64 + 1).read_to_end(&mut bytes).map_err(|e| fail(e.to_string()))?;
+    if bytes.len() > max {
+        return Err(FileError::too_big(path.display().to_string(), bytes.len() as u64, max));
+    }
+    Ok(bytes)
 }
 
 /// The files of one folder on disk: the job's.
@@ -51,9 +91,9 @@ impl DiskFiles {
 }
 
 impl Files for DiskFiles {
-    fn read(&self, name: &str) -> Result<Vec<u8>, FileError> {
+    fn read(&self, name: &str, max: usize) -> Result<Vec<u8>, FileError> {
         let full = self.path_of(name);
-        let fail = |reason: String| FileError { file: full.display().to_string(), reason };
+        let fail = |reason: String| FileError::new(full.display().to_string(), reason);
         if !self.outside {
             // Where the path really leads, links followed, against the folder's own place.
             let outside = || {
@@ -68,13 +108,7 @@ impl Files for DiskFiles {
                 return Err(outside());
             }
         }
-        // Only regular files: a pipe or a device would block the read or never end.
-        match std::fs::metadata(&full) {
-            Ok(m) if !m.is_file() => return Err(fail(if m.is_dir() { "it is a folder, not a file".into() } else { "it is not a regular file (a pipe, socket or device)".into() })),
-            Err(e) => return Err(fail(e.to_string())),
-            Ok(_) => {}
-        }
-        std::fs::read(&full).map_err(|e| fail(e.to_string()))
+        read_limited(&full, max)
     }
 }
 
@@ -96,7 +130,11 @@ impl MemFiles {
 }
 
 impl Files for MemFiles {
-    fn read(&self, name: &str) -> Result<Vec<u8>, FileError> {
-        self.files.get(name).cloned().ok_or_else(|| FileError { file: name.to_string(), reason: "no such file".into() })
+    fn read(&self, name: &str, max: usize) -> Result<Vec<u8>, FileError> {
+        let bytes = self.files.get(name).ok_or_else(|| FileError::new(name.to_string(), "no such file".into()))?;
+        if bytes.len() > max {
+            return Err(FileError::too_big(name.to_string(), bytes.len() as u64, max));
+        }
+        Ok(bytes.clone())
     }
 }

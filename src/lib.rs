@@ -16,4 +16,5 @@ pub mod model;
 pub mod money;
 pub mod report;
 pub mod results;
+pub mod text;
 pub mod units;

@@ -380,6 +380,17 @@ pub fn a_or_an(v: f64) -> &'static str {
     }
 }
 
+/// A number as a message shows it: as Rust writes it when that is short, else in scientific
+/// notation (1e308 is "1e308", not 309 digits).
+pub fn shown(v: f64) -> String {
+    let plain = format!("{v}");
+    if plain.len() <= 16 {
+        plain
+    } else {
+        format!("{v:e}")
+    }
+}
+
 /// A number with `digits` significant digits and no trailing zeros.
 pub fn trim_number(v: f64, digits: usize) -> String {
     if v == 0.0 {

@@ -145,8 +145,12 @@ pub fn analyse_set(job: &Job, progress: &dyn Progress) -> Result<SetFindings, An
     let mut plans = jobs.iter().zip(&pres).map(|(j, p)| plan_of(j, p)).collect::<Result<Vec<_>, _>>()?;
 
     // One standard value for every cabinet, where one keeps each within half the pair
-    // tolerance of its reference (so within the tolerance of each other).
+    // tolerance of its reference (so within the tolerance of each other). Each entry's
+    // common value is judged against the cabinets' own plans; a cabinet whose values changed
+    // is planned again once, after every entry is decided (planning it again after each
+    // entry cost a joint fit per entry and cabinet: minutes for twelve parts in a set).
     let mut compensation = Vec::new();
+    let mut stale = vec![false; plans.len()];
     for entry in &job.compensate {
         let fits: Vec<_> = plans.iter().filter_map(|p| p.fits.iter().find(|f| f.part == entry.part)).collect();
         if fits.len() != plans.len() {
@@ -195,7 +199,7 @@ pub fn analyse_set(job: &Job, progress: &dyn Progress) -> Result<SetFindings, An
                     e.common_ohm = Some(v);
                 }
                 if (own[k].ohm - v).abs() > 1e-12 {
-                    plans[k] = plan_of(j, &pres[k])?;
+                    stale[k] = true;
                 }
             }
         }
@@ -212,6 +216,12 @@ pub fn analyse_set(job: &Job, progress: &dyn Progress) -> Result<SetFindings, An
             common_worst_db: best.map(|(_, w)| w).unwrap_or(f64::NAN),
             reason,
         });
+    }
+
+    for (k, j) in jobs.iter().enumerate() {
+        if stale[k] {
+            plans[k] = plan_of(j, &pres[k])?;
+        }
     }
 
     // Full findings per cabinet; then ratings chosen for `rating: auto` resistors raised to

@@ -15,6 +15,16 @@ use crate::model::{Job, Template};
 use crate::report;
 use crate::results;
 
+/// `eprintln!` with every control character escaped: a file name, key or node name holding
+/// ESC or BEL never acts on the terminal.
+macro_rules! say_err {
+    ($($t:tt)*) => { eprintln!("{}", crate::text::printable(&format!($($t)*))) };
+}
+
+macro_rules! say_err_raw {
+    ($($t:tt)*) => { eprint!("{}", crate::text::printable(&format!($($t)*))) };
+}
+
 pub const OK: u8 = 0;
 pub const PROBLEMS: u8 = 1;
 pub const USAGE: u8 = 2;
@@ -43,12 +53,12 @@ pub struct Cli {
 enum Command {
     /// Check a job file and list every problem with its line and column
     Check {
-        /// The job file (YAML)
+        /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
     },
     /// Solve the job and print the compensation plan, levels, load and stress
     Solve {
-        /// The job file (YAML)
+        /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
         /// text for people, json for other programs
         #[arg(long, value_enum, default_value_t = Format::Text)]
@@ -56,7 +66,7 @@ enum Command {
     },
     /// Write the PDF service report
     Report {
-        /// The job file (YAML)
+        /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
         /// Where to write the PDF (default: beside the job, same name)
         #[arg(short, long)]
@@ -67,7 +77,7 @@ enum Command {
     },
     /// Write the plots alone, named after the job (JOB-response.svg, ...)
     Plot {
-        /// The job file (YAML)
+        /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
         /// Folder for the plot files
         #[arg(long)]
@@ -78,7 +88,7 @@ enum Command {
     },
     /// Estimate drifted parts from the sweep at the terminals as found (terminals.as_found)
     Diagnose {
-        /// The job file (YAML)
+        /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
         /// text for people, json for other programs
         #[arg(long, value_enum, default_value_t = Format::Text)]
@@ -155,11 +165,12 @@ where
 /// Writes to stdout; a closed pipe (`voicekeep solve job | head`) is not an error.
 fn out(text: &str) -> u8 {
     let mut o = std::io::stdout().lock();
+    let text = crate::text::printable(text);
     match o.write_all(text.as_bytes()).and_then(|_| o.flush()) {
         Ok(()) => OK,
         Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => OK,
         Err(e) => {
-            eprintln!("voicekeep: cannot write to standard output: {e}");
+            say_err!("voicekeep: cannot write to standard output: {e}");
             FAILURE
         }
     }
@@ -169,8 +180,15 @@ fn out(text: &str) -> u8 {
 static OUTSIDE: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 
 fn load(path: &Path) -> Result<Job, u8> {
-    job::load_allowing(path, OUTSIDE.load(std::sync::atomic::Ordering::Relaxed)).map_err(|e| {
-        eprintln!("{e}");
+    let loaded = job::load_allowing(path, OUTSIDE.load(std::sync::atomic::Ordering::Relaxed));
+    if let Ok(job) = &loaded {
+        if !job.warnings.is_empty() {
+            let source = job.inputs.first().map(|i| String::from_utf8_lossy(&i.bytes).into_owned()).unwrap_or_default();
+            say_err_raw!("{}", crate::diag::warnings(&path.display().to_string(), &source, &job.warnings));
+        }
+    }
+    loaded.map_err(|e| {
+        say_err!("{e}");
         match e {
             LoadError::Io { .. } => FAILURE,
             LoadError::Problems(_) => PROBLEMS,
@@ -216,7 +234,7 @@ fn analyse(path: &Path, job: &Job) -> Result<analysis::Outcome, u8> {
     analysis::analyse_job(job, &Bar(std::sync::Mutex::new(None))).map_err(|e| {
         // Reported like every other problem in the job: file, line, column, snippet, hint.
         let source = job.inputs.first().map(|i| String::from_utf8_lossy(&i.bytes).into_owned()).unwrap_or_default();
-        eprintln!("{}", crate::diag::Problems { file: path.display().to_string(), source, list: vec![e.diagnostic(job)] });
+        say_err!("{}", crate::diag::Problems { file: path.display().to_string(), source, list: vec![e.diagnostic(job)] });
         PROBLEMS
     })
 }
@@ -258,7 +276,7 @@ fn solve(path: &Path, format: Format) -> u8 {
         Format::Json => match serde_json::to_string_pretty(&results::json_outcome(&job, &f)) {
             Ok(s) => out(&(s + "\n")),
             Err(e) => {
-                eprintln!("voicekeep: internal error writing JSON: {e}; please report this");
+                say_err!("voicekeep: internal error writing JSON: {e}; please report this");
                 FAILURE
             }
         },
@@ -269,7 +287,7 @@ fn print_json(v: &serde_json::Value) -> u8 {
     match serde_json::to_string_pretty(v) {
         Ok(s) => out(&(s + "\n")),
         Err(e) => {
-            eprintln!("voicekeep: internal error writing JSON: {e}; please report this");
+            say_err!("voicekeep: internal error writing JSON: {e}; please report this");
             FAILURE
         }
     }
@@ -290,8 +308,8 @@ fn diagnose(path: &Path, format: Format) -> u8 {
         }
     }
     if !any {
-        eprintln!("{}: there is no sweep as found to diagnose from", path.display());
-        eprintln!("  hint: sweep the speaker at its terminals before opening it and name the file in `terminals.as_found` (a pair's under `cabinets.NAME.terminals`)");
+        say_err!("{}: there is no sweep as found to diagnose from", path.display());
+        say_err!("  hint: sweep the speaker at its terminals before opening it and name the file in `terminals.as_found` (a pair's under `cabinets.NAME.terminals`)");
         return PROBLEMS;
     }
     let o = match analyse(path, &job) {
@@ -335,14 +353,14 @@ fn characterise(path: &Path, leach: bool, format: Format) -> u8 {
     let sweep = match job::read_impedance_table(path) {
         Ok(t) => t,
         Err(e) => {
-            eprintln!("{e}");
+            say_err!("{e}");
             return PROBLEMS;
         }
     };
     let fit = match analysis::diagnose::characterise(&sweep, leach) {
         Ok(f) => f,
         Err(e) => {
-            eprintln!("{}: {e}", path.display());
+            say_err!("{}: {e}", path.display());
             return PROBLEMS;
         }
     };
@@ -359,21 +377,27 @@ fn template_choice(arg: Option<String>, job: &Job) -> Result<Template, u8> {
     if let Some(t) = Template::built_in(&arg) {
         return Ok(t);
     }
-    match std::fs::read(&arg) {
+    match crate::files::read_limited(Path::new(&arg), report::MAX_TEMPLATE_BYTES).and_then(|b| report::template_text(&arg, b)) {
         Ok(bytes) => Ok(Template::File { name: arg, text: String::from_utf8_lossy(&bytes).into_owned() }),
         Err(e) => {
-            eprintln!("voicekeep: cannot read the template {arg}: {e}");
+            say_err!("voicekeep: cannot read the template {}: {}", crate::text::printable(&arg), e.reason);
             Err(PROBLEMS)
         }
     }
 }
 
 fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8 {
+    let cli_template = template.is_some();
     if let Some(t) = &template {
         if Template::built_in(t).is_none() && !t.ends_with(".typ") {
-            eprintln!("voicekeep: --template takes customer, archive, sale, quote or the path of a .typ file, not \"{t}\"");
+            say_err!("voicekeep: --template takes customer, archive, sale, quote or the path of a .typ file, not \"{t}\"");
             return USAGE;
         }
+    }
+    if path.as_os_str() == "-" && output.is_none() {
+        say_err!("voicekeep: a job read from standard input (-) has no folder to write its report beside");
+        say_err!("  hint: name the report with -o, such as -o report.pdf");
+        return USAGE;
     }
     let job = match load(path) {
         Ok(j) => j,
@@ -384,7 +408,19 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
         Ok(t) => t,
         Err(c) => return c,
     };
-    match render_to(path, &job, &template, &target) {
+    // A template named on the command line is read too: the report never takes its place.
+    if let Template::File { name, .. } = &template {
+        if std::fs::canonicalize(name).ok().as_ref() == Some(&where_written(&target)) {
+            say_err!("{}: the report would overwrite {}, the template it is drawn with", path.display(), target.display());
+            say_err!("  hint: write the report elsewhere with -o, such as -o {}", elsewhere(path, "report.pdf").display());
+            return PROBLEMS;
+        }
+    }
+    let template_arg = match &template {
+        Template::File { name, .. } if cli_template => Some(name.clone()),
+        _ => None,
+    };
+    match render_to(path, &job, &template, &target, template_arg.as_deref()) {
         Ok(()) => out(&format!("wrote {}\n", target.display())),
         Err(c) => c,
     }
@@ -410,23 +446,36 @@ fn elsewhere(path: &Path, suffix: &str) -> PathBuf {
     path.with_file_name(format!("{stem}-{suffix}"))
 }
 
-fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Result<(), u8> {
+/// Set in the child process that draws a report with a shop's own template.
+const CONFINED: &str = "VOICEKEEP_CONFINED_RENDER";
+
+/// `template_arg` is the `--template` the command line gave, if any (the child is given it
+/// again); without it the template is the job's own.
+fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, template_arg: Option<&str>) -> Result<(), u8> {
     // A quotation offers work: choices (`options`) or one proposal (`changes`).
     let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
     if *template == Template::Quote && !proposes {
-        eprintln!("{}: a quotation offers work, and this job lists neither `options` nor `changes`", path.display());
-        eprintln!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template (customer, archive, sale)");
+        say_err!("{}: a quotation offers work, and this job lists neither `options` nor `changes`", path.display());
+        say_err!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template (customer, archive, sale)");
         return Err(PROBLEMS);
     }
     // The report never takes the place of the job or of anything it read.
     if read_by(path, job).contains(&where_written(target)) {
-        eprintln!("{}: the report would overwrite {}, one of the job's own inputs", path.display(), target.display());
-        eprintln!("  hint: write the report elsewhere with -o, such as -o {}", elsewhere(path, "report.pdf").display());
+        say_err!("{}: the report would overwrite {}, one of the job's own inputs", path.display(), target.display());
+        say_err!("  hint: write the report elsewhere with -o, such as -o {}", elsewhere(path, "report.pdf").display());
         return Err(PROBLEMS);
+    }
+    // A shop's own template is code: it runs in a child process of its own, stopped when it
+    // runs too long or too large, so a loop in it cannot hang the run or take the machine.
+    if let Template::File { name, .. } = template {
+        if std::env::var_os(CONFINED).is_none() {
+            return confined::render(path, name, template_arg, target);
+        }
+        confined::limit_memory();
     }
     let f = analyse(path, job)?;
     let pdf = report::render_outcome(job, &f, template).map_err(|e| {
-        eprintln!("{}: {e}", path.display());
+        say_err!("{}: {e}", path.display());
         if matches!(e, report::ReportError::Template { .. }) {
             PROBLEMS
         } else {
@@ -434,7 +483,7 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path) -> Resu
         }
     })?;
     report::write_atomically(target, &pdf).map_err(|e| {
-        eprintln!("voicekeep: cannot write {}: {e}", target.display());
+        say_err!("voicekeep: cannot write {}: {e}", target.display());
         FAILURE
     })
 }
@@ -445,12 +494,12 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
         Err(c) => return c,
     };
     if let Err(e) = std::fs::create_dir_all(dir) {
-        eprintln!("voicekeep: cannot create {}: {e}", dir.display());
+        say_err!("voicekeep: cannot create {}: {e}", dir.display());
         return FAILURE;
     }
     let mut written = String::new();
     // Named after the job, so the plots of several jobs can share a folder.
-    let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into());
+    let stem = if path.as_os_str() == "-" { "standard-input".into() } else { path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into()) };
     for (kind, svg) in report::plots::all_outcome(&job, &f) {
         let name = kind.name();
         let (file, bytes) = match format {
@@ -458,18 +507,18 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
             PlotFormat::Png => match report::plots::svg_to_png(&svg) {
                 Ok(b) => (dir.join(format!("{stem}-{name}.png")), b),
                 Err(e) => {
-                    eprintln!("voicekeep: internal error drawing {name}.png: {e}; please report this");
+                    say_err!("voicekeep: internal error drawing {name}.png: {e}; please report this");
                     return FAILURE;
                 }
             },
         };
         if read_by(path, &job).contains(&where_written(&file)) {
-            eprintln!("{}: the plot would overwrite {}, one of the job's own inputs", path.display(), file.display());
-            eprintln!("  hint: write the plots to another folder with --out");
+            say_err!("{}: the plot would overwrite {}, one of the job's own inputs", path.display(), file.display());
+            say_err!("  hint: write the plots to another folder with --out");
             return PROBLEMS;
         }
         if let Err(e) = report::write_atomically(&file, &bytes) {
-            eprintln!("voicekeep: cannot write {}: {e}", file.display());
+            say_err!("voicekeep: cannot write {}: {e}", file.display());
             return FAILURE;
         }
         written.push_str(&format!("wrote {}\n", file.display()));
@@ -544,7 +593,7 @@ fn new(example: &str) -> u8 {
         Some((name, text)) => out(&starter(name, text)),
         None => {
             let names: Vec<&str> = STARTERS.iter().map(|(n, _)| *n).collect();
-            eprintln!("voicekeep: no starter job called \"{example}\"; choose one of: {}", names.join(", "));
+            say_err!("voicekeep: no starter job called \"{example}\"; choose one of: {}", names.join(", "));
             USAGE
         }
     }
@@ -558,17 +607,17 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
     let mut jobs: Vec<PathBuf> = match std::fs::read_dir(dir) {
         Ok(rd) => rd.filter_map(|e| e.ok().map(|e| e.path())).filter(|p| matches!(p.extension().and_then(|e| e.to_str()), Some("yaml") | Some("yml"))).collect(),
         Err(e) => {
-            eprintln!("voicekeep: cannot read folder {}: {e}", dir.display());
+            say_err!("voicekeep: cannot read folder {}: {e}", dir.display());
             return FAILURE;
         }
     };
     jobs.sort();
     if jobs.is_empty() {
-        eprintln!("voicekeep: no job files (*.yaml, *.yml) in {}", dir.display());
+        say_err!("voicekeep: no job files (*.yaml, *.yml) in {}", dir.display());
         return PROBLEMS;
     }
     if let Err(e) = std::fs::create_dir_all(out_dir) {
-        eprintln!("voicekeep: cannot create {}: {e}", out_dir.display());
+        say_err!("voicekeep: cannot create {}: {e}", out_dir.display());
         return FAILURE;
     }
     let bar = indicatif::ProgressBar::new(jobs.len() as u64);
@@ -589,12 +638,12 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
                 let target = out_dir.join(format!("{}.pdf", p.file_stem().unwrap_or_default().to_string_lossy()));
                 let real = where_written(&target);
                 if let Some(first) = taken.get(&real) {
-                    eprintln!("{}: its report would be {}, as {}'s is", p.display(), target.display(), first.display());
-                    eprintln!("  hint: give the two job files different names (their names less .yaml or .yml name the reports)");
+                    say_err!("{}: its report would be {}, as {}'s is", p.display(), target.display(), first.display());
+                    say_err!("  hint: give the two job files different names (their names less .yaml or .yml name the reports)");
                     Err(PROBLEMS)
                 } else if let Some((_, owner)) = inputs.iter().find(|(i, owner)| *i == real && *owner != p.as_path()) {
-                    eprintln!("{}: its report would overwrite {}, which {} reads", p.display(), target.display(), owner.display());
-                    eprintln!("  hint: write the reports to another folder with --out");
+                    say_err!("{}: its report would overwrite {}, which {} reads", p.display(), target.display(), owner.display());
+                    say_err!("  hint: write the reports to another folder with --out");
                     Err(PROBLEMS)
                 } else {
                     taken.insert(real, p.as_path());
@@ -608,7 +657,7 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
         .par_iter()
         .map(|(p, plan)| {
             let code = match plan {
-                Ok((job, target)) => match render_to(p, job, &job.template.clone(), target) {
+                Ok((job, target)) => match render_to(p, job, &job.template.clone(), target, None) {
                     Ok(()) => OK,
                     Err(c) => c,
                 },
@@ -632,5 +681,101 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
         PROBLEMS
     } else {
         code
+    }
+}
+
+/// Drawing a report with a shop's own template in a child process with limits: at most
+/// [`confined::SECONDS`] seconds and, on Linux, [`confined::MEMORY`] bytes of address space.
+mod confined {
+    use std::io::Read;
+    use std::path::Path;
+    use std::process::{Command, Stdio};
+    use std::time::{Duration, Instant};
+
+    use super::{CONFINED, FAILURE, OK, OUTSIDE, PROBLEMS};
+
+    /// The longest a report with a shop's template may take to draw.
+    pub const SECONDS: u64 = 20;
+    /// The most address space the drawing may use (the built-in templates need a few hundred MB).
+    pub const MEMORY: u64 = 1024 * 1024 * 1024;
+
+    /// In the child: the limit on its own address space.
+    pub fn limit_memory() {
+        #[cfg(target_os = "linux")]
+        {
+            use rustix::process::{setrlimit, Resource, Rlimit};
+            let _ = setrlimit(Resource::As, Rlimit { current: Some(MEMORY), maximum: Some(MEMORY) });
+        }
+    }
+
+    /// In the parent: runs `voicekeep report` for the job in a child and waits for it, within
+    /// the limits; its messages are passed on, and a child stopped is said in words.
+    pub fn render(path: &Path, template: &str, template_arg: Option<&str>, target: &Path) -> Result<(), u8> {
+        let exe = match std::env::current_exe() {
+            Ok(e) => e,
+            Err(e) => {
+                say_err!("voicekeep: cannot start the template's drawing: {e}");
+                return Err(FAILURE);
+            }
+        };
+        let mut cmd = Command::new(exe);
+        if OUTSIDE.load(std::sync::atomic::Ordering::Relaxed) {
+            cmd.arg("--allow-outside");
+        }
+        cmd.arg("report").arg(path).arg("-o").arg(target);
+        if let Some(t) = template_arg {
+            cmd.arg("--template").arg(t);
+        }
+        cmd.env(CONFINED, "1").stdin(Stdio::null()).stdout(Stdio::null()).stderr(Stdio::piped());
+        let mut child = match cmd.spawn() {
+            Ok(c) => c,
+            Err(e) => {
+                say_err!("voicekeep: cannot start the template's drawing: {e}");
+                return Err(FAILURE);
+            }
+        };
+        let mut stderr = child.stderr.take();
+        let reader = std::thread::spawn(move || {
+            let mut text = String::new();
+            if let Some(s) = stderr.as_mut() {
+                let _ = s.take(1 << 20).read_to_string(&mut text);
+            }
+            text
+        });
+        let start = Instant::now();
+        let status = loop {
+            match child.try_wait() {
+                Ok(Some(status)) => break Some(status),
+                Ok(None) if start.elapsed() >= Duration::from_secs(SECONDS) => {
+                    let _ = child.kill();
+                    let _ = child.wait();
+                    break None;
+                }
+                Ok(None) => std::thread::sleep(Duration::from_millis(10)),
+                Err(_) => break None,
+            }
+        };
+        let said = reader.join().unwrap_or_default();
+        let shown = crate::text::printable(template);
+        match status.and_then(|s| s.code().map(|c| (c, s))) {
+            Some((c, _)) => {
+                eprint!("{}", crate::text::printable(&said));
+                if c == OK as i32 {
+                    Ok(())
+                } else {
+                    Err(c.clamp(1, 255) as u8)
+                }
+            }
+            None if status.is_none() => {
+                say_err!("{}: the template {shown} ran for more than {SECONDS} s and was stopped; no report was written", path.display());
+                say_err!("  hint: look for a loop in the template that does not end, or one that makes thousands of pages");
+                Err(PROBLEMS)
+            }
+            None => {
+                say_err!("{}: the template {shown} used more than {} MB of memory and was stopped; no report was written", path.display(), MEMORY / (1024 * 1024));
+                say_err!("  hint: look for a loop in the template that builds very large content or thousands of pages");
+                Err(PROBLEMS)
+            }
+        }
     }
 }

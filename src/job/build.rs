@@ -184,6 +184,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         service,
         terminals: raw.terminals,
         inputs: Vec::new(),
+        warnings: Vec::new(),
     })
 }
 
@@ -218,20 +219,105 @@ fn network(raw: RawNetwork, ctx: &mut Ctx) -> Network {
             _ => ctx.failed.push(d.name),
         }
     }
-    // A wire link straight across the terminals shorts the amplifier: the engine would solve
-    // it (into the amplifier's output impedance), but nothing after it would mean anything.
-    for p in &raw.parts {
-        let across = (p.between[0] == raw.input[0] && p.between[1] == raw.input[1]) || (p.between[0] == raw.input[1] && p.between[1] == raw.input[0]);
-        if across && p.kind == PartKind::Resistor && p.value == 0.0 && !p.auto_value && p.fault.is_none() {
+    wire_links(&raw.parts, &drivers, &raw.input, ctx);
+    Network { input: raw.input, input_pos: raw.input_pos, labels: Default::default(), parts: raw.parts, drivers }
+}
+
+/// Wire links (0 ohm resistors) join their two nodes into one. In the design a set of them
+/// that closes a loop, joins the amplifier's terminals, or joins a driver's two terminals is
+/// refused at the link's line, naming the links: the engine would solve a network no one
+/// built (a shorted driver sits at -3000 dB, and reports would call it "within 0.00 dB").
+/// A driver found shorted on the bench is a reading, not the design.
+fn wire_links(parts: &[Part], drivers: &[Driver], input: &[String; 2], ctx: &mut Ctx) {
+    let links: Vec<&Part> = parts.iter().filter(|p| p.kind == PartKind::Resistor && p.value == 0.0 && !p.auto_value && p.fault.is_none()).collect();
+    if links.is_empty() {
+        return;
+    }
+    // Union-find over the nodes the links touch; each class remembers the links inside it.
+    let mut nodes: Vec<&str> = Vec::new();
+    fn index<'a>(n: &'a str, nodes: &mut Vec<&'a str>) -> usize {
+        match nodes.iter().position(|m| *m == n) {
+            Some(i) => i,
+            None => {
+                nodes.push(n);
+                nodes.len() - 1
+            }
+        }
+    }
+    let mut parent: Vec<usize> = Vec::new();
+    fn root(parent: &mut [usize], mut i: usize) -> usize {
+        while parent[i] != i {
+            parent[i] = parent[parent[i]];
+            i = parent[i];
+        }
+        i
+    }
+    let mut edges = Vec::new();
+    for l in &links {
+        let (a, b) = (index(&l.between[0], &mut nodes), index(&l.between[1], &mut nodes));
+        while parent.len() < nodes.len() {
+            parent.push(parent.len());
+        }
+        edges.push((a, b, l));
+    }
+    // The links of the class that `i` belongs to, once the classes are complete.
+    let mut looped = Vec::new();
+    for &(a, b, l) in &edges {
+        let (ra, rb) = (root(&mut parent, a), root(&mut parent, b));
+        if ra == rb {
+            looped.push(*l);
+        } else {
+            parent[ra] = rb;
+        }
+    }
+    let class_links = |parent: &mut Vec<usize>, node: usize| -> Vec<String> {
+        let r = root(parent, node);
+        edges.iter().filter(|(a, _, _)| root(parent, *a) == r).map(|(_, _, l)| l.name.clone()).collect()
+    };
+    let verb = |list: &[String]| if list.len() == 1 { "joins" } else { "join" };
+    let names = |list: &[String]| match list {
+        [one] => one.clone(),
+        [rest @ .., last] => format!("{} and {last}", rest.join(", ")),
+        [] => String::new(),
+    };
+    for l in looped {
+        let i = nodes.iter().position(|m| *m == l.between[0]).unwrap_or(0);
+        let in_loop = class_links(&mut parent, i);
+        ctx.error(
+            l.pos,
+            &format!("network.parts.{}", l.name),
+            format!("{} closes a loop of wire links (0 ohm) among {}: a loop of wires carries no signal and cannot be solved", l.name, names(&in_loop)),
+            Some(format!("remove {} (its two nodes are already joined), or give it its real resistance", l.name)),
+        );
+    }
+    let class_of = |n: &str, parent: &mut Vec<usize>| nodes.iter().position(|m| *m == n).map(|i| root(parent, i));
+    if let (Some(a), Some(b)) = (class_of(&input[0], &mut parent), class_of(&input[1], &mut parent)) {
+        if a == b {
+            let i = nodes.iter().position(|m| *m == input[0]).unwrap_or(0);
+            let via = class_links(&mut parent, i);
+            let first = links.iter().find(|l| via.contains(&l.name)).copied().unwrap_or(links[0]);
             ctx.error(
-                p.pos,
-                &format!("network.parts.{}", p.name),
-                format!("{} is a wire link (0 ohm) straight across the amplifier's terminals: it would short the amplifier", p.name),
-                Some("check its `between` nodes or its value".into()),
+                first.pos,
+                &format!("network.parts.{}", first.name),
+                format!("{} {} the amplifier's terminals {} and {} with wire links (0 ohm): it would short the amplifier", names(&via), verb(&via), input[0], input[1]),
+                Some("check the `between` nodes or the value of each".into()),
             );
         }
     }
-    Network { input: raw.input, input_pos: raw.input_pos, labels: Default::default(), parts: raw.parts, drivers }
+    for d in drivers {
+        if let (Some(a), Some(b)) = (class_of(&d.between[0], &mut parent), class_of(&d.between[1], &mut parent)) {
+            if a == b {
+                let i = nodes.iter().position(|m| *m == d.between[0]).unwrap_or(0);
+                let via = class_links(&mut parent, i);
+                ctx.error(
+                    d.pos,
+                    &format!("network.drivers.{}", d.name),
+                    format!("driver {} is shorted in the design: {} {} its terminals {} and {} with wire links (0 ohm), so it would be silent", d.name, names(&via), verb(&via), d.between[0], d.between[1]),
+                    Some("check the `between` nodes of the driver and of each link; a driver found shorted on the bench is a reading under `measured` (`shorted: true`), not the design".into()),
+                );
+            }
+        }
+    }
 }
 
 enum Target<'a> {
@@ -588,7 +674,7 @@ fn template(raw: RawTemplate, ctx: &mut Ctx) -> Template {
         RawTemplate::Archive => Template::Archive,
         RawTemplate::Sale => Template::Sale,
         RawTemplate::Quote => Template::Quote,
-        RawTemplate::File { name, pos } => match ctx.files.read(&name) {
+        RawTemplate::File { name, pos } => match ctx.files.read(&name, crate::report::MAX_TEMPLATE_BYTES).and_then(|b| crate::report::template_text(&name, b)) {
             Ok(bytes) => {
                 let text = String::from_utf8_lossy(&bytes).into_owned();
                 ctx.inputs.push(InputFile { name: name.clone(), bytes });

@@ -29,7 +29,12 @@ pub(crate) fn part(key: &Key, node: &Node, path: &str, ctx: &mut Ctx) -> Option<
     let patch = part_fields(&f, kind, ctx, true)?;
     if !patch.auto_value && patch.value.is_none() {
         if f.get("value").is_none() {
-            ctx.error(f.pos, &f.at("value"), format!("missing `value` for {} {}", kind.name(), key.name), None);
+            ctx.error(
+                key.pos,
+                &f.at("value"),
+                format!("missing `value` for {} {}", kind.name(), key.name),
+                Some("give its marked value, such as `value: 3.3 uF`, or `value: auto` for a resistor to fit".into()),
+            );
         }
         return None;
     }

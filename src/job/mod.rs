@@ -56,16 +56,59 @@ pub fn load(path: &Path) -> Result<Job, LoadError> {
     load_allowing(path, false)
 }
 
-/// As [`load`]; with `outside` the job may name files outside its folder.
+/// As [`load`]; with `outside` the job may name files outside its folder. The path may be
+/// any name the system allows (not UTF-8 too); `-` reads the job from standard input, its
+/// tables from the current folder.
 pub fn load_allowing(path: &Path, outside: bool) -> Result<Job, LoadError> {
+    if path.as_os_str() == "-" {
+        let bytes = read_stdin()?;
+        return load_text(&bytes, STDIN_NAME, "standard-input.yaml", &DiskFiles::new(Path::new(".")).allowing_outside(outside));
+    }
     let files = DiskFiles::beside(path).allowing_outside(outside);
     let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| path.display().to_string());
-    load_with(&files, &name, &path.display().to_string())
+    let display = path.display().to_string();
+    // Read by its own path, so a name that is not UTF-8 is found as it is.
+    match crate::files::read_limited(path, MAX_JOB_BYTES) {
+        Ok(bytes) => load_text(&bytes, &display, &name, &files),
+        Err(e) => Err(read_error(e, &display)),
+    }
+}
+
+/// How a message names a job read from standard input.
+pub const STDIN_NAME: &str = "<standard input>";
+
+/// A job file piped in, at most [`MAX_JOB_BYTES`] of it read.
+fn read_stdin() -> Result<Vec<u8>, LoadError> {
+    use std::io::Read;
+    let mut bytes = Vec::new();
+    std::io::stdin().lock().take(MAX_JOB_BYTES as u64 + 1).read_to_end(&mut bytes).map_err(|e| LoadError::Io { file: STDIN_NAME.into(), error: e.to_string() })?;
+    if bytes.len() > MAX_JOB_BYTES {
+        return Err(too_big(STDIN_NAME, None));
+    }
+    Ok(bytes)
+}
+
+/// A job file over the size limit, refused as a problem of the job (exit 1).
+fn too_big(display: &str, size: Option<u64>) -> LoadError {
+    let size = size.map(|n| format!("{n} bytes")).unwrap_or_else(|| "more than that".into());
+    LoadError::Problems(Problems {
+        file: display.to_string(),
+        source: String::new(),
+        list: vec![Diagnostic::new(Pos::START, "", format!("the job file is {size}, above the {} (1 MB) a job file may be", MAX_JOB_BYTES))
+            .hint("a job file holds one speaker's network, readings and changes; tables and photographs go in files beside it")],
+    })
+}
+
+fn read_error(e: crate::files::FileError, display: &str) -> LoadError {
+    match e.too_big {
+        Some(n) => too_big(display, Some(n)),
+        None => LoadError::Io { file: display.to_string(), error: e.reason },
+    }
 }
 
 /// Reads and validates the job `name` from `files`; `display` names it in messages.
 pub fn load_with(files: &dyn Files, name: &str, display: &str) -> Result<Job, LoadError> {
-    let bytes = files.read(name).map_err(|e| LoadError::Io { file: display.to_string(), error: e.reason })?;
+    let bytes = files.read(name, MAX_JOB_BYTES).map_err(|e| read_error(e, display))?;
     load_text(&bytes, display, name, files)
 }
 
@@ -79,9 +122,7 @@ pub fn load_bytes(bytes: &[u8], display: &str, name: &str, base: &Path) -> Resul
 pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> Result<Job, LoadError> {
     let problems = |list: Vec<Diagnostic>, source: &str| LoadError::Problems(Problems { file: display.to_string(), source: source.to_string(), list });
     if bytes.len() > MAX_JOB_BYTES {
-        let at = vec![Diagnostic::new(Pos::START, "", format!("the job file is {} bytes, above the {} (1 MB) a job file may be", bytes.len(), MAX_JOB_BYTES))
-            .hint("a job file holds one speaker's network, readings and changes; tables and photographs go in files beside it")];
-        return Err(problems(at, ""));
+        return Err(too_big(display, Some(bytes.len() as u64)));
     }
     let text = match std::str::from_utf8(bytes) {
         Ok(t) => t,
@@ -92,9 +133,22 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
     };
     // A byte-order mark, as some editors write, is not part of the first key.
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    // A control character would be read as nothing or, a NUL, end the file for the YAML
+    // reader there, silently dropping what follows: refused where it stands.
+    if let Some((pos, c)) = crate::text::first_forbidden(text) {
+        return Err(problems(
+            vec![Diagnostic::new(pos, "", format!("the job file holds {}, a character no job file may hold", crate::text::name_of(c)))
+                .hint("remove it (a stray control character, often from a copy and paste or a binary file); a NUL would end the file there for a YAML reader, dropping everything after it")],
+            text,
+        ));
+    }
     let root = yaml::parse(text).map_err(|e| {
         let hint = if e.message.starts_with("a second YAML document") {
             "remove the `---` line and what follows it, or put it in a job file of its own"
+        } else if e.message.starts_with("a YAML tag") {
+            "remove the tag and write the value as plain text, as the README's job-file reference shows"
+        } else if e.message.starts_with("a YAML directive") {
+            "remove the line"
         } else {
             "check indentation (spaces, not tabs), colons and brackets"
         };
@@ -112,6 +166,7 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
     match job {
         Some(mut job) => {
             job.inputs = ctx.inputs;
+            job.warnings = ctx.warnings;
             Ok(job)
         }
         None => Err(problems(vec![Diagnostic::new(Pos::START, "", "internal error: the job was refused without a reason; please report this")], text)),

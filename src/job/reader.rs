@@ -11,6 +11,25 @@ use crate::units::{parse_value, Quantity};
 /// The longest text a field may hold (notes, sentences, names): a few pages.
 pub const MAX_TEXT_CHARS: usize = 20_000;
 
+/// The most characters of text a whole job may hold, every field together: what the
+/// reports print stays a few dozen pages, however the text is spread over fields.
+pub const MAX_JOB_TEXT_CHARS: usize = 200_000;
+
+/// The most line breaks the text of a whole job may hold (a line break prints as a line,
+/// so 20,000 blank lines in one note made a report of thousands of pages).
+pub const MAX_JOB_TEXT_LINES: usize = 2_000;
+
+/// The most code points one user-perceived character (a grapheme cluster: a letter and its
+/// marks) may have: a starter and the 30 non-starters of Unicode's stream-safe text format
+/// (UAX #15). One of 20,000 could not be typeset.
+pub const MAX_GRAPHEME_CHARS: usize = 31;
+
+/// The code points of the longest grapheme cluster in `text`.
+fn longest_grapheme(text: &str) -> usize {
+    use unicode_segmentation::UnicodeSegmentation;
+    text.graphemes(true).map(|g| g.chars().count()).max().unwrap_or(0)
+}
+
 pub struct Ctx<'a> {
     pub diags: Vec<Diagnostic>,
     /// Where the job's tables and template are read from.
@@ -22,6 +41,11 @@ pub struct Ctx<'a> {
     pub failed: Vec<String>,
     /// Values already reported (a decimal comma split by YAML): not reported again.
     pub silenced: Vec<Pos>,
+    /// What is warned of without refusing the job.
+    pub warnings: Vec<Diagnostic>,
+    /// The characters and line breaks of text read so far, against the job's budget.
+    text_chars: usize,
+    text_lines: usize,
 }
 
 pub struct Fields<'n> {
@@ -58,7 +82,7 @@ fn join(path: &str, key: &str) -> String {
 
 impl<'a> Ctx<'a> {
     pub fn new(files: &'a dyn Files) -> Self {
-        Ctx { diags: Vec::new(), files, inputs: Vec::new(), failed: Vec::new(), silenced: Vec::new() }
+        Ctx { diags: Vec::new(), files, inputs: Vec::new(), failed: Vec::new(), silenced: Vec::new(), warnings: Vec::new(), text_chars: 0, text_lines: 0 }
     }
 
     pub fn error(&mut self, pos: Pos, field: &str, message: impl Into<String>, hint: Option<String>) {
@@ -111,7 +135,52 @@ impl<'a> Ctx<'a> {
                 );
                 None
             }
-            Node::Scalar { text, .. } => Some(text.clone()),
+            Node::Scalar { text, .. } if longest_grapheme(text) > MAX_GRAPHEME_CHARS => {
+                self.error(
+                    node.pos(),
+                    path,
+                    format!(
+                        "this text holds one character built of {} code points (a letter and its marks), above the {MAX_GRAPHEME_CHARS} any script needs",
+                        longest_grapheme(text)
+                    ),
+                    Some("Unicode's stream-safe text format (UAX #15) allows 30 marks on a letter; remove the stray marks".into()),
+                );
+                None
+            }
+            Node::Scalar { text, .. } => {
+                let (chars, lines) = (text.chars().count(), text.matches('\n').count());
+                let within = self.text_chars <= MAX_JOB_TEXT_CHARS && self.text_lines <= MAX_JOB_TEXT_LINES;
+                self.text_chars += chars;
+                self.text_lines += lines;
+                if within && (self.text_chars > MAX_JOB_TEXT_CHARS || self.text_lines > MAX_JOB_TEXT_LINES) {
+                    let what = if self.text_lines > MAX_JOB_TEXT_LINES { format!("{MAX_JOB_TEXT_LINES} line breaks") } else { format!("{MAX_JOB_TEXT_CHARS} characters") };
+                    self.error(
+                        node.pos(),
+                        path,
+                        format!("with this field the job's text (every note, sentence and name together) runs past the {what} a job may hold"),
+                        Some("a report prints a few dozen pages at most: keep long notes in a file of the shop's own, and blank lines out of notes".into()),
+                    );
+                    return None;
+                }
+                // A character no font of the report has prints as a stand-in: said here, at
+                // the field, rather than found as an empty box on paper.
+                if let Some(c) = crate::report::fonts::first_uncovered(text) {
+                    let d = Diagnostic::new(
+                        node.pos(),
+                        path,
+                        format!(
+                            "{} has no glyph in any font voicekeep sets reports in; the report prints {} in its place",
+                            crate::text::name_of(c),
+                            crate::report::fonts::STAND_IN
+                        ),
+                    )
+                    .hint("the README lists the scripts the shipped fonts cover; write the text in one of them, or leave it as it is");
+                    if !self.warnings.contains(&d) {
+                        self.warnings.push(d);
+                    }
+                }
+                Some(text.clone())
+            }
             _ => {
                 self.error(node.pos(), path, format!("expected text, found {}", node.kind_name()), None);
                 None

@@ -5,10 +5,14 @@
 use crate::job::raw::TableRef;
 use crate::job::reader::Ctx;
 use crate::model::{ImpedanceTable, InputFile, PriceItem, PriceList, ResponseTable};
-use crate::units::Quantity;
+use crate::units::{shown, Quantity};
 
 /// The most rows a table may have (a sweep of 100 points per decade over four decades is 400).
 pub const MAX_TABLE_ROWS: usize = 100_000;
+
+/// The largest text file a job may name (a table, price list or settings file): room for
+/// [`MAX_TABLE_ROWS`] rows of generous width; a larger file is refused before it is read.
+pub const MAX_TEXT_FILE_BYTES: usize = 16 * 1024 * 1024;
 
 impl Ctx<'_> {
     /// A shop's price list: a CSV with the header `kind,value,rating,type,unit_price` and one
@@ -16,6 +20,7 @@ impl Ctx<'_> {
     pub(crate) fn price_list(&mut self, r: &TableRef, currency: &str) -> Option<PriceList> {
         let (name, text) = self.read_file(r)?;
         let mut items = Vec::new();
+        let mut seen: std::collections::HashMap<(String, u64, Option<u64>, String), usize> = Default::default();
         let mut header = false;
         let before = self.diags.len();
         for (i, raw) in text.lines().enumerate() {
@@ -82,6 +87,17 @@ impl Ctx<'_> {
                 );
                 continue;
             };
+            // The same stock item twice would be priced by whichever line came first: refused.
+            let key = (kind.clone(), value.to_bits(), rating.map(f64::to_bits), cells[3].to_lowercase());
+            if let Some(first) = seen.insert(key, i + 1) {
+                self.error(
+                    r.pos,
+                    &r.field,
+                    format!("{at}: the same stock item ({} {} {} {}) as line {first}; each item may be priced once", cells[0], cells[1], cells[2], cells[3]),
+                    Some("keep one line per item (kind, value, rating and type), with its price".into()),
+                );
+                continue;
+            }
             items.push(PriceItem {
                 kind,
                 value,
@@ -101,10 +117,26 @@ impl Ctx<'_> {
     /// Reads a file the job names (relative to the job's folder) through the job's files, and
     /// records it for the report.
     pub(crate) fn read_file(&mut self, r: &TableRef) -> Option<(String, String)> {
-        match self.files.read(&r.name) {
+        match self.files.read(&r.name, MAX_TEXT_FILE_BYTES) {
             Ok(bytes) => {
+                let what = if r.field.ends_with("settings") { "settings file" } else { "file" };
+                let Ok(text) = std::str::from_utf8(&bytes) else {
+                    self.error(r.pos, &r.field, format!("{what} \"{}\" is not UTF-8 text", r.name), Some("save it as UTF-8 (CSV UTF-8 in a spreadsheet)".into()));
+                    return None;
+                };
                 // A byte-order mark, as some spreadsheets write, is not part of the first cell.
-                let text = String::from_utf8_lossy(&bytes).trim_start_matches('\u{feff}').to_string();
+                let text = text.trim_start_matches('\u{feff}').to_string();
+                // A control character (a NUL in a settings file, an ESC in a cell) is never
+                // read as nothing: refused at its line and column.
+                if let Some((at, c)) = crate::text::first_forbidden(&text) {
+                    self.error(
+                        r.pos,
+                        &r.field,
+                        format!("{what} \"{}\" holds {} at line {}, column {}, a character no input may hold", r.name, crate::text::name_of(c), at.line, at.col),
+                        Some("remove it; a table, price list or settings file is plain text".into()),
+                    );
+                    return None;
+                }
                 if !self.inputs.iter().any(|f| f.name == r.name) {
                     self.inputs.push(InputFile { name: r.name.clone(), bytes });
                 }
@@ -121,7 +153,7 @@ impl Ctx<'_> {
     /// Reads a binary file the job names (a photograph) and records it for the report, byte
     /// for byte.
     pub(crate) fn read_bytes(&mut self, r: &TableRef, what: &str) -> Option<Vec<u8>> {
-        match self.files.read(&r.name) {
+        match self.files.read(&r.name, crate::model::service::MAX_PHOTO_BYTES) {
             Ok(bytes) => {
                 if !self.inputs.iter().any(|f| f.name == r.name) {
                     self.inputs.push(InputFile { name: r.name.clone(), bytes: bytes.clone() });
@@ -155,13 +187,33 @@ impl Ctx<'_> {
             if line.is_empty() {
                 continue;
             }
-            let cells: Vec<&str> = line.split(|c: char| c == ',' || c == ';' || c.is_whitespace()).filter(|s| !s.is_empty()).collect();
+            // Cells are separated by commas, tabs or spaces, or by semicolons (where a
+            // spreadsheet writes decimal commas, and a comma inside a cell is one).
+            let cells: Vec<&str> = if line.contains(';') {
+                line.split(';').map(str::trim).filter(|s| !s.is_empty()).collect()
+            } else {
+                line.split(|c: char| c == ',' || c.is_whitespace()).filter(|s| !s.is_empty()).collect()
+            };
             let nums: Vec<Option<f64>> = cells.iter().map(|c| c.parse::<f64>().ok().filter(|v| v.is_finite())).collect();
             if cols[0].is_empty() && nums.iter().any(|n| n.is_none()) && nums.first().map(|n| n.is_none()).unwrap_or(false) {
                 continue; // a header line
             }
-            if cells.len() < 3 {
-                self.error(node.pos, path, format!("{name}:{}: expected 3 columns (frequency Hz, magnitude, phase deg), found {}", i + 1, cells.len()), None);
+            if let Some(cell) = cells.iter().find(|c| c.contains(',')) {
+                self.error(
+                    node.pos,
+                    path,
+                    format!(
+                        "{name}:{}: \"{}\" has a decimal comma (cells separated by semicolons, as a spreadsheet set to a European locale exports them)",
+                        i + 1,
+                        crate::text::shorten(cell, 40)
+                    ),
+                    Some("export the table with decimal points and commas between cells, or replace every `,` with `.` and then every `;` with `,`".into()),
+                );
+                return None;
+            }
+            if cells.len() != 3 {
+                let spare = if cells.len() > 3 { "; no cell is ignored, so a spare one is refused" } else { "" };
+                self.error(node.pos, path, format!("{name}:{}: expected 3 columns (frequency Hz, magnitude, phase deg), found {}{spare}", i + 1, cells.len()), None);
                 return None;
             }
             if let Some(bad) = nums.iter().take(3).position(|n| n.is_none()) {
@@ -179,7 +231,7 @@ impl Ctx<'_> {
                     self.error(
                         node.pos,
                         path,
-                        format!("{name}:{}: frequency {f} Hz does not rise above the previous row's {last} Hz", i + 1),
+                        format!("{name}:{}: frequency {} Hz does not rise above the previous row's {} Hz", i + 1, shown(f), shown(last)),
                         Some("sort the table by frequency, lowest first, without repeats".into()),
                     );
                     return None;
@@ -191,7 +243,7 @@ impl Ctx<'_> {
             }
             let (lo, hi, range) = Quantity::Frequency.plausible();
             if !(lo..=hi).contains(&f) {
-                self.error(node.pos, path, format!("{name}:{}: {f} Hz is not a plausible frequency ({range})", i + 1), None);
+                self.error(node.pos, path, format!("{name}:{}: {} Hz is not a plausible frequency ({range})", i + 1, shown(f)), None);
                 return None;
             }
             for (c, n) in cols.iter_mut().zip(nums.iter()) {
@@ -221,14 +273,14 @@ impl Ctx<'_> {
     pub(crate) fn impedance_table(&mut self, r: &TableRef) -> Option<ImpedanceTable> {
         let (file, [fr, ohm, ph]) = self.table(r, 2)?;
         if let Some(i) = ohm.iter().position(|z| *z <= 0.0) {
-            self.error(r.pos, &r.field, format!("{file}: row {} has |Z| = {} ohm; impedance magnitudes must be above zero", i + 1, ohm[i]), None);
+            self.error(r.pos, &r.field, format!("{file}: row {} has |Z| = {} ohm; impedance magnitudes must be above zero", i + 1, shown(ohm[i])), None);
             return None;
         }
         let (lo, hi, range) = Quantity::Resistance.plausible();
         let columns = "the columns are frequency Hz, |Z| ohm, phase deg";
-        if self.refuse_row(r, &ohm, |z| !(lo..=hi).contains(&z), |i, z| format!("{file}: row {i} has |Z| = {z} ohm, not a plausible impedance ({range})"), columns)
+        if self.refuse_row(r, &ohm, |z| !(lo..=hi).contains(&z), |i, z| format!("{file}: row {i} has |Z| = {} ohm, not a plausible impedance ({range})", shown(z)), columns)
             // A passive impedance lies within +-90 degrees; a meter's wrap may show up to 180.
-            || self.refuse_row(r, &ph, |p| p.abs() > 180.0, |i, p| format!("{file}: row {i} has a phase of {p} deg; an impedance's phase lies within -180 to +180 deg"), columns)
+            || self.refuse_row(r, &ph, |p| p.abs() > 180.0, |i, p| format!("{file}: row {i} has a phase of {} deg; an impedance's phase lies within -180 to +180 deg", shown(p)), columns)
         {
             return None;
         }
@@ -240,9 +292,9 @@ impl Ctx<'_> {
         let (file, [f, spl, ph]) = self.table(r, 2)?;
         let (lo, hi, range) = Quantity::Decibel.plausible();
         let columns = "the columns are frequency Hz, SPL dB, phase deg";
-        if self.refuse_row(r, &spl, |v| !(lo..=hi).contains(&v), |i, v| format!("{file}: row {i} has an SPL of {v} dB, not a plausible level ({range})"), columns)
+        if self.refuse_row(r, &spl, |v| !(lo..=hi).contains(&v), |i, v| format!("{file}: row {i} has an SPL of {} dB, not a plausible level ({range})", shown(v)), columns)
             // Acoustic phase may be unwrapped, but not beyond a thousand turns.
-            || self.refuse_row(r, &ph, |p| p.abs() > 360_000.0, |i, p| format!("{file}: row {i} has a phase of {p} deg, more than a thousand turns"), columns)
+            || self.refuse_row(r, &ph, |p| p.abs() > 360_000.0, |i, p| format!("{file}: row {i} has a phase of {} deg, more than a thousand turns", shown(p)), columns)
         {
             return None;
         }

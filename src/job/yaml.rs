@@ -88,7 +88,9 @@ struct Builder {
 
 enum Partial {
     Seq(Vec<Node>, Pos),
-    Map(Vec<(Key, Node)>, Option<Key>, Pos),
+    /// A mapping's entries, the key waiting for its value, its place, and the keys seen so
+    /// far (a set, so a mapping of many keys is checked for repeats in linear time).
+    Map(Vec<(Key, Node)>, Option<Key>, Pos, std::collections::HashSet<String>),
 }
 
 impl Builder {
@@ -96,7 +98,7 @@ impl Builder {
         match self.stack.last_mut() {
             None => self.root = Some(node),
             Some(Partial::Seq(items, _)) => items.push(node),
-            Some(Partial::Map(entries, key, _)) => match key.take() {
+            Some(Partial::Map(entries, key, _, seen)) => match key.take() {
                 Some(k) => entries.push((k, node)),
                 None => {
                     let name = match &node {
@@ -108,7 +110,7 @@ impl Builder {
                             String::new()
                         }
                     };
-                    if entries.iter().any(|(k, _)| k.name == name) && self.error.is_none() {
+                    if !seen.insert(name.clone()) && self.error.is_none() {
                         self.error = Some(SyntaxError { pos: node.pos(), message: format!("the key `{name}` appears twice in this mapping") });
                     }
                     *key = Some(Key { name, pos: node.pos() });
@@ -147,20 +149,32 @@ impl MarkedEventReceiver for Builder {
             _ if self.beyond > 0 => return,
             _ => {}
         }
+        // A tag (`!!binary`, `!!python/object`, `!name`) asks for a meaning a job file does
+        // not have: refused rather than read as plain text.
+        if let Event::Scalar(_, _, _, Some(tag)) | Event::SequenceStart(_, Some(tag)) | Event::MappingStart(_, Some(tag)) = &ev {
+            if self.error.is_none() {
+                // The core schema's tags are written `!!name`.
+                let handle = if tag.handle == "tag:yaml.org,2002:" { "!!" } else { tag.handle.as_str() };
+                self.error = Some(SyntaxError {
+                    pos,
+                    message: format!("a YAML tag (`{handle}{}`): job files use no tags, and voicekeep would not read the value the way the tag asks", tag.suffix),
+                });
+            }
+        }
         match ev {
             Event::Scalar(text, style, _, _) => {
                 let quoted = !matches!(style, TScalarStyle::Plain);
                 self.push_node(Node::Scalar { text, quoted, pos });
             }
             Event::SequenceStart(..) => self.stack.push(Partial::Seq(Vec::new(), pos)),
-            Event::MappingStart(..) => self.stack.push(Partial::Map(Vec::new(), None, pos)),
+            Event::MappingStart(..) => self.stack.push(Partial::Map(Vec::new(), None, pos, Default::default())),
             Event::SequenceEnd => {
                 if let Some(Partial::Seq(items, p)) = self.stack.pop() {
                     self.push_node(Node::Seq { items, pos: p });
                 }
             }
             Event::MappingEnd => {
-                if let Some(Partial::Map(entries, _, p)) = self.stack.pop() {
+                if let Some(Partial::Map(entries, _, p, _)) = self.stack.pop() {
                     self.push_node(Node::Map { entries, pos: p });
                 }
             }
@@ -177,6 +191,13 @@ impl MarkedEventReceiver for Builder {
 
 /// Parses YAML text into a positioned tree. An empty file gives an empty mapping.
 pub fn parse(text: &str) -> Result<Node, SyntaxError> {
+    // A directive (`%YAML 1.2`, `%TAG`) starts a line with `%`, which nothing else in a job
+    // file can (a plain value cannot begin with it, and block text is indented): refused,
+    // since the parser accepts any version number and a tag prefix would change what a tag means.
+    if let Some(i) = text.lines().position(|l| l.starts_with('%')) {
+        let word = text.lines().nth(i).unwrap_or("").split_whitespace().next().unwrap_or("%");
+        return Err(SyntaxError { pos: Pos { line: i + 1, col: 1 }, message: format!("a YAML directive (`{word}`): job files use none; voicekeep reads YAML 1.2 as it is") });
+    }
     let mut builder = Builder::default();
     let mut parser = Parser::new_from_str(text);
     if let Err(e) = parser.load(&mut builder, true) {

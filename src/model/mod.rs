@@ -517,6 +517,9 @@ pub struct Job {
     pub terminals: terminals::Terminals,
     /// The job file first, then every table it read, in order.
     pub inputs: Vec<InputFile>,
+    /// What `check` warns of without refusing the job (a character no font of the report
+    /// has), each at its place.
+    pub warnings: Vec<crate::diag::Diagnostic>,
 }
 
 impl Job {

@@ -4,6 +4,7 @@
 //! is ever evaluated.
 
 pub mod data;
+pub mod fonts;
 pub mod plots;
 
 use std::fmt;
@@ -24,6 +25,20 @@ pub const CUSTOMER_TYP: &str = include_str!("../../templates/customer.typ");
 pub const ARCHIVE_TYP: &str = include_str!("../../templates/archive.typ");
 pub const SALE_TYP: &str = include_str!("../../templates/sale.typ");
 pub const QUOTE_TYP: &str = include_str!("../../templates/quote.typ");
+
+/// The most pages a report may have (the built-in templates give 2 to 12 for the samples).
+pub const MAX_PAGES: usize = 300;
+
+/// The largest template voicekeep reads (the built-in ones are a few KB each).
+pub const MAX_TEMPLATE_BYTES: usize = 1024 * 1024;
+
+/// A template's bytes, refused unless they are UTF-8 text.
+pub fn template_text(name: &str, bytes: Vec<u8>) -> Result<Vec<u8>, crate::files::FileError> {
+    match std::str::from_utf8(&bytes) {
+        Ok(_) => Ok(bytes),
+        Err(_) => Err(crate::files::FileError::new(name.to_string(), "it is not UTF-8 text; save the template as UTF-8".into())),
+    }
+}
 
 #[derive(Debug)]
 pub enum ReportError {
@@ -63,7 +78,11 @@ pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Resu
         Outcome::One(f) => data::build(job, f, template, &kinds),
         Outcome::Set(set) => data::build_set(job, set, template, &kinds),
     };
-    let data_json = serde_json::to_vec(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
+    // Every text the template sets, with any character no font has replaced (`check` warns
+    // of each): a missing glyph would print as an empty box, and the archive's PDF/A refuses it.
+    let mut data_value = serde_json::to_value(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
+    legible_strings(&mut data_value);
+    let data_json = serde_json::to_vec(&data_value).map_err(|e| ReportError::Pdf(e.to_string()))?;
 
     let mut binaries: Vec<(String, Vec<u8>)> = vec![("data.json".into(), data_json), ("results.json".into(), results)];
     for (kind, svg) in plots {
@@ -73,16 +92,25 @@ pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Resu
         binaries.push((format!("inputs/{i}"), input.bytes.clone()));
     }
     let engine = TypstEngine::builder()
+        .fonts(fonts::EXTRA.iter().map(|b| typst::foundations::Bytes::new(*b)))
         .search_fonts_with(TypstKitFontOptions::default().include_system_fonts(false).include_embedded_fonts(true))
         .with_static_source_file_resolver([("lib.typ", LIB_TYP.to_string()), (main_name.as_str(), main_text.clone())])
         .with_static_file_resolver(binaries.iter().map(|(n, b)| (n.as_str(), b.as_slice())))
         .build();
-    let doc = engine
-        .with_world(main_name.as_str(), |world| typst::compile::<PagedDocument>(world).output.map_err(|diags| template_error(world, &diags)))
-        .map_err(|e| ReportError::Template { messages: vec![format!("{main_name}: {e}")] })??;
-
     let d = job.info.date;
     let date = Datetime::from_ymd(d.year, d.month, d.day);
+    let doc = engine
+        .with_world(main_name.as_str(), |world| {
+            // The template's "today" is the job's date, never the clock.
+            let world = Dated { inner: world, date };
+            typst::compile::<PagedDocument>(&world).output.map_err(|diags| template_error(&world, &diags))
+        })
+        .map_err(|e| ReportError::Template { messages: vec![format!("{main_name}: {e}")] })??;
+    if doc.pages().len() > MAX_PAGES {
+        return Err(ReportError::Template {
+            messages: vec![format!("{main_name}: the report would run to {} pages, above the {MAX_PAGES} a report may have; no report was written", doc.pages().len())],
+        });
+    }
     let standards = if archive { PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| ReportError::Pdf(format!("{e:?}")))? } else { PdfStandards::default() };
     let options = PdfOptions {
         ident: Smart::Custom(format!("voicekeep {} {}", job.info.number, job.info.date)),
@@ -92,6 +120,51 @@ pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Resu
         ..Default::default()
     };
     typst_pdf::pdf(&doc, &options).map_err(|diags| ReportError::Pdf(diags.iter().map(|d| d.message.to_string()).collect::<Vec<_>>().join("; ")))
+}
+
+/// A Typst world whose today is the job's date: a template calling `datetime.today()` gets
+/// the same date on every run, so the same inputs give the same bytes.
+struct Dated<'w, W: World> {
+    inner: &'w W,
+    date: Option<Datetime>,
+}
+
+impl<W: World> World for Dated<'_, W> {
+    fn library(&self) -> &typst::utils::LazyHash<typst::Library> {
+        self.inner.library()
+    }
+    fn book(&self) -> &typst::utils::LazyHash<typst::text::FontBook> {
+        self.inner.book()
+    }
+    fn main(&self) -> typst::syntax::FileId {
+        self.inner.main()
+    }
+    fn source(&self, id: typst::syntax::FileId) -> typst::diag::FileResult<typst::syntax::Source> {
+        self.inner.source(id)
+    }
+    fn file(&self, id: typst::syntax::FileId) -> typst::diag::FileResult<typst::foundations::Bytes> {
+        self.inner.file(id)
+    }
+    fn font(&self, index: usize) -> Option<typst::text::Font> {
+        self.inner.font(index)
+    }
+    fn today(&self, _offset: Option<typst::foundations::Duration>) -> Option<Datetime> {
+        self.date
+    }
+}
+
+/// Replaces, in every string of `v`, the characters no font of the report has.
+fn legible_strings(v: &mut serde_json::Value) {
+    match v {
+        serde_json::Value::String(s) => {
+            if let std::borrow::Cow::Owned(t) = fonts::legible(s) {
+                *s = t;
+            }
+        }
+        serde_json::Value::Array(a) => a.iter_mut().for_each(legible_strings),
+        serde_json::Value::Object(o) => o.values_mut().for_each(legible_strings),
+        _ => {}
+    }
 }
 
 /// Typst's diagnostics carry spans, not places: turn them into `file:line:column: message`.
@@ -122,9 +195,13 @@ fn template_error(world: &dyn World, diags: &[typst::diag::SourceDiagnostic]) ->
 /// and an interrupted run (a crash, Ctrl-C, SIGKILL, a full disk) leaves no partial file
 /// behind. On Linux the bytes go to an unnamed file in the target's folder (`O_TMPFILE`),
 /// which vanishes with the process if it dies; once written and synced it is linked under a
-/// temporary name and renamed over `path`. Elsewhere, or where the folder's file system
-/// has no unnamed files, tempfile's named temporary file is written and renamed instead, and
-/// a failure removes it.
+/// staging name of this process's own (`.NAME.PID-N.voicekeep-new`) and renamed over `path`.
+/// Where the folder's file system has no unnamed files (network and FAT file systems), and
+/// elsewhere than Linux, the bytes are written under such a staging name and renamed. Runs
+/// writing the same report at once each stage under their own name, and the last rename
+/// wins. A run killed between staging and renaming leaves its staging file; the next run
+/// that writes the same report removes it (on Linux, where a staging file's process can be
+/// seen to be gone).
 pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
     // The rename would put the file in the place of a device, a pipe or a folder's link.
@@ -133,15 +210,51 @@ pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
             return Err(std::io::Error::other("it exists and is not a regular file (a folder, a link, a device or a pipe); choose another name"));
         }
     }
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    remove_stale(dir, &name);
+    let staged = dir.join(staging_name(&name));
     #[cfg(target_os = "linux")]
-    if let Some(done) = unnamed::write(dir, path, bytes) {
+    if let Some(done) = unnamed::write(dir, path, &staged, bytes) {
         return done;
     }
-    let mut tmp = tempfile::Builder::new().prefix(".voicekeep-").suffix(".tmp").tempfile_in(dir)?;
-    write_paced(tmp.as_file_mut(), bytes)?;
-    tmp.as_file().sync_all()?;
-    tmp.persist(path).map_err(|e| e.error)?;
-    Ok(())
+    let written = (|| {
+        let mut file = std::fs::OpenOptions::new().write(true).create_new(true).open(&staged)?;
+        write_paced(&mut file, bytes)?;
+        file.sync_all()?;
+        std::fs::rename(&staged, path)
+    })();
+    if written.is_err() {
+        let _ = std::fs::remove_file(&staged);
+    }
+    written
+}
+
+const STAGING_SUFFIX: &str = ".voicekeep-new";
+
+/// A staging name no other run uses at the same moment: the report's name, this process's
+/// id and a count of this process's writes.
+fn staging_name(name: &str) -> String {
+    static COUNT: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+    let n = COUNT.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    format!(".{name}.{}-{n}{STAGING_SUFFIX}", std::process::id())
+}
+
+/// Removes the staging files a killed run left beside the report `name`: those whose
+/// process is gone. Only where processes can be seen (`/proc`); elsewhere they are left.
+fn remove_stale(dir: &Path, name: &str) {
+    if !Path::new("/proc/self").exists() {
+        return;
+    }
+    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let prefix = format!(".{name}.");
+    for e in entries.flatten() {
+        let file = e.file_name().to_string_lossy().into_owned();
+        let Some(middle) = file.strip_prefix(&prefix).and_then(|r| r.strip_suffix(STAGING_SUFFIX)) else { continue };
+        let Some(pid) = middle.split('-').next().and_then(|p| p.parse::<u32>().ok()) else { continue };
+        if !Path::new(&format!("/proc/{pid}")).exists() {
+            let _ = std::fs::remove_file(e.path());
+        }
+    }
 }
 
 /// Writes all of `bytes`. A test hook: with `VOICEKEEP_TEST_WRITE_PAUSE_MS` set, the write
@@ -170,20 +283,19 @@ mod unnamed {
 
     /// None when the folder cannot hold an unnamed file (or /proc is missing), so the caller
     /// falls back to a named one; otherwise the outcome of the write.
-    pub(super) fn write(dir: &Path, path: &Path, bytes: &[u8]) -> Option<std::io::Result<()>> {
+    pub(super) fn write(dir: &Path, path: &Path, staged: &Path, bytes: &[u8]) -> Option<std::io::Result<()>> {
+        // The test hook forces the named path, as on a file system without unnamed files.
+        if std::env::var_os("VOICEKEEP_TEST_NO_TMPFILE").is_some() {
+            return None;
+        }
         let fd = openat(CWD, dir, OFlags::WRONLY | OFlags::TMPFILE | OFlags::CLOEXEC, Mode::from_raw_mode(0o644)).ok()?;
         let mut file = std::fs::File::from(fd);
         if let Err(e) = super::write_paced(&mut file, bytes).and_then(|_| file.sync_all()) {
             return Some(Err(e));
         }
-        // A name of its own for the moment between link and rename; one left by a run
-        // killed in that moment is a whole earlier report, replaced here.
-        let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
-        let staged = dir.join(format!(".{name}.voicekeep-new"));
-        let _ = std::fs::remove_file(&staged);
-        linkat(CWD, format!("/proc/self/fd/{}", file.as_raw_fd()), CWD, &staged, AtFlags::SYMLINK_FOLLOW).ok()?;
-        Some(std::fs::rename(&staged, path).inspect_err(|_| {
-            let _ = std::fs::remove_file(&staged);
+        linkat(CWD, format!("/proc/self/fd/{}", file.as_raw_fd()), CWD, staged, AtFlags::SYMLINK_FOLLOW).ok()?;
+        Some(std::fs::rename(staged, path).inspect_err(|_| {
+            let _ = std::fs::remove_file(staged);
         }))
     }
 }

@@ -337,14 +337,14 @@ fn part_health_flags_carry_their_level_effect() {
 #[test]
 fn a_network_that_cannot_be_solved_is_a_job_problem_naming_its_parts() {
     // Two 0 ohm links in series across the amplifier (no output impedance): the equations
-    // are singular at every frequency. (One link straight across is refused before the
-    // engine, in hostile.rs.) And a driver wired to a node nothing else reaches, which
-    // validation catches before the engine would.
+    // would be singular at every frequency. The links are refused before the engine, named
+    // together (hostile.rs and hostile2.rs have more). And a driver wired to a node nothing
+    // else reaches, which validation catches before the engine would.
     let short = "voicekeep: 1\njob: { number: A, date: 2026-01-01 }\namplifier: { power: 50 W, into: 8 ohm }\nnetwork:\n  input: [IN, COM]\n  parts:\n    R0: { kind: resistor, between: [IN, X], value: 0 ohm }\n    R9: { kind: resistor, between: [X, COM], value: 0 ohm }\n    L1: { kind: inductor, between: [IN, W1], value: 1 mH, dcr: 0.3 ohm }\n  drivers:\n    LF: { role: woofer, between: [W1, COM], model: { resistance: 6 ohm } }\nanalysis: { sweep: { from: 20 Hz, to: 2 kHz, per_octave: 3 } }\n";
     for cmd in ["check", "solve"] {
         let o = Cli::new().job(short).args([cmd, "{job}"]).run();
         // Placed like every other job problem: R0's line and column, its field, a hint.
-        o.code(1).stderr_has(":7:5: network.R0: as designed: the network cannot be solved at 20 Hz").stderr_has("singular").stderr_has("hint:");
+        o.code(1).stderr_has(":7:5: network.parts.R0: R0 and R9 join the amplifier's terminals IN and COM with wire links (0 ohm)").stderr_has("hint:");
         assert!(o.stdout.is_empty(), "nothing printed as a result: {}", o.stdout);
     }
     let o = Cli::new().job(short).args(["report", "{job}", "-o", "{dir}/r.pdf"]).run();

@@ -9,6 +9,7 @@ mod finite;
 mod fixtures;
 mod golden;
 mod hostile;
+mod hostile2;
 mod interrupted;
 mod nodal;
 mod options;
