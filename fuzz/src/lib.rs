@@ -25,6 +25,34 @@ pub fn files() -> &'static MemFiles {
     })
 }
 
+/// A job that names one file beside it, for the targets that fuzz that file: a driver's
+/// impedance table, a response table, a price list or the shop's settings file.
+pub fn job_naming(kind: &str) -> String {
+    let base = "voicekeep: 1\njob: { number: F-1, date: 2026-01-01 }\namplifier: { power: 10 W, into: 8 ohm }\nnetwork:\n  input: [IN, COM]\n  parts:\n    C1: { kind: capacitor, between: [IN, H1], value: 6.8 uF, esr: 0.1 ohm }\n    L1: { kind: inductor, between: [IN, W1], value: 0.47 mH, dcr: 0.2 ohm }\n  drivers:\n    HF: { role: tweeter, between: [H1, COM], model: { resistance: 8 ohm } }\n    LF: { role: woofer, between: [W1, COM], model: { re: 6 ohm, le: 0.5 mH } }\nanalysis: { sweep: { from: 20 Hz, to: 20 kHz, per_octave: 3 } }\n";
+    match kind {
+        "impedance" => base.replace("model: { resistance: 8 ohm }", "model: { table: fuzzed.csv }"),
+        "response" => base.replace("model: { resistance: 8 ohm } }", "model: { resistance: 8 ohm }, response: fuzzed.csv }"),
+        "prices" => format!("{base}changes:\n  - replace: C1\n    with: {{ value: 6.8 uF, esr: 0.01 ohm, rating: 250 V }}\nprices: {{ list: fuzzed.csv }}\n"),
+        _ => base.replace("job: { number: F-1, date: 2026-01-01 }", "job: { number: F-1, date: 2026-01-01, shop: { settings: fuzzed.yaml } }"),
+    }
+}
+
+/// Loads the job of [`job_naming`] with `bytes` as its file: a job or located problems.
+pub fn load_beside(kind: &str, bytes: &[u8]) -> Option<Job> {
+    let name = if kind == "settings" { "fuzzed.yaml" } else { "fuzzed.csv" };
+    let files = files().clone().with(name, bytes.to_vec());
+    let job = job_naming(kind);
+    match voicekeep::job::load_text(job.as_bytes(), "job.yaml", "job.yaml", &files) {
+        Ok(job) => Some(job),
+        Err(e) => {
+            let text = e.to_string();
+            assert!(text.starts_with("job.yaml:"), "a message that does not start with its place: {text}");
+            assert!(!text.chars().any(|c| c.is_control() && c != '\n'), "a control character in a message: {text:?}");
+            None
+        }
+    }
+}
+
 /// Loads fuzzed job text. A refusal must be located: every message line names the file,
 /// a line and a column.
 pub fn load(data: &[u8]) -> Option<Job> {
