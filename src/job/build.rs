@@ -19,6 +19,34 @@ const REPLACE_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "tolera
 const REPLACE_DRIVER_KEYS: &[&str] = &["model", "sensitivity", "response", "rated_power", "note"];
 
 pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
+    // Every cabinet fits the job's parts and each option's: the work is their product.
+    let fitted = raw.compensate.len() + raw.options.iter().map(|o| o.compensate.len()).sum::<usize>();
+    let fits = fitted * raw.cabinets.len().max(1);
+    if fits > crate::job::parse::MAX_FITS_IN_ALL {
+        ctx.error(
+            Pos::START,
+            "compensate",
+            format!(
+                "the job fits {fitted} parts in each of {} cabinets, {fits} fits in all, above the {} a job may ask for",
+                raw.cabinets.len().max(1),
+                crate::job::parse::MAX_FITS_IN_ALL
+            ),
+            Some("fit fewer parts (a resistor or an L-pad per driver), or split the set or the options into several jobs".into()),
+        );
+        return None;
+    }
+    if let Some(t) = raw.analysis.as_ref().and_then(|a| a.tolerance.as_ref()) {
+        let cabinets = raw.cabinets.len().max(1);
+        if t.runs * cabinets > crate::job::parse::MAX_RUNS {
+            ctx.error(
+                Pos::START,
+                "analysis.tolerance.runs",
+                format!("{} Monte Carlo runs in each of {cabinets} cabinets, {} in all, above the {} a job may ask for", t.runs, t.runs * cabinets, crate::job::parse::MAX_RUNS),
+                Some(format!("ask for at most {} runs", crate::job::parse::MAX_RUNS / cabinets)),
+            );
+            return None;
+        }
+    }
     let before = ctx.diags.len();
     let network = raw.network.map(|n| network(n, ctx));
     let network_whole = raw.network_whole && ctx.diags.len() == before;
