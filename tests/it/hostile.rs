@@ -6,7 +6,8 @@ use std::time::{Duration, Instant};
 
 use crate::util::{root, Cli};
 
-const BASE: &str = "voicekeep: 1
+/// A small two-way job the hostile cases damage (hostile2.rs too).
+pub const BASE: &str = "voicekeep: 1
 job: { number: H-1, date: 2026-01-01 }
 amplifier: { power: 10 W, into: 8 ohm }
 network:
@@ -20,7 +21,8 @@ network:
 analysis: { sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 } }
 ";
 
-fn with(old: &str, new: &str) -> String {
+/// [`BASE`] with its first `old` replaced by `new`.
+pub fn with(old: &str, new: &str) -> String {
     assert!(BASE.contains(old), "{old}");
     BASE.replacen(old, new, 1)
 }

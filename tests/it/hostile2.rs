@@ -7,26 +7,8 @@
 
 use std::time::{Duration, Instant};
 
+use crate::hostile::{with, BASE};
 use crate::util::{pdf_words, root, Cli};
-
-const BASE: &str = "voicekeep: 1
-job: { number: H-2, date: 2026-01-01 }
-amplifier: { power: 10 W, into: 8 ohm }
-network:
-  input: [IN, COM]
-  parts:
-    C1: { kind: capacitor, between: [IN, H1], value: 6.8 uF, esr: 0.1 ohm }
-    L1: { kind: inductor, between: [IN, W1], value: 0.47 mH, dcr: 0.2 ohm }
-  drivers:
-    HF: { role: tweeter, between: [H1, COM], model: { resistance: 8 ohm } }
-    LF: { role: woofer, between: [W1, COM], model: { re: 6 ohm, le: 0.5 mH } }
-analysis: { sweep: { from: 20 Hz, to: 20 kHz, per_octave: 6 } }
-";
-
-fn with(old: &str, new: &str) -> String {
-    assert!(BASE.contains(old), "{old}");
-    BASE.replacen(old, new, 1)
-}
 
 /// Runs `check` on a job (with files beside it) and returns the output, checking the
 /// properties every refusal has: exit 1, no panic, lines a terminal can show, no raw
@@ -55,11 +37,11 @@ fn control_characters_are_refused_where_they_stand_in_every_input() {
     let nul = format!("{BASE}# bench note\0 the rest\nchanges:\n  - replace: C1\n    with: {{ value: 3.3 uF }}\n");
     refused(nul.as_bytes(), &[], &["job.yaml:13:13:", "U+0000 (NUL)", "hint:"]);
     for (c, name) in [('\u{1b}', "U+001B (ESC)"), ('\u{7}', "U+0007 (BEL)"), ('\u{ffff}', "U+FFFF")] {
-        let job = with("number: H-2", &format!("number: \"H{c}2\""));
+        let job = with("number: H-1", &format!("number: \"H{c}1\""));
         refused(job.as_bytes(), &[], &["job.yaml:2:", name]);
     }
     // A settings file of NUL bytes was accepted.
-    let job = with("number: H-2", "number: H-2, shop: { settings: shop.yaml }");
+    let job = with("number: H-1", "number: H-1, shop: { settings: shop.yaml }");
     refused(job.as_bytes(), &[("shop.yaml", &[0u8; 64])], &["shop.yaml", "U+0000 (NUL)", "line 1, column 1"]);
     // A table and a price list.
     let job = with("model: { resistance: 8 ohm }", "model: { table: mid.csv }");
@@ -81,8 +63,8 @@ fn a_table_of_decimal_commas_or_spare_cells_is_refused_never_half_read() {
 
 #[test]
 fn yaml_tags_and_directives_are_refused_not_ignored() {
-    refused(with("number: H-2", "number: !!binary SDI=").as_bytes(), &[], &["job.yaml:2:", "YAML tag (`!!binary`)"]);
-    refused(with("number: H-2", "number: !!python/object:os.system x").as_bytes(), &[], &["YAML tag (`!!python/object:os.system`)"]);
+    refused(with("number: H-1", "number: !!binary SDI=").as_bytes(), &[], &["job.yaml:2:", "YAML tag (`!!binary`)"]);
+    refused(with("number: H-1", "number: !!python/object:os.system x").as_bytes(), &[], &["YAML tag (`!!python/object:os.system`)"]);
     refused(format!("%YAML 9.9\n---\n{BASE}").as_bytes(), &[], &["job.yaml:1:1:", "YAML directive (`%YAML`)"]);
     refused(with("C1: {", "C1: !local {").as_bytes(), &[], &["YAML tag (`!local`)"]);
 }
@@ -165,7 +147,7 @@ fn a_file_larger_than_its_kind_may_be_is_refused_by_its_size_before_it_is_read()
     let (code, e) = check(&with("model: { resistance: 8 ohm }", "model: { table: big.csv }"));
     assert_eq!(code, Some(1), "{e}");
     assert!(e.contains("2147483648 bytes, above the 16777216 (16 MB)"), "{e}");
-    let (code, e) = check(&with("number: H-2", "number: H-2, shop: { settings: big.csv }"));
+    let (code, e) = check(&with("number: H-1", "number: H-1, shop: { settings: big.csv }"));
     assert_eq!(code, Some(1), "{e}");
     assert!(e.contains("above the"), "{e}");
     let (code, e) = check(&format!("{BASE}prices: {{ list: big.csv, currency: EUR }}\n"));
@@ -319,7 +301,7 @@ fn text_in_any_script_renders_in_every_template_and_a_glyph_no_font_has_is_a_war
 fn a_job_whose_text_would_run_to_thousands_of_pages_is_refused() {
     // A 0.98 MB job of blank lines in its notes made a 14,192-page PDF (27 s, 1.7 GB).
     let notes = format!("  notes: \"{}\"\n", "\\n".repeat(19_000));
-    let job = with("job: { number: H-2, date: 2026-01-01 }\n", &format!("job:\n  number: H-2\n  date: 2026-01-01\n{notes}"));
+    let job = with("job: { number: H-1, date: 2026-01-01 }\n", &format!("job:\n  number: H-1\n  date: 2026-01-01\n{notes}"));
     refused(job.as_bytes(), &[], &["job.notes", "2000 line breaks a job may hold"]);
     // Spread over many fields it is the whole job's text that counts.
     let options: String = (0..11).map(|i| format!("  o{i}: {{ say: \"{}\", changes: [] }}\n", "x ".repeat(9_500))).collect();
