@@ -271,7 +271,7 @@ fn pair_text(s: &mut String, set: &SetFindings) {
             let _ = writeln!(s, "  {r}");
         }
         for x in &m.from_median {
-            let _ = writeln!(s, "    {:<8} from the median: found {}, left {}", x.cabinet, db(x.as_found_db), db(x.as_left_db));
+            let _ = writeln!(s, "    {:<8} from the median: found {}, left {}", x.cabinet, level(x.as_found_db), level(x.as_left_db));
         }
     }
     for c in &set.compensation {
@@ -290,6 +290,21 @@ pub fn db(v: f64) -> String {
         "+0.00 dB".into()
     } else {
         t
+    }
+}
+
+/// A driver's level against its reference, as [`db`]; a level more than
+/// [`crate::analysis::compensate::FAULT_DB`] down is a fault (the driver shorted or
+/// disconnected), never a figure, and one more than that up is a driver that played only
+/// through a fault in its reference.
+pub fn level(v: f64) -> String {
+    let fault = crate::analysis::compensate::FAULT_DB;
+    if v < -fault {
+        "silent (fault)".into()
+    } else if v > fault {
+        "back from silent".into()
+    } else {
+        db(v)
     }
 }
 
@@ -433,7 +448,7 @@ fn options_text(s: &mut String, list: &[OptionFindings], recommended: &Option<Re
         let each = o.each();
         let _ = write!(s, "  {}: RMS {:.2} dB{price}", o.name, o.score_db);
         for (name, g) in &each {
-            let levels: Vec<String> = g.levels.iter().map(|l| format!("{} {}", l.driver, db(l.as_left_db))).collect();
+            let levels: Vec<String> = g.levels.iter().map(|l| format!("{} {}", l.driver, level(l.as_left_db))).collect();
             let who = if name.is_empty() { String::new() } else { format!("cabinet {name}: ") };
             let _ = write!(s, "\n    {who}{}; min |Z| {}, load {}", levels.join(", "), ohm(g.loads.as_left.min_ohm), g.loads.as_left.verdict);
         }
@@ -476,7 +491,11 @@ pub fn substitute_rows(x: &crate::analysis::substitute::Substitute) -> Vec<[Stri
         ["Re".into(), ohm(a.re_ohm), ohm(b.re_ohm)],
         ["fs".into(), opt(a.fs_hz, &|v| hz(Some(v))), opt(b.fs_hz, &|v| hz(Some(v)))],
         ["Qts".into(), opt(a.qts, &|v| trim_number(v, 3)), opt(b.qts, &|v| trim_number(v, 3))],
-        ["sensitivity (2.83 V, 1 m)".into(), opt(a.sensitivity_db, &|v| format!("{} dB", trim_number(v, 3))), opt(b.sensitivity_db, &|v| format!("{} dB", trim_number(v, 3)))],
+        [
+            "sensitivity (2.83 V, 1 m)".into(),
+            opt(a.sensitivity_db, &|v| format!("{} dB SPL", trim_number(v, 3))),
+            opt(b.sensitivity_db, &|v| format!("{} dB SPL", trim_number(v, 3))),
+        ],
         ["rated power".into(), opt(a.rated_w, &|v| format!("{} W", trim_number(v, 3))), opt(b.rated_w, &|v| format!("{} W", trim_number(v, 3)))],
         [xo, opt(a.z_at_crossover_ohm, &|v| ohm(v)), opt(b.z_at_crossover_ohm, &|v| ohm(v))],
         ["crossover".into(), hz(x.crossover_hz[0]), hz(x.crossover_hz[1])],
@@ -570,7 +589,7 @@ fn levels_text(s: &mut String, _job: &Job, f: &Findings) {
     let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
     for l in &f.levels {
         let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == crate::analysis::BandSource::Compensate { "fit" } else { "pass" });
-        let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, db(l.as_designed_db), db(l.as_found_db), db(l.as_left_db), l.left_flag);
+        let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, level(l.as_designed_db), level(l.as_found_db), level(l.as_left_db), l.left_flag);
     }
     let acoustic: Vec<&str> = f.levels.iter().filter(|l| l.as_left_acoustic || l.as_found_acoustic).map(|l| l.driver.as_str()).collect();
     if !acoustic.is_empty() {

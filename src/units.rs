@@ -391,6 +391,16 @@ pub fn shown(v: f64) -> String {
     }
 }
 
+/// Watts as a report prints them: three significant figures, and a figure too small to
+/// matter (a part left open, a driver cut off) as "under 1 mW", never a row of zeros.
+pub fn watts(v: f64) -> String {
+    if v > 0.0 && v < 0.001 {
+        "under 1 mW".into()
+    } else {
+        format!("{} W", trim_number(v, 3))
+    }
+}
+
 /// A number with `digits` significant digits and no trailing zeros.
 pub fn trim_number(v: f64, digits: usize) -> String {
     if v == 0.0 {

@@ -11,7 +11,7 @@ use nalgebra::DMatrix;
 use crate::analysis::logfit::{jacobian, LogFit};
 
 use crate::analysis::input_impedances;
-use crate::model::{Amplifier, DriverModel, ImpedanceTable, Network, PartKind, Resonance, VoiceCoilInductance};
+use crate::model::{Amplifier, DriverModel, ImpedanceTable, Network, Resonance, VoiceCoilInductance};
 use crate::units::{format_si, Quantity};
 
 /// The weights of the residuals: a rig good to 1 % in |Z| and 1 degree in phase (common
@@ -31,161 +31,7 @@ pub const CORRELATION_LIMIT: f64 = 0.95;
 /// An estimate whose 95 % interval spans more than this factor either way is not a finding.
 const SPAN_LIMIT: f64 = 2.0;
 
-/// One parameter of the network: a part's `value`, `esr` or `dcr`, or a driver's `re`,
-/// `le`, `fs`, `qms`, `qes` or `resistance`.
-#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
-pub struct Param {
-    pub part: String,
-    pub field: String,
-}
-
-impl Param {
-    pub fn new(part: &str, field: &str) -> Param {
-        Param { part: part.into(), field: field.into() }
-    }
-
-    /// The parameter's value in `net`, if it has one that can be fitted (finite, above 0).
-    pub fn get(&self, net: &Network) -> Option<f64> {
-        let v = if let Some(p) = net.part(&self.part) {
-            if p.fault.is_some() {
-                return None;
-            }
-            match (self.field.as_str(), p.kind) {
-                ("value", _) => p.value,
-                ("esr", PartKind::Capacitor) if p.tan_delta.is_none() => p.esr,
-                ("dcr", PartKind::Inductor) => p.dcr,
-                _ => return None,
-            }
-        } else {
-            let d = net.driver(&self.part)?;
-            match (&d.model, self.field.as_str()) {
-                (DriverModel::Resistance(r), "resistance") => *r,
-                (DriverModel::VoiceCoil { re, .. }, "re") => *re,
-                (DriverModel::VoiceCoil { inductance: VoiceCoilInductance::Simple(le), .. }, "le") => *le,
-                (DriverModel::VoiceCoil { resonance: Some(r), .. }, "fs") => r.fs,
-                (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qms") => r.qms,
-                (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qes") => r.qes,
-                _ => return None,
-            }
-        };
-        Some(v)
-    }
-
-    fn set(&self, net: &mut Network, v: f64) {
-        if let Some(p) = net.part_mut(&self.part) {
-            match self.field.as_str() {
-                "value" => p.value = v,
-                "esr" => p.esr = v,
-                _ => p.dcr = v,
-            }
-            return;
-        }
-        let Some(d) = net.drivers.iter_mut().find(|d| d.name == self.part) else { return };
-        match (&mut d.model, self.field.as_str()) {
-            (DriverModel::Resistance(r), _) => *r = v,
-            (DriverModel::VoiceCoil { re, .. }, "re") => *re = v,
-            (DriverModel::VoiceCoil { inductance: VoiceCoilInductance::Simple(le), .. }, "le") => *le = v,
-            (DriverModel::VoiceCoil { resonance: Some(r), .. }, "fs") => r.fs = v,
-            (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qms") => r.qms = v,
-            (DriverModel::VoiceCoil { resonance: Some(r), .. }, "qes") => r.qes = v,
-            _ => {}
-        }
-    }
-
-    /// The unit the value is in, for the tables.
-    pub fn quantity(&self, net: &Network) -> Option<Quantity> {
-        match self.field.as_str() {
-            "esr" | "dcr" | "re" | "resistance" => Some(Quantity::Resistance),
-            "le" => Some(Quantity::Inductance),
-            "fs" => Some(Quantity::Frequency),
-            "qms" | "qes" => None,
-            _ => match net.part(&self.part)?.kind {
-                PartKind::Capacitor => Some(Quantity::Capacitance),
-                PartKind::Inductor => Some(Quantity::Inductance),
-                PartKind::Resistor => Some(Quantity::Resistance),
-            },
-        }
-    }
-
-    /// "C1 value", "LF re".
-    pub fn name(&self) -> String {
-        format!("{} {}", self.part, self.field)
-    }
-}
-
-/// Every parameter of `net` a sweep could estimate: each part's value and its loss (ESR,
-/// DCR), each driver's model parameters.
-pub fn all_params(net: &Network) -> Vec<Param> {
-    let mut out = Vec::new();
-    for p in &net.parts {
-        for field in ["value", "esr", "dcr"] {
-            let q = Param::new(&p.name, field);
-            if q.get(net).is_some_and(|v| v > 0.0) {
-                out.push(q);
-            }
-        }
-    }
-    for d in &net.drivers {
-        for field in ["resistance", "re", "le", "fs", "qms", "qes"] {
-            let q = Param::new(&d.name, field);
-            if q.get(net).is_some_and(|v| v > 0.0) {
-                out.push(q);
-            }
-        }
-    }
-    out
-}
-
-/// The parameters `C1` (a part's value and its loss; a driver's model parameters) or
-/// `C1.esr` (one field) name in `net`; or a message and a hint.
-pub fn params_named(net: &Network, name: &str) -> Result<Vec<Param>, (String, String)> {
-    let (who, field) = match name.split_once('.') {
-        Some((a, b)) => (a, Some(b)),
-        None => (name, None),
-    };
-    if net.part(who).is_none() && net.driver(who).is_none() {
-        let mut names: Vec<&str> = net.parts.iter().map(|p| p.name.as_str()).collect();
-        names.extend(net.drivers.iter().map(|d| d.name.as_str()));
-        let hint = match crate::diag::suggest(who, names.iter().copied()) {
-            Some(s) => format!("did you mean `{s}`?"),
-            None => format!("name a part or driver of the network: {}", names.join(", ")),
-        };
-        return Err((format!("there is no part or driver \"{who}\" to estimate"), hint));
-    }
-    let all: Vec<Param> = all_params(net).into_iter().filter(|p| p.part == who).collect();
-    match field {
-        None if all.is_empty() => {
-            Err((format!("{who} has nothing a sweep can estimate (an open or shorted part, or a driver given as a table)"), "leave it out of `diagnose`".into()))
-        }
-        None => Ok(all),
-        Some(f) => match all.iter().find(|p| p.field == f) {
-            Some(p) => Ok(vec![p.clone()]),
-            None => {
-                let fields: Vec<&str> = all.iter().map(|p| p.field.as_str()).collect();
-                Err((
-                    format!("{who} has no `{f}` to estimate"),
-                    format!("{who}'s fields a sweep can estimate: {}", if fields.is_empty() { "none".into() } else { fields.join(", ") }),
-                ))
-            }
-        },
-    }
-}
-
-/// What the job's `terminals.diagnose` asks for (every parameter with `all`), each once.
-pub fn params_of(net: &Network, t: &crate::model::terminals::Terminals) -> Vec<Param> {
-    if t.diagnose_all {
-        return all_params(net);
-    }
-    let mut out: Vec<Param> = Vec::new();
-    for (name, _, _) in &t.diagnose {
-        for p in params_named(net, name).unwrap_or_default() {
-            if !out.contains(&p) {
-                out.push(p);
-            }
-        }
-    }
-    out
-}
+pub use crate::model::terminals::{all_params, params_named, params_of, Param};
 
 /// One estimate: the value, its 95 % interval, and whether the sweep can tell it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -322,11 +168,17 @@ fn judge(names: &[Param], start: &[f64], x: &[f64], r: &[f64], j: &DMatrix<f64>)
                     "its effect on the terminal impedance is below the sweep's residual (a 10 % change in it moves |Z| by at most {:.2} % or the phase by {:.2} degrees, against a residual of {:.2}): measure it on the bench",
                     st.split[k].0, st.split[k].1, st.rms
                 )
-            } else if let Some(c) = partner {
-                let other = if c.a == names[k].name() { &c.b } else { &c.a };
-                format!("it cannot be told apart from {other} (correlation {:+.3}): measure one of them on the bench", c.r)
             } else if spread > SPAN_LIMIT.ln() {
-                "the sweep fixes it only to within more than a factor of two: measure it on the bench".to_string()
+                // The interval comes from the full covariance, so it already widens for a
+                // parameter that moves with another: a tight one is told apart whatever the
+                // correlation, and a wide one names its partner.
+                match partner {
+                    Some(c) => {
+                        let other = if c.a == names[k].name() { &c.b } else { &c.a };
+                        format!("it cannot be told apart from {other} (correlation {:+.3}; the sweep fixes it only to within more than a factor of two): measure one of them on the bench", c.r)
+                    }
+                    None => "the sweep fixes it only to within more than a factor of two: measure it on the bench".to_string(),
+                }
             } else {
                 String::new()
             };
@@ -425,7 +277,7 @@ pub fn diagnose(network: &Network, amp: &Amplifier, sweep: &ImpedanceTable, para
         correlated,
         sentence,
         basis: format!(
-            "estimated from the as-found sweep at the terminals ({}, {} points): least squares on log |Z| (weight 1 %) and phase (weight 1 degree) by Levenberg-Marquardt over the logarithms of the parameters, started from the job's values as found; 95 % intervals from the Jacobian at the solution, scaled by the residual; an estimate is not identifiable when a 10 % change moves the fit less than the residual, when it moves with another (correlation beyond {CORRELATION_LIMIT}) or when its interval spans more than a factor of two. Estimates are never used as bench readings: write a reading under `measured` to use one",
+            "estimated from the as-found sweep at the terminals ({}, {} points): least squares on log |Z| (weight 1 %) and phase (weight 1 degree) by Levenberg-Marquardt over the logarithms of the parameters, started from the job's values as found; 95 % intervals from the Jacobian at the solution, scaled by the residual; an estimate is not identifiable when a 10 % change moves the fit less than the residual or when its interval (from the full covariance, which widens for a parameter that moves with another) spans more than a factor of two; pairs correlated beyond {CORRELATION_LIMIT} are listed. Estimates are never used as bench readings: write a reading under `measured` to use one",
             sweep.file,
             idx.len()
         ),

@@ -4,9 +4,9 @@
 
 use num_complex::Complex64;
 
-use crate::analysis::{compensate, Scene, Scenes};
+use crate::analysis::{Scene, Scenes};
 use crate::engine;
-use crate::model::{Driver, Scenario};
+use crate::model::{Driver, Role, Scenario};
 
 /// Where a driver's band comes from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -28,16 +28,49 @@ pub struct Band {
     pub source: BandSource,
 }
 
-/// Passband: the sweep points where the as-designed level is within 6 dB of its maximum.
-pub fn passband(freqs: &[f64], db: &[f64]) -> Band {
-    let max = db.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
-    let idx: Vec<usize> = (0..db.len()).filter(|i| db[*i] >= max - 6.0).collect();
-    // The maximum itself is in the band, so it is never empty.
-    let (lo, hi) = (idx.first().map(|i| freqs[*i]).unwrap_or(f64::NAN), idx.last().map(|i| freqs[*i]).unwrap_or(f64::NAN));
+pub use crate::model::HEARING_HZ;
+
+/// Levels more than this far below their reference are a fault (a driver shorted or
+/// disconnected), not a level difference.
+pub const FAULT_DB: f64 = 40.0;
+
+/// The sweep points inside [`HEARING_HZ`] (all of them if the sweep lies wholly outside).
+fn audible(freqs: &[f64]) -> Vec<usize> {
+    let idx: Vec<usize> = (0..freqs.len()).filter(|&i| freqs[i] >= HEARING_HZ[0] * (1.0 - 1e-9) && freqs[i] <= HEARING_HZ[1] * (1.0 + 1e-9)).collect();
+    if idx.is_empty() {
+        (0..freqs.len()).collect()
+    } else {
+        idx
+    }
+}
+
+/// Passband: the audible sweep points where the as-designed level is within 6 dB of its
+/// reference. For most drivers the reference is the maximum. A woofer's filter is a low-pass
+/// whose output can peak near its corner (its load's impedance rises there), so a woofer's
+/// reference is its level over the lowest two octaves of the sweep, where a low-pass is flat,
+/// and its passband runs up from the bottom of the sweep until the level first falls 6 dB
+/// below that.
+pub fn passband(freqs: &[f64], db: &[f64], role: Role) -> Band {
+    let pool = audible(freqs);
+    let idx: Vec<usize> = if role == Role::Woofer {
+        let f0 = freqs[pool[0]];
+        let mut low: Vec<f64> = pool.iter().filter(|&&i| freqs[i] <= 4.0 * f0 * (1.0 + 1e-9)).map(|&i| db[i]).collect();
+        low.sort_by(|a, b| a.total_cmp(b));
+        let reference = low[low.len() / 2];
+        pool.iter().cloned().take_while(|&i| db[i] >= reference - 6.0).collect()
+    } else {
+        let max = pool.iter().map(|&i| db[i]).fold(f64::NEG_INFINITY, f64::max);
+        pool.iter().cloned().filter(|&i| db[i] >= max - 6.0).collect()
+    };
+    // A woofer that falls 6 dB at once has the bottom point; otherwise the maximum is in it.
+    let idx = if idx.is_empty() { vec![pool[0]] } else { idx };
+    let (lo, hi) = (freqs[idx[0]], freqs[idx[idx.len() - 1]]);
     Band { lo_hz: lo, hi_hz: hi, idx, source: BandSource::Passband }
 }
 
+/// A compensate entry's band, bounded to [`HEARING_HZ`].
 pub fn band_of(freqs: &[f64], lo: f64, hi: f64) -> Band {
+    let (lo, hi) = (lo.max(HEARING_HZ[0]), hi.min(HEARING_HZ[1]));
     let idx: Vec<usize> = (0..freqs.len()).filter(|i| freqs[*i] >= lo * (1.0 - 1e-9) && freqs[*i] <= hi * (1.0 + 1e-9)).collect();
     let (a, b) = (idx.first().map(|i| freqs[*i]).unwrap_or(lo), idx.last().map(|i| freqs[*i]).unwrap_or(hi));
     Band { lo_hz: a, hi_hz: b, idx, source: BandSource::Compensate }
@@ -88,7 +121,7 @@ pub struct LevelRow {
     pub passband_hz: [f64; 2],
     pub passband_worst_db: f64,
     pub left_flag: String,
-    /// More than [`compensate::FAULT_DB`] below the original design: not a level difference
+    /// More than [`FAULT_DB`] below the original design: not a level difference
     /// but a fault (a driver shorted or disconnected).
     pub as_found_fault: bool,
     pub as_left_fault: bool,
@@ -128,7 +161,7 @@ pub fn acoustic_offset(d: &crate::model::Driver, freqs: &[f64]) -> Option<(Vec<f
     }
 }
 
-/// The flag for a level more than [`compensate::FAULT_DB`] below its reference.
+/// The flag for a level more than [`FAULT_DB`] below its reference.
 pub const FAULT_FLAG: &str = "fault: driver shorted or disconnected";
 
 /// A flag for a level difference from the as-designed voicing. Just-noticeable broadband
@@ -210,7 +243,7 @@ pub fn level_rows(drivers: &[Driver], freqs: &[f64], bands: &[Band], scenes: &Sc
                 Some((_, a, b)) => idx.iter().map(|&j| b[j] - a[j]).fold(0.0, |acc: f64, v| if v.abs() > acc.abs() { v } else { acc }),
                 None => 0.0,
             };
-            let pass = passband(freqs, &designed.db[i]);
+            let pass = passband(freqs, &designed.db[i], d.role);
             let (worst_db, passband_worst_db) = (worst_over(&band.idx), worst_over(&pass.idx));
             let b = band;
             LevelRow {
@@ -225,9 +258,9 @@ pub fn level_rows(drivers: &[Driver], freqs: &[f64], bands: &[Band], scenes: &Sc
                 as_left_worst_db: worst_db,
                 passband_hz: [pass.lo_hz, pass.hi_hz],
                 passband_worst_db,
-                left_flag: if left_db < -compensate::FAULT_DB { FAULT_FLAG.into() } else { level_flag(left_db).into() },
-                as_found_fault: found_db < -compensate::FAULT_DB,
-                as_left_fault: left_db < -compensate::FAULT_DB,
+                left_flag: if left_db < -FAULT_DB { FAULT_FLAG.into() } else { level_flag(left_db).into() },
+                as_found_fault: found_db < -FAULT_DB,
+                as_left_fault: left_db < -FAULT_DB,
                 as_found_acoustic: found_acoustic,
                 as_left_acoustic: left_acoustic,
             }

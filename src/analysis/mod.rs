@@ -276,7 +276,7 @@ pub fn prepare(job: &Job) -> Result<Prepared, AnalysisError> {
         .enumerate()
         .map(|(i, d)| match job.compensate.iter().find(|c| c.driver == d.name).and_then(|c| c.band) {
             Some((lo, hi)) => band_of(&freqs, lo, hi),
-            None => passband(&freqs, &designed.db[i]),
+            None => passband(&freqs, &designed.db[i], d.role),
         })
         .collect();
     Ok(Prepared { freqs, grid, designed, found, unsolved, bands })
@@ -298,6 +298,28 @@ pub fn plan_of(job: &Job, pre: &Prepared) -> Result<compensate::Plan, AnalysisEr
     compensate::plan(&cx).map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))
 }
 
+/// A driver the work leaves measurably off its original level (0.5 dB or more on average over
+/// its band, the levels table's "measurable", common practice) that no `compensate` entry
+/// names: said, so a job that forgot its compensating resistor does not pass in silence.
+fn uncompensated(job: &Job, levels: &[LevelRow]) -> Vec<compensate::Warning> {
+    if job.changes.is_empty() {
+        return Vec::new();
+    }
+    levels
+        .iter()
+        .filter(|l| !l.as_left_fault && l.as_left_db.abs() >= 0.5 && !job.compensate.iter().any(|c| c.driver == l.driver))
+        .map(|l| compensate::Warning {
+            subject: l.driver.clone(),
+            message: format!(
+                "{} plays {:.2} dB {} than designed on average over its band after the work, and no `compensate` entry names it: a level difference a listener may notice (0.5 dB or more, common practice)",
+                l.driver,
+                l.as_left_db.abs(),
+                if l.as_left_db > 0.0 { "louder" } else { "quieter" }
+            ),
+        })
+        .collect()
+}
+
 /// The rest of the findings, once the plan is known; `floors` raises chosen resistor ratings
 /// to a pair's worse cabinet.
 pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::collections::BTreeMap<String, f64>, progress: &dyn Progress) -> Result<Findings, AnalysisError> {
@@ -316,6 +338,8 @@ pub fn finish(job: &Job, pre: Prepared, plan: compensate::Plan, floors: &std::co
     let tolerance =
         job.analysis.tolerance.as_ref().map(|t| tolerance::run(t, &freqs, &bands, &scenes, progress)).transpose().map_err(|e| AnalysisError::Solve(Scenario::AsLeft, e))?;
     let acoustic = acoustic_sum(&scenes, &freqs);
+    let mut plan = plan;
+    plan.warnings.extend(uncompensated(job, &levels));
     let mut findings = Findings {
         freqs,
         grid,

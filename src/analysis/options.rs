@@ -64,14 +64,18 @@ pub fn job_of(job: &Job, o: &JobOption) -> Job {
     j
 }
 
-/// Each driver's RMS deviation from the original design over its band (dB; acoustic where
-/// known).
+/// Each driver's RMS deviation from the original design over its working range (dB;
+/// acoustic where known). The working range is the original design's passband, the same for
+/// every option whatever bands its own compensating parts were fitted over, so options are
+/// ranked on the same ground.
 fn driver_scores(f: &Findings) -> Vec<f64> {
-    f.bands
+    let d = &f.scenes.as_designed;
+    d.network
+        .drivers
         .iter()
         .enumerate()
+        .map(|(di, drv)| (di, crate::analysis::levels::passband(&f.freqs, &d.db[di], drv.role)))
         .filter_map(|(di, band)| {
-            let d = &f.scenes.as_designed;
             let k = f.scenes.as_left.driver_index(&d.network.drivers[di].name)?;
             let (a, b) = match (&d.spl[di], &f.scenes.as_left.spl[k]) {
                 (Some(a), Some(b)) => (a, b),
@@ -181,6 +185,21 @@ pub fn analyse(job: &Job) -> Result<Vec<OptionFindings>, AnalysisError> {
         .collect()
 }
 
+/// The names in a list of "what: why" verdicts, joined.
+fn what_of(list: &[String]) -> String {
+    let names: Vec<&str> = list.iter().map(|w| w.split(':').next().unwrap_or("")).collect();
+    match names.split_last() {
+        Some((last, [])) => last.to_string(),
+        Some((last, rest)) => format!("{} and {last}", rest.join(", ")),
+        None => String::new(),
+    }
+}
+
+/// The fewest decimals (two to four) at which every two different `values` print apart.
+pub fn distinct_digits(values: &[f64]) -> usize {
+    (2..=4).find(|&d| values.iter().enumerate().all(|(i, a)| values[i + 1..].iter().all(|b| (a - b).abs() < 1e-12 || format!("{a:.d$}") != format!("{b:.d$}")))).unwrap_or(4)
+}
+
 /// The parts' total when every line is priced.
 fn priced_total(p: &PartsList) -> Option<Money> {
     p.total.filter(|_| p.unpriced == 0)
@@ -191,7 +210,7 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
         let o = options.iter().find(|o| &o.name == name)?;
         return Some(Recommendation {
             option: name.clone(),
-            reason: format!("The shop recommends {name}: it keeps every driver within {:.2} dB RMS of the original design over its band.", o.score_db),
+            reason: format!("The shop recommends {name}: it keeps the drivers within {:.2} dB RMS of the original design over their working ranges.", o.score_db),
             named: true,
         });
     }
@@ -207,30 +226,35 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
         (options.iter().collect(), 2)
     };
     let best = pool.iter().min_by(|a, b| a.score_db.total_cmp(&b.score_db))?;
-    let others: Vec<String> = options.iter().filter(|o| o.name != best.name).map(|o| format!("{} {:.2} dB", o.name, o.score_db)).collect();
+    // Enough decimals that no two different scores print alike.
+    let digits = distinct_digits(&options.iter().map(|o| o.score_db).collect::<Vec<_>>());
+    let db = |v: f64| format!("{v:.digits$} dB");
+    let others: Vec<String> = options.iter().filter(|o| o.name != best.name).map(|o| format!("{} {}", o.name, db(o.score_db))).collect();
     let against = if others.is_empty() { String::new() } else { format!(" (against {})", others.join(", ")) };
-    let what = |list: &[String]| {
-        let names: Vec<&str> = list.iter().map(|w| w.split(':').next().unwrap_or("")).collect();
-        match names.split_last() {
-            Some((last, [])) => last.to_string(),
-            Some((last, rest)) => format!("{} and {last}", rest.join(", ")),
-            None => String::new(),
-        }
+    // A closer option set aside for what it leaves over its limit or to check is named.
+    let closest = options.iter().min_by(|a, b| a.score_db.total_cmp(&b.score_db))?;
+    let aside = if closest.name != best.name && closest.score_db < best.score_db {
+        let why = if !closest.over.is_empty() { format!("{} over its limit", what_of(&closest.over)) } else { format!("{} to check", what_of(&closest.to_check)) };
+        format!(" {} is closer, {}, but is set aside: it leaves {why}.", closest.name, db(closest.score_db))
+    } else {
+        String::new()
     };
     let reason = match tier {
         0 => format!(
-            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with nothing over its limit and no caution the original design does not have.",
-            best.name, best.score_db
+            "Recommended: {}, which keeps the drivers closest to the original design of the options with nothing over its limit and no caution the original design does not have, {} RMS over their working ranges{against}.{aside}",
+            best.name,
+            db(best.score_db)
         ),
         1 => format!(
-            "Recommended: {}, which keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}, with nothing over its limit; no option is free of new cautions, and this one leaves {} to check.",
+            "Recommended: {}, which keeps the drivers closest to the original design of the options with nothing over its limit, {} RMS over their working ranges{against}; no option is free of new cautions, and this one leaves {} to check.{aside}",
             best.name,
-            best.score_db,
-            what(&best.to_check)
+            db(best.score_db),
+            what_of(&best.to_check)
         ),
         _ => format!(
-            "No option keeps every part, driver and load within its limits; {} keeps the drivers closest to the original design, {:.2} dB RMS over their bands{against}.",
-            best.name, best.score_db
+            "No option keeps every part, driver and load within its limits; {} keeps the drivers closest to the original design, {} RMS over their working ranges{against}.",
+            best.name,
+            db(best.score_db)
         ),
     };
     Some(Recommendation { option: best.name.clone(), reason, named: false })

@@ -295,12 +295,14 @@ fn matching(job: &Job, cabinets: &[CabinetFindings], tol: f64) -> Vec<PairMatch>
             // loud cabinet's readings widen the gap and the quiet one's narrow it.
             let found_levels: Vec<f64> = cabinets.iter().map(|c| level(c, true)).collect();
             let m = median(&found_levels);
-            let odd = (cabinets.len() > 2).then(|| (0..cabinets.len()).max_by(|a, b| (found_levels[*a] - m).abs().total_cmp(&(found_levels[*b] - m).abs())).unwrap_or(0));
+            // Cabinets that play alike have no odd one.
+            let alike = found_db < 0.005;
+            let odd = (cabinets.len() > 2 && !alike).then(|| (0..cabinets.len()).max_by(|a, b| (found_levels[*a] - m).abs().total_cmp(&(found_levels[*b] - m).abs())).unwrap_or(0));
             let mut responsible = Vec::new();
-            let involved: Vec<(usize, f64)> = match odd {
-                Some(k) => vec![(k, (found_levels[k] - m).signum())],
-                None => vec![(fh, 1.0), (fl, -1.0)],
-            };
+            // The difference is the loudest cabinet's level less the quietest's, in a set as in
+            // a pair: the loud cabinet's readings widen it and the quiet one's narrow it, so
+            // both are weighed (a set's odd cabinet is always one of the two).
+            let involved: Vec<(usize, f64)> = if alike { Vec::new() } else { vec![(fh, 1.0), (fl, -1.0)] };
             for (k, sign) in involved {
                 let c = &job.cabinets[k];
                 for r in &c.measured {
@@ -358,13 +360,13 @@ impl PairMatch {
         let fault = crate::analysis::compensate::FAULT_DB;
         let found = if self.as_found_db > fault {
             format!("as found {fq}'s was all but silent, {} below {fl}'s: a fault (an open part or connection), not a level difference", diff(self.as_found_db))
+        } else if self.as_found_db < 0.005 {
+            "as found the cabinets played alike".to_string()
         } else if set {
             match &self.odd_cabinet {
                 Some(odd) => format!("as found the set spread {} ({fl} loudest, {fq} quietest), cabinet {odd} farthest from the set's median", diff(self.as_found_db)),
                 None => format!("as found the set spread {}", diff(self.as_found_db)),
             }
-        } else if self.as_found_db < 0.005 {
-            "as found the cabinets played alike".to_string()
         } else {
             format!("as found {fl} played {} louder than {fq}", diff(self.as_found_db))
         };

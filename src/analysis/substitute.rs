@@ -98,7 +98,13 @@ pub fn substituted(job: &Job) -> Vec<String> {
     let mut out: Vec<String> = Vec::new();
     for c in &job.changes {
         if let ChangeStep::Replace { target, with: Patch::Driver(p) } = &c.step {
-            if p.model.is_some() && !out.contains(target) {
+            // A new driver of the design's own model (a failed one replaced like for like) is
+            // no substitute.
+            let original = job.network.driver(target);
+            let same = original.is_some_and(|d| {
+                p.model.as_ref() == Some(&d.model) && p.sensitivity.is_none_or(|s| Some(s) == d.sensitivity) && p.response.as_ref().is_none_or(|r| Some(r) == d.response.as_ref())
+            });
+            if p.model.is_some() && !same && !out.contains(target) {
                 out.push(target.clone());
             }
         }

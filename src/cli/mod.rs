@@ -459,6 +459,13 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, templat
         say_err!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template (customer, archive, sale)");
         return Err(PROBLEMS);
     }
+    // A sale sheet records a refurbishment: a job with no work done has none to record.
+    let worked = !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
+    if *template == Template::Sale && !worked {
+        say_err!("{}: a sale sheet records the work done on the speaker, and this job lists no `changes`", path.display());
+        say_err!("  hint: list the work done under `changes`; for a speaker inspected or quoted but not worked on, choose the customer, archive or quote template");
+        return Err(PROBLEMS);
+    }
     // The report never takes the place of the job or of anything it read.
     if read_by(path, job).contains(&where_written(target)) {
         say_err!("{}: the report would overwrite {}, one of the job's own inputs", path.display(), target.display());
@@ -549,7 +556,9 @@ const STARTER_JOB: &str = "job:
     serials: [serial of each cabinet]
     rated_impedance: 8 ohm          # from the speaker's plate
   notes: |
-    Bench notes, printed as written.
+    Bench notes, the shop's own: printed in the archive only.
+  customer_notes: |
+    Notes for the customer: printed in their report and the archive, never on the sale sheet.
 ";
 
 /// A sample job with its opening comment and its `job:` block replaced by placeholders

@@ -5,16 +5,14 @@
 //! checked ([`checks`](crate::job::checks)). Every problem is collected with its place.
 
 use crate::diag::{suggest, Pos};
-use crate::job::checks;
 use crate::job::fields::{self, part_fields};
 use crate::job::raw::*;
-use crate::job::reader::{Ctx, Fields};
+use crate::job::reader::Ctx;
 use crate::job::yaml::Node;
+use crate::job::{checks, readings};
 use crate::model::*;
 use crate::units::Quantity;
 
-const READING_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "at", "open", "shorted"];
-const READING_DRIVER_KEYS: &[&str] = &["resistance", "re", "le", "fs", "qms", "qes", "at"];
 const REPLACE_PART_KEYS: &[&str] = &["value", "esr", "tan_delta", "dcr", "tolerance", "rating", "type", "core", "section", "maker", "part_number", "supplier", "lot"];
 const REPLACE_DRIVER_KEYS: &[&str] = &["model", "sensitivity", "response", "rated_power", "note"];
 
@@ -52,7 +50,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
     let network_whole = raw.network_whole && ctx.diags.len() == before;
     let network = network?;
     let before = ctx.diags.len();
-    let measured = measured(&raw.measured, &network, "measured", ctx);
+    let measured = readings::measured(&raw.measured, &network, "measured", ctx);
     let changes = changes(&raw.changes, &network, &[], "changes", ctx);
     let cabinets: Vec<Cabinet> = raw
         .cabinets
@@ -62,7 +60,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
             Cabinet {
                 name: c.name.clone(),
                 pos: c.pos,
-                measured: self::measured(&c.measured, &network, &format!("{field}.measured"), ctx),
+                measured: readings::measured(&c.measured, &network, &format!("{field}.measured"), ctx),
                 changes: self::changes(&c.changes, &network, &changes, &format!("{field}.changes"), ctx),
                 terminals: c.terminals.clone(),
             }
@@ -158,7 +156,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
             }
             // What a diagnosis estimates must be in the network, with a value to estimate.
             for (name, pos, field) in &t.diagnose {
-                if let Err((message, hint)) = crate::analysis::diagnose::params_named(&network, name) {
+                if let Err((message, hint)) = crate::model::terminals::params_named(&network, name) {
                     ctx.error(*pos, field, message, Some(hint));
                 }
             }
@@ -241,6 +239,8 @@ fn network(raw: RawNetwork, ctx: &mut Ctx) -> Network {
                 response,
                 inverted: d.inverted,
                 note: d.note,
+                fault: None,
+                fault_note: None,
                 pos: d.pos,
             }),
             // Its table's own message says what is wrong; later mentions stay quiet.
@@ -348,13 +348,13 @@ fn wire_links(parts: &[Part], drivers: &[Driver], input: &[String; 2], ctx: &mut
     }
 }
 
-enum Target<'a> {
+pub(super) enum Target<'a> {
     Part(&'a Part),
     Driver(&'a Driver),
 }
 
 /// The part or driver a step or reading names: in the network, or added by an earlier step.
-fn find_target<'a>(net: &'a Network, added: &'a [Part], key: &str, pos: Pos, path: &str, ctx: &mut Ctx) -> Option<Target<'a>> {
+pub(super) fn find_target<'a>(net: &'a Network, added: &'a [Part], key: &str, pos: Pos, path: &str, ctx: &mut Ctx) -> Option<Target<'a>> {
     if let Some(p) = net.part(key).or_else(|| added.iter().find(|p| p.name == key)) {
         return Some(Target::Part(p));
     }
@@ -373,127 +373,14 @@ fn find_target<'a>(net: &'a Network, added: &'a [Part], key: &str, pos: Pos, pat
     None
 }
 
-/// A driver reading names fields of the driver's own model; one its model does not have
-/// (a resonance reading on a model without one, `re` on a measured table) would otherwise be
-/// dropped, so it is refused where it is written.
-fn reading_fits_model(f: &Fields, d: &Driver, ctx: &mut Ctx) -> bool {
-    let (kind, has): (&str, Vec<&str>) = match &d.model {
-        DriverModel::Resistance(_) => ("a plain resistance", vec!["resistance", "re"]),
-        DriverModel::VoiceCoil { inductance, resonance, .. } => {
-            let leach = matches!(inductance, VoiceCoilInductance::Leach { .. });
-            let mut has = vec!["re"];
-            if !leach {
-                has.push("le");
-            }
-            if resonance.is_some() {
-                has.extend(["fs", "qms", "qes"]);
-            }
-            let kind = match (leach, resonance.is_some()) {
-                (true, true) => "Re with Leach's inductance and a resonance",
-                (true, false) => "Re with Leach's inductance and no resonance",
-                (false, true) => "Re and Le with a resonance",
-                (false, false) => "Re and Le with no resonance",
-            };
-            (kind, has)
-        }
-        DriverModel::Table(_) => ("a measured impedance table", vec![]),
-    };
-    let mut ok = true;
-    for key in ["resistance", "re", "le", "fs", "qms", "qes"] {
-        let Some(n) = f.get(key) else { continue };
-        if has.contains(&key) {
-            continue;
-        }
-        let hint = match (&d.model, key) {
-            (DriverModel::Table(_), _) => "a table holds the whole impedance: measure the driver again and `replace` it with the new table".to_string(),
-            (DriverModel::Resistance(_), _) => format!("a plain resistance takes `resistance` (or `re`); give {} a voice-coil model to read `{key}`", d.name),
-            (_, "resistance") => "for a voice-coil model, read its DC resistance as `re`".to_string(),
-            (_, "le") => "Leach's K and n are not read on the bench; `replace` the driver's model if it has changed".to_string(),
-            _ => format!("give {}'s model fs, qms and qes in `network.drivers.{}.model` before reading them", d.name, d.name),
-        };
-        ctx.error(n.pos(), &f.at(key), format!("{}'s model is {kind}: a reading of `{key}` has nothing to apply to", d.name), Some(hint));
-        ok = false;
-    }
-    ok
-}
-
-/// The fields a driver's bench reading may give, read against its model.
-fn driver_reading(f: &Fields, d: &Driver, ctx: &mut Ctx) -> Option<DriverPatch> {
-    if !reading_fits_model(f, d, ctx) {
-        return None;
-    }
-    Some(DriverPatch {
-        resistance: ctx.opt_positive(f, "resistance", Quantity::Resistance, false),
-        re: ctx.opt_positive(f, "re", Quantity::Resistance, false),
-        le: ctx.opt_positive(f, "le", Quantity::Inductance, true),
-        fs: ctx.opt_positive(f, "fs", Quantity::Frequency, false),
-        qms: f.get("qms").and_then(|n| ctx.bare_number(n, &f.at("qms"))),
-        qes: f.get("qes").and_then(|n| ctx.bare_number(n, &f.at("qes"))),
-        ..Default::default()
-    })
-}
-
-/// The bench readings of `entries` (written under `field`), read against the parts and
-/// drivers they name.
-fn measured(entries: &[Entry], net: &Network, field: &str, ctx: &mut Ctx) -> Vec<Reading> {
-    let mut out = Vec::new();
-    for e in entries {
-        let (k, v) = (e.key, e.node);
-        let path = format!("{field}.{}", k.name);
-        let patch = match find_target(net, &[], &k.name, k.pos, &path, ctx) {
-            Some(Target::Part(p)) => ctx.fields(v, &path, READING_PART_KEYS).and_then(|f| match fault(&f, ctx) {
-                Ok(Some(fault)) => Some(Patch::Part(PartPatch { fault: Some(fault), ..Default::default() })),
-                Ok(None) => part_fields(&f, p.kind, ctx, false).map(Patch::Part),
-                Err(()) => None,
-            }),
-            Some(Target::Driver(d)) => ctx.fields(v, &path, READING_DRIVER_KEYS).and_then(|f| driver_reading(&f, d, ctx)).map(Patch::Driver),
-            None => None,
-        };
-        if let Some(patch) = patch {
-            out.push(Reading { target: k.name.clone(), patch, pos: k.pos });
-        }
-    }
-    out
-}
-
-/// A reading of `open: true` or `shorted: true` in place of a value; Err when it is written
-/// wrongly (reported).
-fn fault(f: &Fields, ctx: &mut Ctx) -> Result<Option<Fault>, ()> {
-    let mut found = None;
-    for (key, fault) in [("open", Fault::Open), ("shorted", Fault::Shorted)] {
-        let Some(n) = f.get(key) else { continue };
-        match ctx.choice(n, &f.at(key), &[("true", true), ("false", false)]) {
-            Some(true) => {
-                if found.is_some() {
-                    ctx.error(n.pos(), &f.at(key), "a part cannot read both open and shorted", Some("keep the one the meter showed".into()));
-                    return Err(());
-                }
-                found = Some(fault);
-            }
-            Some(false) => {}
-            None => return Err(()),
-        }
-    }
-    if let Some(fault) = found {
-        if let Some(k) = ["value", "esr", "tan_delta", "dcr"].into_iter().find(|k| f.get(k).is_some()) {
-            ctx.error(
-                f.get(k).map(|n| n.pos()).unwrap_or(f.pos),
-                &f.at(k),
-                format!("a part that reads {} has no `{k}` reading", fault.name()),
-                Some(format!("write `{}: true` alone, or the values the meter read", fault.name())),
-            );
-            return Err(());
-        }
-    }
-    Ok(found)
-}
-
 /// A replacement's fields, read against what it replaces.
 fn replacement(target: Target, with: &Node, path: &str, ctx: &mut Ctx) -> Option<Patch> {
     match target {
         Target::Part(p) => {
             let wf = ctx.fields(with, path, REPLACE_PART_KEYS)?;
-            part_fields(&wf, p.kind, ctx, true).map(Patch::Part)
+            let patch = part_fields(&wf, p.kind, ctx, true)?;
+            readings::far_from_design(p, &patch, &wf, ctx);
+            Some(Patch::Part(patch))
         }
         Target::Driver(_) => {
             let wf = ctx.fields(with, path, REPLACE_DRIVER_KEYS)?;

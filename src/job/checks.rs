@@ -95,6 +95,22 @@ pub(crate) fn coverage(network: &Network, changes: &[Change], compensate: &[Comp
             // A band may end between the sweep's last point and where the next would be (a
             // sweep of 20 Hz at 12 per octave ends at 19.3 kHz, short of 20 kHz); beyond that
             // the fit would silently use less of the band than the job asks.
+            // Levels are judged where a listener hears them: every band lies within 20 Hz to
+            // 20 kHz (the passbands voicekeep finds are bounded the same way).
+            let [hear_lo, hear_hi] = crate::model::HEARING_HZ;
+            if blo < hear_lo * (1.0 - 1e-9) || bhi > hear_hi * (1.0 + 1e-9) {
+                ctx.error(
+                    c.band_pos,
+                    &field,
+                    format!(
+                        "the band {} to {} reaches beyond hearing (20 Hz to 20 kHz), where no level difference is heard",
+                        crate::units::hz(Some(blo)),
+                        crate::units::hz(Some(bhi))
+                    ),
+                    Some(format!("end the band within 20 Hz to 20 kHz, such as [{}, {}]", crate::units::hz(Some(blo.max(hear_lo))), crate::units::hz(Some(bhi.min(hear_hi))))),
+                );
+                continue;
+            }
             let n = freqs.len();
             let (step_lo, step_hi) = if n > 1 { (freqs[1] / freqs[0], freqs[n - 1] / freqs[n - 2]) } else { (1.0, 1.0) };
             if blo < lo / step_lo * (1.0 - 1e-9) || bhi > hi * step_hi * (1.0 + 1e-9) {

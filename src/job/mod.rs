@@ -12,6 +12,7 @@
 //! | `raw.rs`, `parse.rs` | the raw job and the parse stage |
 //! | `tables.rs` | the tables a job names |
 //! | `build.rs`, `checks.rs` | the build stage and the whole-network checks |
+//! | `readings.rs` | bench readings of parts and drivers, and values far from the design's |
 
 pub mod build;
 pub mod checks;
@@ -19,6 +20,7 @@ pub mod fields;
 pub mod parse;
 pub mod raw;
 pub mod reader;
+pub mod readings;
 pub mod service;
 pub mod tables;
 pub mod terminals;

@@ -321,7 +321,7 @@ fn compensate(node: &Node, field: &str, ctx: &mut Ctx) -> Vec<RawCompensate> {
 }
 
 fn info(node: &Node, settings: &mut Option<TableRef>, logo: &mut Option<TableRef>, ctx: &mut Ctx) -> Option<JobInfo> {
-    let f = ctx.fields(node, "job", &["number", "date", "work", "technician", "shop", "customer", "speaker", "notes"])?;
+    let f = ctx.fields(node, "job", &["number", "date", "work", "technician", "shop", "customer", "speaker", "notes", "customer_notes"])?;
     let mut info = JobInfo { rated_range: (20.0, 20_000.0), ..Default::default() };
     if let Some(n) = ctx.req(&f, "number", "the shop's job number") {
         info.number = ctx.text(n, &f.at("number")).unwrap_or_default();
@@ -343,6 +343,7 @@ fn info(node: &Node, settings: &mut Option<TableRef>, logo: &mut Option<TableRef
     info.work = ctx.opt_text(&f, "work").unwrap_or_default();
     info.technician = ctx.opt_text(&f, "technician").unwrap_or_default();
     info.notes = ctx.opt_text(&f, "notes").unwrap_or_default();
+    info.customer_notes = ctx.opt_text(&f, "customer_notes").unwrap_or_default();
     if let Some(n) = f.get("shop") {
         if let Some(s) = ctx.fields(n, "job.shop", &["name", "address", "contact", "settings", "logo"]) {
             *settings = s.get("settings").and_then(|n| fields::table_ref(n, "job.shop.settings", ctx));

@@ -9,6 +9,23 @@ use crate::model::InputFile;
 use crate::units::{parse_value, Quantity};
 
 /// The longest text a field may hold (notes, sentences, names): a few pages.
+/// The words `voicekeep new` puts where a shop writes its own (the starter's `job:` block);
+/// `check` warns of any left in.
+pub const PLACEHOLDERS: [&str; 12] = [
+    "JOB-0001",
+    "what was done, in a line",
+    "your name",
+    "your shop's name",
+    "street, town",
+    "phone or e-mail",
+    "the customer's name",
+    "their reference for the speaker",
+    "the speaker, in a line",
+    "serial of each cabinet",
+    "Bench notes, the shop's own: printed in the archive only.",
+    "Notes for the customer: printed in their report and the archive, never on the sale sheet.",
+];
+
 pub const MAX_TEXT_CHARS: usize = 20_000;
 
 /// The most characters of text a whole job may hold, every field together: what the
@@ -162,6 +179,14 @@ impl<'a> Ctx<'a> {
                     );
                     return None;
                 }
+                // A starter's placeholder left in would print on the customer's report.
+                if PLACEHOLDERS.contains(&text.trim()) {
+                    let d = Diagnostic::new(node.pos(), path, format!("\"{}\" is the starter job's placeholder, and would print in the report as it is", text.trim()))
+                        .hint("write the job's own words here");
+                    if !self.warnings.contains(&d) {
+                        self.warnings.push(d);
+                    }
+                }
                 // A character no font of the report has prints as a stand-in: said here, at
                 // the field, rather than found as an empty box on paper.
                 if let Some(c) = crate::report::fonts::first_uncovered(text) {
@@ -185,6 +210,14 @@ impl<'a> Ctx<'a> {
                 self.error(node.pos(), path, format!("expected text, found {}", node.kind_name()), None);
                 None
             }
+        }
+    }
+
+    /// A warning: the job is read as written, and `check` says what looks wrong.
+    pub(crate) fn warn(&mut self, pos: Pos, path: &str, message: String, hint: &str) {
+        let d = Diagnostic::new(pos, path, message).hint(hint);
+        if !self.warnings.contains(&d) {
+            self.warnings.push(d);
         }
     }
 

@@ -100,6 +100,11 @@ pub struct Driver {
     pub response: Option<ResponseTable>,
     pub inverted: bool,
     pub note: Option<String>,
+    /// A bench reading of the driver itself: open (no continuity across its voice coil) or
+    /// shorted. A faulted driver plays nothing; the network sees it as a break or a link.
+    pub fault: Option<super::Fault>,
+    /// A fault found on the bench in words ("the voice coil rubs"); it changes no figure.
+    pub fault_note: Option<String>,
     pub pos: Pos,
 }
 
@@ -117,12 +122,29 @@ pub struct DriverPatch {
     pub response: Option<ResponseTable>,
     pub rated_power: Option<f64>,
     pub note: Option<String>,
+    /// Read open or shorted on the bench.
+    pub fault: Option<super::Fault>,
+    /// A fault in words.
+    pub fault_note: Option<String>,
 }
 
 impl DriverPatch {
     pub fn apply(&self, d: &mut Driver) {
         if let Some(m) = &self.model {
             d.model = m.clone();
+            // A new driver (a replacement) has none of the old one's faults.
+            d.fault = None;
+            d.fault_note = None;
+        }
+        if let Some(f) = self.fault {
+            d.fault = Some(f);
+            d.model = DriverModel::Resistance(match f {
+                super::Fault::Open => super::Fault::OPEN_OHM,
+                super::Fault::Shorted => super::Fault::SHORT_OHM,
+            });
+        }
+        if let Some(t) = &self.fault_note {
+            d.fault_note = Some(t.clone());
         }
         match &mut d.model {
             DriverModel::Resistance(r) => {

@@ -63,11 +63,16 @@ pub struct Amplifier {
     pub programme_w: Option<f64>,
 }
 
+/// The range of hearing every band is bounded to: a level above 20 kHz or below 20 Hz is no
+/// part of how a speaker sounds.
+pub const HEARING_HZ: [f64; 2] = [20.0, 20_000.0];
+
 impl Amplifier {
     /// The programme's share of rated power when the job gives none: one eighth, the level
-    /// IEC 62368-1 uses for audio amplifiers in normal operation with pink noise (recalled
-    /// from memory, not checked against the standard's text). Noise peaks 1.8 to 4 times its
-    /// RMS, so an amplifier cannot deliver noise at its full sine power unclipped.
+    /// IEC 60065 4.2.6 sets for an audio amplifier's heating tests (as quoted in the IEEE
+    /// EMC-PSTC list's 1996 thread on EN 60065; IEC 62368-1 Annex E keeps it). Noise with a
+    /// crest factor near 2 (IEC 60268-7 8.3.2.2 b) reaches an amplifier's peak voltage at about
+    /// a quarter of its sine power, so real programme sits lower still.
     pub const DEFAULT_PROGRAMME_FRACTION: f64 = 1.0 / 8.0;
 
     /// The sine drive level: E_rms = sqrt(power x into), the bench-tone worst case.
@@ -137,6 +142,11 @@ impl Sweep {
                     }
                     out.push(f);
                     k += 1;
+                }
+                // A sweep "to 20 kHz" ends at 20 kHz: the end point is added where the steps
+                // fall short of it (20 Hz at 12 per octave steps to 19.3 kHz).
+                if out.last().is_some_and(|l| *l < to * (1.0 - 1e-9)) {
+                    out.push(*to);
                 }
                 out
             }
@@ -481,7 +491,10 @@ pub struct JobInfo {
     pub rated_impedance: Option<f64>,
     /// The range over which the rated impedance is judged (IEC 60268-5 "rated frequency range").
     pub rated_range: (f64, f64),
+    /// The shop's own bench notes: the archive's only.
     pub notes: String,
+    /// Notes written for the customer: their report and the archive, never the sale sheet.
+    pub customer_notes: String,
 }
 
 /// A file the job read, for the report's appendix and attachments.

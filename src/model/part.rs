@@ -243,6 +243,11 @@ impl PartPatch {
             p.rating = v;
         }
         if let Some(v) = &self.type_text {
+            // A part of another type has that type's tolerance, not the old part's (a film
+            // in place of an electrolytic is not a 10 % part).
+            if p.type_text.as_deref() != Some(v.as_str()) && self.tolerance.is_none() {
+                p.tolerance = None;
+            }
             p.type_text = Some(v.clone());
         }
     }

@@ -24,22 +24,22 @@ const W: u32 = 900;
 const CHART_H: u32 = 420;
 const LEGEND_ROW: u32 = 22;
 
-const NAVY: RGBColor = RGBColor(0x1f, 0x3a, 0x68);
+const NAVY: RGBColor = RGBColor(0x17, 0x30, 0x4f);
 const BRICK: RGBColor = RGBColor(0xc0, 0x3c, 0x30);
-const GREEN: RGBColor = RGBColor(0x4c, 0xa8, 0x6c);
-const GOLD: RGBColor = RGBColor(0xe8, 0xb4, 0x00);
-const ORANGE: RGBColor = RGBColor(0xe0, 0x60, 0x3a);
+const GREEN: RGBColor = RGBColor(0x3a, 0x8c, 0x5c);
+const GOLD: RGBColor = RGBColor(0xc0, 0x8a, 0x00);
 const PURPLE: RGBColor = RGBColor(0x7b, 0x4f, 0x9d);
 const REFERENCE_GREY: RGBColor = RGBColor(0x99, 0x99, 0x99);
 
 /// Colours for `n` drivers in rising frequency, darkest first, so they stay apart in grey
-/// (relative luminance: navy 0.04, brick 0.15, orange 0.25, green 0.31, gold 0.50).
+/// (relative luminance: navy 0.03, purple 0.12, brick 0.15, green 0.20, gold 0.29), and
+/// every one at least 3:1 against the white page.
 fn palette(n: usize) -> Vec<RGBColor> {
     match n {
         0 | 1 => vec![NAVY],
         2 => vec![NAVY, GOLD],
-        3 => vec![NAVY, ORANGE, GOLD],
-        4 => vec![NAVY, BRICK, GREEN, GOLD],
+        3 => vec![NAVY, BRICK, GOLD],
+        4 => vec![NAVY, PURPLE, GREEN, GOLD],
         _ => [NAVY, PURPLE, BRICK, GREEN, GOLD].iter().cycle().take(n).cloned().collect(),
     }
 }
@@ -450,7 +450,7 @@ fn impedance_chart(job: &Job, title: &str, y_label: &str, x: (f64, f64), curves:
         curves,
         references: vec![Reference {
             at: floor.log10(),
-            label: format!("80 % of the rated {} Ω: {} Ω (IEC 60268-5)", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)),
+            label: format!("80 % of the rated {} Ω: {} Ω, the lowest the loudspeaker standard allows", crate::units::trim_number(rated, 3), crate::units::trim_number(floor, 3)),
         }],
         bands: vec![],
         band_labels: vec![],
@@ -461,7 +461,7 @@ fn impedance_chart(job: &Job, title: &str, y_label: &str, x: (f64, f64), curves:
 /// The caption of a pair's or set's plot.
 pub fn set_caption(kind: PlotKind) -> &'static str {
     match kind {
-        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
         k => caption(k),
     }
 }
@@ -471,13 +471,13 @@ pub fn caption(kind: PlotKind) -> &'static str {
     match kind {
         PlotKind::Response => "Each driver's level as designed (thin long dashes, drawn on top), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
         PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid); acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
-        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
         PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
         PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
         PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, the pair did not match.",
         PlotKind::PairLeft => "The same as left, after the work: traces that lie together show a matched pair.",
         PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
-        PlotKind::Terminals => "Impedance magnitude measured at the speaker's terminals (as found dots, as left sparse dashes) against the impedance calculated from the parts' values and readings (as found short dashes, as left solid); the thin grey dotted line is 80 % of the rated impedance (IEC 60268-5).",
+        PlotKind::Terminals => "Impedance magnitude measured at the speaker's terminals (as found dots, as left sparse dashes) against the impedance calculated from the parts' values and readings (as found short dashes, as left solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
     }
 }
 
@@ -668,6 +668,11 @@ mod tests {
             }
         };
         let y = |c: &RGBColor| 0.2126 * lin(c.0) + 0.7152 * lin(c.1) + 0.0722 * lin(c.2);
+        // Every colour at least 3:1 against white, the contrast WCAG 2.1 (1.4.11) asks of
+        // graphics: (1 + 0.05) / (Y + 0.05).
+        for c in palette(5) {
+            assert!(1.05 / (y(&c) + 0.05) >= 3.0, "{c:?}: {:.2}:1 on white", 1.05 / (y(&c) + 0.05));
+        }
         for n in 2..=4 {
             let p = palette(n);
             for i in 0..n {

@@ -46,6 +46,7 @@ const MAY_BE_NULL: &[&str] = &[
     "maker",
     "markings",
     "max_w",
+    "suits_w",
     "minus3_hz",
     "minus6_hz",
     "model",

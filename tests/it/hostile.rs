@@ -347,10 +347,11 @@ fn a_part_to_fit_that_is_not_in_its_drivers_path_is_refused_not_fitted() {
     // amplifier's 0.05 ohm output impedance) and once "fitted" 27 ohm, dropping the tweeter
     // 13.5 dB. Across R9's whole range the woofer moves 0.05 dB: refused, at R9's line.
     let job = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap().replacen("  R9: { driver: HF", "  R9: { driver: LF", 1);
+    let line = 1 + job.lines().position(|l| l.trim_start().starts_with("R9: { kind: resistor")).unwrap();
     for command in ["check", "solve"] {
         let o = Cli::new().job(&job).args([command, "{job}"]).run();
         o.code(1)
-            .stderr_has("job.yaml:61:7: network.R9: as left: R9 cannot set LF's level")
+            .stderr_has(&format!("job.yaml:{line}:7: network.R9: as left: R9 cannot set LF's level"))
             .stderr_has("so it is not in LF's path")
             .stderr_has("hint: name in `compensate` the driver");
     }

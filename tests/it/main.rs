@@ -16,6 +16,7 @@ mod options;
 mod pair;
 mod parts;
 mod props;
+mod reader;
 mod reference;
 mod report;
 mod service;

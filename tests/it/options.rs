@@ -270,16 +270,36 @@ fn quote_text(sample: &str) -> String {
 fn a_quote_of_one_proposal_offers_the_work_in_the_future_and_asks_for_acceptance() {
     // The two-way sample has `changes` and no options: the quotation offers those changes.
     let text = quote_text("samples/two-way-recap.yaml");
-    for want in ["Work proposed", "Replace C1, a capacitor in the tweeter's filter", "Fit R9", "After the proposed work", "Parts to buy", "accepted as quoted"] {
+    // It names no price list: nothing is priced, and the customer agrees to the work, not to
+    // a price.
+    for want in [
+        "Work proposed",
+        "Replace C1, a capacitor in the tweeter's filter",
+        "Fit R9",
+        "After the proposed work",
+        "Parts to buy",
+        "The work proposed above agreed, to be priced by the shop before it starts.",
+        "Nothing in this quotation is priced yet",
+    ] {
         assert!(text.contains(want), "{want}: {text}");
     }
     // Nothing is said to have been done, no option is asked for, no price is claimed.
-    for wrong in ["Work done", "Replaced C1", "Fitted R9", "Option chosen", "Prices are for"] {
+    for wrong in ["Work done", "Replaced C1", "Fitted R9", "Option chosen", "Prices are for", "accepted as quoted", "at the prices quoted"] {
         assert!(!text.contains(wrong), "{wrong}: {text}");
     }
-    // With options, the customer writes the one chosen and prices are stated.
+    // With options, the customer writes the one chosen and prices are stated for the job.
     let text = quote_text(SAMPLE);
-    assert!(text.contains("Option chosen") && text.contains("Prices are for the parts and labour listed"), "{text}");
+    assert!(text.contains("Option chosen") && text.contains("Prices are for the parts and labour listed, for the whole job;"), "{text}");
+    // A pair's proposal is priced for both cabinets, labour and all.
+    let text = quote_text("samples/pair-recap.yaml");
+    for want in [
+        "Prices are for the parts listed, for the whole job, both cabinets; labour is not included",
+        "accepted at the prices quoted",
+        "After the proposed work, the two cabinets would match",
+    ] {
+        assert!(text.contains(want), "{want}: {text}");
+    }
+    assert!(!text.contains("now match") && !text.contains("was left in place"), "{text}");
 }
 
 #[test]

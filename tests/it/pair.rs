@@ -168,8 +168,25 @@ fn in_a_set_of_three_the_odd_cabinet_is_named_against_the_median() {
     }
     assert!(hf.from_median.iter().any(|x| x.as_found_db == 0.0));
     assert_eq!(hf.as_found_cabinets[1], "B", "B is the quietest");
-    assert!(hf.responsible.iter().all(|r| r.cabinet == "B"), "{:?}", hf.responsible);
-    assert_eq!(hf.responsible[0].part, "C1");
+    // The spread is the loudest cabinet (A) less the quietest (B): B's C1 widens it most, and
+    // A's own slightly high ESR (it plays a little quieter) narrows it.
+    assert_eq!((hf.responsible[0].cabinet.as_str(), hf.responsible[0].part.as_str()), ("B", "C1"), "{:?}", hf.responsible);
+    assert!(hf.responsible[0].share_db > 3.0, "{:?}", hf.responsible);
+    assert!(hf.responsible.iter().filter(|r| r.cabinet != "B").all(|r| r.share_db < 0.0), "{:?}", hf.responsible);
+}
+
+#[test]
+fn a_set_whose_cabinets_play_alike_names_no_odd_cabinet() {
+    // Three cabinets with the same readings: no loudest, quietest or odd one, and the
+    // sentence says they played alike.
+    let cabinets = "cabinets:\n  A:\n    measured:\n      C1: { esr: 1.0 ohm }\n  B:\n    measured:\n      C1: { esr: 1.0 ohm }\n  C:\n    measured:\n      C1: { esr: 1.0 ohm }";
+    let set = set_of(&job_text("", cabinets, ""));
+    for m in &set.matching {
+        assert_eq!(m.odd_cabinet, None, "{}", m.driver);
+        assert!(m.responsible.is_empty(), "{:?}", m.responsible);
+        let s = m.sentence(true);
+        assert!(s.contains("as found the cabinets played alike") && !s.contains("loudest") && !s.contains("farthest"), "{s}");
+    }
 }
 
 #[test]

@@ -134,8 +134,7 @@ impl Placement {
     }
 }
 
-/// Levels more than this far below their reference are a fault, not a level difference.
-pub const FAULT_DB: f64 = 40.0;
+pub use crate::analysis::levels::FAULT_DB;
 
 /// The least a part to fit must move its driver's band level across its whole range (none
 /// to 1 kohm in series, open to 0.1 ohm as a shunt): below it the part is not in the
@@ -390,7 +389,8 @@ fn solve_exact(fit: &Fitter, excess: &[f64]) -> Result<Vec<f64>, SolveError> {
 
 /// The trade's warnings about one fit: a fault, a driver a resistor cannot raise, a woofer
 /// compensated, a series resistor inside its filter.
-fn warnings_for(t: &Target, d: &Driver, part: &Part, unsolved: &Network, fault: bool, excess: f64, at_input: bool) -> Vec<Warning> {
+#[allow(clippy::too_many_arguments)]
+fn warnings_for(t: &Target, d: &Driver, part: &Part, unsolved: &Network, fault: bool, excess: f64, at_input: bool, lpad: bool) -> Vec<Warning> {
     let mut out = Vec::new();
     let warn = |message: String| Warning { subject: t.entry.part.clone(), message };
     let level = t.entry.reference.adjective();
@@ -412,7 +412,9 @@ fn warnings_for(t: &Target, d: &Driver, part: &Part, unsolved: &Network, fault: 
             t.entry.part, d.name
         )));
     }
-    if t.placement == Placement::Series && !at_input {
+    // An L-pad's series arm belongs beside its shunt arm, at the driver, not at the filter's
+    // input.
+    if t.placement == Placement::Series && !at_input && !lpad {
         out.push(warn(format!(
             "{} is not at the input of {}'s filter (it sits between {} and {}): a resistor inside the filter moves its tuning; see the crossover shift below. The usual place is ahead of the first part (common practice).",
             t.entry.part,
@@ -477,17 +479,24 @@ pub fn plan(cx: &Context) -> Result<Plan, SolveError> {
         let dev = fit.deviations(j)?;
         let (Some(d), Some(part)) = (cx.design.drivers.iter().find(|d| d.name == t.entry.driver), unsolved.part(&t.entry.part)) else { continue };
         let at_input = t.placement == Placement::Series && part.between.contains(&unsolved.input[0]);
-        let pair = if t.placement == Placement::Series && exact_ohm[j] >= SMALLEST_FITTED_OHM && (fitted[j] / exact_ohm[j] - 1.0).abs() > 0.024 {
+        // A stock pair is offered only where it is clearly closer (its residual at most three
+        // quarters of the single part's, and 0.05 dB less: below that no listener could tell
+        // them apart, common practice), and never beside a value common to several cabinets,
+        // which every cabinet must share.
+        let single = rms(&dev);
+        let pair = if t.placement == Placement::Series && t.entry.common_ohm.is_none() && exact_ohm[j] >= SMALLEST_FITTED_OHM && (fitted[j] / exact_ohm[j] - 1.0).abs() > 0.024 {
             let (a, b, parallel, v) = best_e12_pair(exact_ohm[j]);
             set(t, v);
             let pd = fit.deviations(j)?;
             set(t, fitted[j]);
-            Some(Pair { a_ohm: a, b_ohm: b, parallel, value_ohm: v, residual_db: rms(&pd) })
+            let residual_db = rms(&pd);
+            (residual_db <= 0.75 * single && residual_db <= single - 0.05).then_some(Pair { a_ohm: a, b_ohm: b, parallel, value_ohm: v, residual_db })
         } else {
             None
         };
         let fault = mean(&dev) < -FAULT_DB;
-        warnings.extend(warnings_for(t, d, part, unsolved, fault, excess[j], at_input));
+        let lpad = fit.targets.iter().any(|o| o.entry.driver == t.entry.driver && o.placement == Placement::Shunt);
+        warnings.extend(warnings_for(t, d, part, unsolved, fault, excess[j], at_input, lpad));
         let (a, b) = (unsolved.node_label(&part.between[0]), unsolved.node_label(&part.between[1]));
         let placement = match t.placement {
             Placement::Series if at_input => format!("in series at the input of {}'s filter, between node {} and the filter's first part", d.name, unsolved.input[0]),

@@ -7,7 +7,7 @@ use super::*;
 use crate::analysis::options::OptionFindings;
 use crate::analysis::stress::StressRow;
 use crate::model::{ChangeStep, Scenario};
-use crate::results::{db, hz};
+use crate::results::{db, hz, level};
 
 pub(super) fn header(c: &Ctx) -> JobHeader {
     let info = &c.job.info;
@@ -32,7 +32,11 @@ pub(super) fn header(c: &Ctx) -> JobHeader {
             serials: info.serials.clone(),
             rated_impedance: info.rated_impedance.map(ohm).unwrap_or_else(|| "not given".into()),
         },
-        notes: if sale || info.notes.is_empty() { None } else { Some(info.notes.clone()) },
+        // The bench notes are the shop's own: the archive's only. The customer's notes go to
+        // their report and the archive; the sale sheet has neither (either may speak of the
+        // owner).
+        notes: if c.audience == Audience::Archive && !info.notes.is_empty() { Some(info.notes.clone()) } else { None },
+        customer_notes: if sale || info.customer_notes.is_empty() { None } else { Some(info.customer_notes.clone()) },
     }
 }
 
@@ -75,7 +79,7 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
     let f = c.f;
     let net = &c.job.network;
     let mut basis = format!(
-        "the network solved as designed, as found and as left over {}. Levels are the mean over each driver's band, in dB relative to the original design; the band is the fitting band where a compensating resistor names the driver, otherwise where the original design plays within 6 dB of its maximum.",
+        "the network solved as designed, as found and as left over {}. Levels are the mean over each driver's band, in dB relative to the original design; the band is the fitting band where a compensating resistor names the driver, otherwise its passband: where the original design plays within 6 dB of its maximum (a woofer's, of its level over the sweep's lowest two octaves), within 20 Hz to 20 kHz.",
         sweep_text(f)
     );
     basis.push_str(&acoustic_basis(c));
@@ -90,8 +94,8 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                 Row(vec![
                     driver_words(net, &l.driver),
                     before,
-                    db(l.as_left_db),
-                    format!("{} ({} to {})", db(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
+                    level(l.as_left_db),
+                    format!("{} ({} to {})", level(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
                     meaning,
                 ])
             })
@@ -106,11 +110,11 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                     l.driver.clone(),
                     l.role.clone(),
                     format!("{} - {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))),
-                    db(l.as_designed_db),
-                    db(l.as_found_db),
-                    db(l.as_left_db),
-                    db(l.found_to_left_db),
-                    format!("{} ({} - {})", db(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
+                    level(l.as_designed_db),
+                    level(l.as_found_db),
+                    level(l.as_left_db),
+                    if l.as_found_fault || l.as_left_fault { "-".into() } else { db(l.found_to_left_db) },
+                    format!("{} ({} - {})", level(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
                     l.left_flag.clone(),
                 ])
             })
@@ -181,11 +185,21 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
                 let names: Vec<String> = joint.iter().map(|x| x.part.clone()).collect();
                 let (verb, parts) =
                     if joint.len() > 1 { ("bring", format!("Together, {}", join_and(&joint.iter().map(|x| describe(x)).collect::<Vec<_>>()))) } else { ("brings", describe(fit)) };
+                // The same measure as the levels table and the summary: the largest difference
+                // at any frequency of the driver's working range.
+                let back = match f.levels.iter().find(|l| l.driver == fit.driver) {
+                    Some(l) => format!(
+                        "no frequency of its working range ({} to {}) is now more than {:.2} dB from the original",
+                        hz(Some(l.passband_hz[0])),
+                        hz(Some(l.passband_hz[1])),
+                        l.passband_worst_db.abs()
+                    ),
+                    None => format!("no frequency of its band is now more than {:.2} dB from the original", fit.worst_db.abs()),
+                };
                 notes.push(format!(
-                    "Without {}, {who} would have played {:.2} dB louder than designed{why}. {parts}, {verb} it back to within {:.2} dB of the original at every frequency of its band.",
+                    "Without {}, {who} would have played {:.2} dB louder than designed, on average over its band{why}. {parts}, {verb} it back: {back}.",
                     join_and(&names),
                     fit.excess_db.max(0.0),
-                    fit.worst_db.abs()
                 ));
             }
         }
@@ -383,8 +397,8 @@ pub(super) fn stress_row(r: &StressRow) -> Row {
     Row(vec![
         r.scenario.label().into(),
         r.part.clone(),
-        format!("{} W", trim_number(r.sine_w, 3)),
-        format!("{} W", trim_number(r.programme_w, 3)),
+        crate::units::watts(r.sine_w),
+        crate::units::watts(r.programme_w),
         figure,
         rating,
         r.shown_verdict().into(),
@@ -403,8 +417,8 @@ pub(super) fn stress(c: &Ctx) -> StressData {
         .map(|d| {
             Row(vec![
                 d.driver.clone(),
-                format!("{} W", trim_number(d.programme_w, 3)),
-                format!("{} W near {}", trim_number(d.sine_w, 3), hz(Some(d.sine_at_hz))),
+                crate::units::watts(d.programme_w),
+                format!("{} near {}", crate::units::watts(d.sine_w), hz(Some(d.sine_at_hz))),
                 d.rated_w.map(|w| format!("{} W", trim_number(w, 3))).unwrap_or_else(|| "-".into()),
                 d.shown_verdict().into(),
                 d.reason.clone(),
@@ -438,7 +452,7 @@ pub(super) fn load(c: &Ctx) -> LoadData {
         let verdict = if ll.verdict == crate::analysis::Verdict::Over {
             "too low for most amplifiers: check the amplifier maker's minimum load before use.".to_string()
         } else if !ll.rated_impedance_holds {
-            format!("below the 80 % of its rated {} that IEC 60268-5 allows, so use {advice}, or keep the volume moderate.", ohm(r))
+            format!("below the 80 % of its rated {} that the loudspeaker standard allows, so use {advice}, or keep the volume moderate.", ohm(r))
         } else if ll.demanding {
             format!("a demanding load at high volume; use {advice}.")
         } else {
@@ -481,7 +495,21 @@ pub(super) fn health(c: &Ctx) -> Table {
         &["Part", "What the reading shows", "Effect of the whole reading"],
         c.f.health
             .iter()
-            .map(|h| Row(vec![h.part.clone(), h.message.clone(), if h.effect_driver.is_empty() { "-".into() } else { format!("{} on {}", db(h.effect_db), h.effect_driver) }]))
+            .map(|h| {
+                Row(vec![
+                    h.part.clone(),
+                    h.message.clone(),
+                    if h.effect_driver.is_empty() {
+                        "-".into()
+                    } else {
+                        if h.effect_db < -crate::analysis::compensate::FAULT_DB {
+                            format!("silences {}", h.effect_driver)
+                        } else {
+                            format!("{} on {}", level(h.effect_db), h.effect_driver)
+                        }
+                    },
+                ])
+            })
             .collect(),
     )
 }
@@ -496,7 +524,7 @@ pub(super) fn tolerance(c: &Ctx) -> Option<ToleranceData> {
         basis: format!("{} Monte Carlo runs, seed {}, {dist}; levels relative to the original design's nominal", t.runs, t.seed),
         levels: Table::new(
             &["Scenario", "Driver", "5 %", "median", "95 %"],
-            t.levels.iter().map(|l| Row(vec![l.scenario.label().to_string(), l.driver.clone(), db(l.p5_db), db(l.p50_db), db(l.p95_db)])).collect(),
+            t.levels.iter().map(|l| Row(vec![l.scenario.label().to_string(), l.driver.clone(), level(l.p5_db), level(l.p50_db), level(l.p95_db)])).collect(),
         ),
         ranking: Table::new(
             &["Driver", "Part", "Level change per 1 % of value"],
@@ -601,7 +629,7 @@ fn option_levels(c: &Ctx, o: &OptionFindings) -> Vec<String> {
         .filter_map(|d| {
             let per: Vec<(&str, String)> = each
                 .iter()
-                .filter_map(|(name, g)| g.levels.iter().find(|l| l.driver == d.name).map(|l| (*name, if plain { level_words(l.as_left_db) } else { db(l.as_left_db) })))
+                .filter_map(|(name, g)| g.levels.iter().find(|l| l.driver == d.name).map(|l| (*name, if plain { level_words(l.as_left_db) } else { level(l.as_left_db) })))
                 .collect();
             let what = if plain { capitalise(&driver_words(net, &d.name)) } else { d.name.clone() };
             let sep = if plain { ": " } else { " " };

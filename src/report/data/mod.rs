@@ -98,8 +98,11 @@ pub struct JobHeader {
     /// None on the sale sheet: a buyer never sees the previous owner.
     pub customer: Option<Customer>,
     pub speaker: Speaker,
-    /// The bench notes; None on the sale sheet (they may speak of the owner).
+    /// The shop's bench notes: the archive's only.
     pub notes: Option<String>,
+    /// The notes written for the customer; None on the sale sheet (they may speak of the
+    /// owner).
+    pub customer_notes: Option<String>,
 }
 
 #[derive(Debug, Serialize)]
@@ -233,6 +236,8 @@ pub struct ReportData {
     pub photos: Vec<service::PhotoData>,
     /// The sweeps at the terminals: confirmation and diagnosis (None without a sweep).
     pub terminals: Option<service::TerminalsData>,
+    /// A quotation's line to sign and what its prices cover.
+    pub quote: service::QuoteTerms,
 }
 
 /// The options side by side, each one's parts, and the recommendation.
@@ -265,6 +270,8 @@ pub(crate) struct Ctx<'a> {
     pub(crate) job: &'a Job,
     pub(crate) f: &'a Findings,
     pub(crate) audience: Audience,
+    /// A quotation, before the work: it speaks of what is proposed.
+    pub(crate) quote: bool,
 }
 
 pub(crate) fn quantity(kind: PartKind) -> Quantity {
@@ -348,7 +355,7 @@ fn block_data(b: &Block) -> BlockData {
 /// `plots` are the kinds drawn for this report, in order.
 pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -> ReportData {
     let audience = Audience::of(template);
-    let c = Ctx { job, f, audience };
+    let c = Ctx { job, f, audience, quote: *template == Template::Quote };
     let info = &job.info;
     let date = Date { year: info.date.year, month: info.date.month, day: info.date.day, text: info.date.to_string() };
     let mut data = ReportData {
@@ -383,6 +390,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         power: service::power(&c),
         photos: service::photos(&c),
         terminals: service::terminals(&c),
+        quote: service::quote_terms(&c, &f.parts, &f.options, 1),
     };
 
     if let Some(ch) = &f.chosen {
@@ -401,11 +409,6 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
                 if let Some(rest) = w.strip_prefix(done) {
                     *w = format!("{offered}{rest}");
                 }
-            }
-        }
-        for s in &mut data.summary {
-            if let Some(rest) = s.strip_prefix("After the work, ") {
-                *s = format!("After the proposed work, {rest}");
             }
         }
     }

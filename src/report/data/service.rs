@@ -5,7 +5,7 @@
 use serde::Serialize;
 
 use super::story::with_article;
-use super::words::{capitalise, driver_words, kind_noun, part_place};
+use super::words::{capitalise, driver_words, join_and, kind_noun, part_place};
 use super::{Audience, Ctx, Row, Table};
 use crate::model::{ChangeStep, Patch};
 use crate::units::{ohm, trim_number};
@@ -32,6 +32,30 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
     let mut rows: Vec<Row> = Vec::new();
     let mut row = |a: &str, b: String| rows.push(Row(vec![a.to_string(), b]));
     let sale = c.audience == Audience::Sale;
+    // A quotation comes before the work: the customer's words, when the speaker came in and
+    // the labour proposed; the shop's finding, the warranty, the condition and the
+    // inspection are written after the work and stay out of it.
+    if c.quote {
+        if let Some(a) = s.received {
+            row("Came in", a.to_string());
+        }
+        if let Some(t) = &s.complaint {
+            row("What you told us", t.clone());
+        }
+        if let Some(h) = s.labour_hours {
+            row("Labour proposed", format!("{} h{}", trim_number(h, 3), labour_cost(c, h)));
+        }
+        if rows.is_empty() {
+            return None;
+        }
+        return Some(ServiceData {
+            record: Table::new(&["", ""], rows),
+            inspection: Table::default(),
+            inspection_summary: String::new(),
+            condition: None,
+            technician: c.job.info.technician.clone(),
+        });
+    }
     match (s.received, s.returned) {
         (Some(a), Some(b)) => row("In the shop", format!("{a} to {b}")),
         (Some(a), None) => row("Came in", a.to_string()),
@@ -48,12 +72,7 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
             row(if c.audience.plain() { "What we found" } else { "Finding" }, t.clone());
         }
         if let Some(h) = s.labour_hours {
-            let cost = c.job.quote.labour_rate.and_then(|rate| {
-                let m = rate.for_hours(h)?;
-                let currency = c.job.prices.as_ref().map(|p| p.currency.clone()).or_else(|| c.job.quote.currency.clone()).map(|c| format!(" {c}")).unwrap_or_default();
-                Some(format!(" at {rate}{currency} an hour: {m}{currency}"))
-            });
-            row("Labour", format!("{} h{}", trim_number(h, 3), cost.unwrap_or_default()));
+            row("Labour", format!("{} h{}", trim_number(h, 3), labour_cost(c, h)));
         }
         if let Some(t) = &s.warranty {
             row("Warranty", t.clone());
@@ -69,6 +88,75 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
     let parts: Vec<String> = [R::Pass, R::Fixed, R::Fail, R::NotChecked].iter().filter(|r| count(**r) > 0).map(|r| format!("{} {}", count(*r), r.words())).collect();
     let inspection_summary = if s.inspection.is_empty() { String::new() } else { format!("{} items: {}.", s.inspection.len(), parts.join(", ")) };
     Some(ServiceData { record: Table::new(&["", ""], rows), inspection, inspection_summary, condition: s.condition.clone(), technician: c.job.info.technician.clone() })
+}
+
+/// A quotation's closing words: what the customer signs and what the prices cover.
+#[derive(Debug, Serialize, Default)]
+pub struct QuoteTerms {
+    /// The line to sign: an option chosen, or the one proposal agreed (at the prices quoted
+    /// only when it has prices).
+    pub accept: String,
+    /// What the prices cover (or that nothing is priced yet), and how the figures are known.
+    pub terms: String,
+    /// A single proposal's parts, labour and total, when priced.
+    pub total: Option<String>,
+}
+
+/// A quotation's terms for the whole job (`cabinets` cabinets, every part counted for each).
+pub(crate) fn quote_terms(c: &Ctx, parts: &crate::analysis::bom::PartsList, options: &[crate::analysis::options::OptionFindings], cabinets: usize) -> QuoteTerms {
+    let job = c.job;
+    let rate = job.quote.labour_rate;
+    let currency = parts.currency.clone().or_else(|| job.quote.currency.clone()).map(|c| format!(" {c}")).unwrap_or_default();
+    let whole = match cabinets {
+        1 => "the whole job".to_string(),
+        2 => "the whole job, both cabinets".to_string(),
+        n => format!("the whole job, all {} cabinets", super::words::count_words(n)),
+    };
+    let figures = "figures are calculated from the parts' values and readings and are confirmed by measurement after the work.";
+    let cover = |priced: bool, labour: bool| match (priced, labour) {
+        (true, true) => format!("Prices are for the parts and labour listed, for {whole}; {figures}"),
+        (true, false) => format!("Prices are for the parts listed, for {whole}; labour is not included; {figures}"),
+        (false, true) => format!("No part is priced yet (the job names no price list); the shop prices the parts before the work starts. Labour is for {whole}; {figures}"),
+        (false, false) => format!("Nothing in this quotation is priced yet: the shop gives its prices before the work starts. The {figures}"),
+    };
+    if !job.options.is_empty() {
+        let priced = options.iter().any(|o| o.parts.total.is_some() || o.labour.is_some());
+        let labour = options.iter().any(|o| o.labour.is_some());
+        return QuoteTerms { accept: "Option chosen:".into(), terms: cover(priced, labour), total: None };
+    }
+    let hours = job.service.labour_hours;
+    let labour = rate.zip(hours).and_then(|(r, h)| r.for_hours(h));
+    let total = match (parts.total, labour) {
+        (Some(p), Some(l)) if parts.unpriced == 0 => Some(format!(
+            "Parts {p}{currency}; labour {} h, {l}{currency}; total {}{currency}.",
+            trim_number(hours.unwrap_or(0.0), 3),
+            crate::money::Money(p.0.saturating_add(l.0))
+        )),
+        _ => None,
+    };
+    let priced = parts.total.is_some();
+    QuoteTerms {
+        accept: if priced {
+            "The work proposed above accepted at the prices quoted.".into()
+        } else {
+            "The work proposed above agreed, to be priced by the shop before it starts.".into()
+        },
+        terms: cover(priced, labour.is_some()),
+        total,
+    }
+}
+
+/// " at 44.00 EUR an hour: 66.00 EUR", or nothing without a labour rate.
+fn labour_cost(c: &Ctx, h: f64) -> String {
+    c.job
+        .quote
+        .labour_rate
+        .and_then(|rate| {
+            let m = rate.for_hours(h)?;
+            let currency = c.job.prices.as_ref().map(|p| p.currency.clone()).or_else(|| c.job.quote.currency.clone()).map(|c| format!(" {c}")).unwrap_or_default();
+            Some(format!(" at {rate}{currency} an hour: {m}{currency}"))
+        })
+        .unwrap_or_default()
 }
 
 #[derive(Debug, Serialize)]
@@ -190,67 +278,59 @@ pub(super) fn history(c: &Ctx) -> Table {
     }
 }
 
-/// The largest amplifier power the speaker as left suits, with its assumptions.
+/// The amplifier power this speaker suits ([`crate::analysis::power`]), said the same way in
+/// every report: the plain reports' sentence opens the archive's too, which adds the
+/// definition, the first limit and the steady-tone bench caution.
 pub(super) fn power(c: &Ctx) -> String {
     let p = &c.f.power;
     let net = &c.f.scenes.as_left.network;
     let into = trim_number(p.into_ohm, 3);
-    let Some(max) = p.max_w else {
-        return "No part or driver has a power rating on record, so no largest amplifier power can be given from these figures; ask the shop.".into();
+    let named: Vec<String> = p
+        .unrated
+        .iter()
+        .map(|n| match net.part(n) {
+            Some(part) if c.audience.plain() => format!("{} {n}", kind_noun(part.kind)),
+            Some(_) => n.clone(),
+            None => driver_words(net, n),
+        })
+        .collect();
+    let unrated = match named.len() {
+        0 => String::new(),
+        1 => format!("{} has no rating on record", capitalise(&named[0])),
+        _ => format!("{} have no rating on record", capitalise(&join_and(&named))),
     };
-    let who = p.limited_by.clone().unwrap_or_default();
-    let limit = p.limit.clone().unwrap_or_default();
+    let plain = match p.suits_w {
+        Some(w) if p.unrated.is_empty() => format!(
+            "This speaker suits an amplifier of up to {} W per channel into {into} ohm: up to that power, every part and driver stays within its rating on music. The ratings are for heat; a driver's cone travel at low frequencies can set a lower limit, and an amplifier driven into clipping can damage the speaker at any power.",
+            trim_number(w, 3)
+        ),
+        Some(w) => format!(
+            "This speaker suits an amplifier of up to {} W per channel into {into} ohm, from the ratings on record. {unrated}, so the figure is no higher than the {} W the shop's figures assume; the driver makers' ratings come first, and an amplifier driven into clipping can damage the speaker at any power.",
+            trim_number(w, 3),
+            trim_number(p.job_w, 3)
+        ),
+        None => format!(
+            "No part or driver has a power rating on record, so these figures cannot say what amplifier power this speaker suits; they were worked at {} W per channel into {into} ohm. Ask the shop, and follow the driver makers' ratings.",
+            trim_number(p.job_w, 3)
+        ),
+    };
     if c.audience.plain() {
-        // Rounded down to two significant figures: the sheet never promises more.
-        let nice = round_down_2(max);
-        let unrated: Vec<String> = p.unrated.iter().filter(|n| net.driver(n).is_some()).map(|n| driver_words(net, n)).collect();
-        let caveat = match unrated.len() {
-            0 => String::new(),
-            1 => format!(" {} has no power rating on record and is not counted.", capitalise(&unrated[0])),
-            _ => format!(" {} have no power rating on record and are not counted.", capitalise(&super::words::join_and(&unrated))),
-        };
-        // The buyer is given the cautious figure: a steady full-level tone within every
-        // rating. The figure for music alone rests on how the amplifier is used, and stays in
-        // the archive.
-        let sine = p.sine_max_w.map(round_down_2).unwrap_or(nice).min(nice);
-        format!(
-            "An amplifier of up to {} W per channel into {into} ohm keeps every part and driver within its rating even at full volume on a steady tone, the hardest signal it can send. The ratings are for heat; a driver's cone travel at low frequencies can set a lower limit, so the drivers' makers' ratings come first, and an amplifier driven into clipping can damage the speaker at any power.{caveat}",
-            trim_number(sine, 3)
-        )
-    } else {
-        format!(
-            "{} W into {into} ohm on programme, where {who} reaches its limit ({limit}); {}; load as left: min |Z| {}, {}. Basis: {}.",
-            trim_number(max, 3),
-            match (p.sine_max_w, &p.sine_limited_by) {
-                (Some(s), Some(w)) => format!("with a full-level sine, {} W, where {w} reaches its rating", trim_number(s, 3)),
-                _ => "no limit with a full-level sine from the ratings on record".into(),
-            },
-            ohm(p.min_ohm),
-            p.load_verdict,
-            p.basis
-        )
+        return plain;
     }
-}
-
-/// `v` rounded down to two significant figures (437.9 -> 430, 95.4 -> 95).
-fn round_down_2(v: f64) -> f64 {
-    if v <= 0.0 || !v.is_finite() {
-        return 0.0;
+    let mut s = plain;
+    if let (Some(max), Some(who), Some(limit)) = (p.max_w, &p.limited_by, &p.limit) {
+        s.push_str(&format!(" First limit: {who}, where {limit}, at {} W before rounding.", trim_number(max, 3)));
     }
-    let step = 10f64.powf(v.log10().floor() - 1.0);
-    (v / step + 1e-9).floor() * step
-}
-
-#[cfg(test)]
-mod tests {
-    use super::round_down_2;
-
-    #[test]
-    fn rounds_down_to_two_figures() {
-        assert_eq!(round_down_2(437.86), 430.0);
-        assert_eq!(round_down_2(95.4), 95.0);
-        assert_eq!(round_down_2(1200.0), 1200.0);
+    s.push_str(&format!(" Definition: {}.", p.basis));
+    if let (Some(w), Some(who), Some(hz_at)) = (p.sine_max_w, &p.sine_limited_by, p.sine_at_hz) {
+        s.push_str(&format!(
+            " Bench caution: a steady full-level tone near {} from an amplifier of more than {} W takes {who} past its rating; keep bench tones low and short.",
+            crate::units::hz(Some(hz_at)),
+            trim_number(w, 3)
+        ));
     }
+    s.push_str(&format!(" Load as left: min |Z| {}, {}.", ohm(p.min_ohm), p.load_verdict));
+    s
 }
 
 /// The sweeps at the terminals: the prediction against each sweep, and the diagnosis from the
@@ -349,8 +429,10 @@ fn diagnosis(c: &Ctx, d: &Result<crate::analysis::diagnose::Diagnosis, String>) 
         .iter()
         .map(|e| {
             let v = |x: f64| value_text(net, &e.part, &e.field, x);
-            let (interval, note) = if e.identifiable { (format!("{} to {}", v(e.low), v(e.high)), String::new()) } else { ("-".into(), e.reason.clone()) };
-            Row(vec![format!("{} {}", e.part, field_words(&e.field)), v(e.start), v(e.value), interval, note])
+            // An estimate the sweep cannot tell prints no value, as if it were one.
+            let (estimate, interval, note) =
+                if e.identifiable { (v(e.value), format!("{} to {}", v(e.low), v(e.high)), String::new()) } else { ("-".into(), "-".into(), e.reason.clone()) };
+            Row(vec![format!("{} {}", e.part, field_words(&e.field)), v(e.start), estimate, interval, note])
         })
         .collect();
     DiagnosisData {

@@ -90,7 +90,7 @@ fn merge_in_order(names: &[String], lists: Vec<Vec<String>>) -> Vec<String> {
 pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[PlotKind]) -> ReportData {
     let names: Vec<String> = set.cabinets.iter().map(|c| c.name.clone()).collect();
     let mut each: Vec<ReportData> = set.cabinets.iter().map(|c| build(&c.job, &c.findings, template, plots)).collect();
-    // The largest amplifier power is the least of any cabinet's.
+    // The amplifier power the set suits is the least of any cabinet's.
     let least = set
         .cabinets
         .iter()
@@ -177,7 +177,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     let plain = data.audience.plain();
     let pair = pair_data(job, set, plain);
     // The customer reads first whether the pair matches again.
-    let mut summary = customer_sentences(job, set);
+    let mut summary = customer_sentences(job, set, data.template == "quote");
     summary.append(&mut data.summary);
     data.summary = summary;
     data.job.speaker.serials = names.clone();
@@ -192,8 +192,9 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     data.pair = Some(pair);
     // The options, each solved for every cabinet.
     if let Some(first) = set.cabinets.first() {
-        let c = super::Ctx { job: &first.job, f: &first.findings, audience: data.audience };
+        let c = super::Ctx { job: &first.job, f: &first.findings, audience: data.audience, quote: data.template == "quote" };
         data.options = super::blocks::options_of(&c, &set.options, set.recommended.as_ref());
+        data.quote = super::service::quote_terms(&c, &set.parts, &set.options, set.cabinets.len());
     }
     if let Some(ch) = &set.chosen {
         data.summary.push(ch.sentence.clone());
@@ -212,7 +213,7 @@ fn cabinets_words(n: usize) -> String {
 }
 
 /// Whether the cabinets match as left, and what stood out as found, in plain sentences.
-fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
+fn customer_sentences(job: &Job, set: &SetFindings, quote: bool) -> Vec<String> {
     let net = &job.network;
     let n = set.cabinets.len();
     let tol = trim_number(set.tolerance_db, 3);
@@ -229,17 +230,19 @@ fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
                 });
                 // The readings that explain a quarter or more of the difference; "mostly" only
                 // when the first explains half or more.
-                let parts: Vec<&crate::analysis::pair::Responsible> = m.responsible.iter().filter(|r| r.cabinet == who && r.share_db >= 0.25 * m.as_found_db).collect();
-                let names: Vec<String> = parts.iter().map(|r| r.part.clone()).collect();
+                // They may sit in either of the cabinets that set the difference.
+                let parts: Vec<&crate::analysis::pair::Responsible> = m.responsible.iter().filter(|r| r.share_db >= 0.25 * m.as_found_db).collect();
+                let all_in_who = parts.iter().all(|r| r.cabinet == who);
+                let names: Vec<String> = parts.iter().map(|r| if all_in_who { r.part.clone() } else { format!("{} in cabinet {}", r.part, r.cabinet) }).collect();
+                let place = if all_in_who { " in that cabinet" } else { "" };
                 let cause = match parts.first() {
                     None => String::new(),
-                    Some(r) if r.share_db >= 0.5 * m.as_found_db => format!(", mostly from {} in that cabinet", join_and(&names)),
-                    Some(_) => format!(", from {} in that cabinet", join_and(&names)),
+                    Some(r) if r.share_db >= 0.5 * m.as_found_db => format!(", mostly from {}{place}", join_and(&names)),
+                    Some(_) => format!(", from {}{place}", join_and(&names)),
                 };
                 if m.as_found_db > crate::analysis::compensate::FAULT_DB {
                     // Tens of dB is a driver that no longer plays: a fault, not a level.
-                    let traced =
-                        if names.is_empty() { "a fault (an open part or connection)".to_string() } else { format!("a fault traced to {} in that cabinet", join_and(&names)) };
+                    let traced = if names.is_empty() { "a fault (an open part or connection)".to_string() } else { format!("a fault traced to {}{place}", join_and(&names)) };
                     return format!("{} of cabinet {} was all but silent: {traced}, not a level difference", driver_words(net, &m.driver), m.as_found_cabinets[1]);
                 }
                 format!("{} differed by {:.2} dB between cabinets, cabinet {who} the odd one out{cause}", driver_words(net, &m.driver), m.as_found_db)
@@ -256,10 +259,27 @@ fn customer_sentences(job: &Job, set: &SetFindings) -> Vec<String> {
     }
     if apart.is_empty() {
         let how = if n == 2 { format!("every driver within {tol} dB of its partner in the other cabinet") } else { format!("every driver within {tol} dB of the set's middle") };
-        out.push(format!("{} now match: {how}.", capitalise(&cabinets_words(n))));
+        if quote {
+            out.push(format!("After the proposed work, {} would match: {how}.", cabinets_words(n)));
+        } else {
+            out.push(format!("{} now match: {how}.", capitalise(&cabinets_words(n))));
+        }
     } else {
-        let each: Vec<String> = apart.iter().map(|m| format!("{} {:.2} dB apart", driver_words(net, &m.driver), m.as_left_db)).collect();
-        out.push(format!("{} do not yet match within {tol} dB: {}.", capitalise(&cabinets_words(n)), join_and(&each)));
+        let each: Vec<String> = apart
+            .iter()
+            .map(|m| {
+                if m.as_left_db > crate::analysis::compensate::FAULT_DB {
+                    format!("{} silent in cabinet {} (a fault)", driver_words(net, &m.driver), m.as_left_cabinets[1])
+                } else {
+                    format!("{} {:.2} dB apart", driver_words(net, &m.driver), m.as_left_db)
+                }
+            })
+            .collect();
+        if quote {
+            out.push(format!("After the proposed work, {} would still differ by more than {tol} dB: {}.", cabinets_words(n), join_and(&each)));
+        } else {
+            out.push(format!("{} do not yet match within {tol} dB: {}.", capitalise(&cabinets_words(n)), join_and(&each)));
+        }
     }
     out
 }
@@ -293,7 +313,7 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
     let median_rows = set
         .matching
         .iter()
-        .flat_map(|m| m.from_median.iter().map(move |x| Row(vec![m.driver.clone(), x.cabinet.clone(), crate::results::db(x.as_found_db), crate::results::db(x.as_left_db)])))
+        .flat_map(|m| m.from_median.iter().map(move |x| Row(vec![m.driver.clone(), x.cabinet.clone(), crate::results::level(x.as_found_db), crate::results::level(x.as_left_db)])))
         .collect();
     let mut sentences: Vec<String> = set.matching.iter().map(|m| m.sentence(is_set)).collect();
     sentences.extend(set.matching.iter().filter_map(|m| m.responsible_sentence()));

@@ -22,7 +22,29 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
     let mut out = Vec::new();
     let off: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| l.as_found_db.abs() >= 0.5).collect();
     if job.measured.is_empty() {
-        out.push("No parts were measured before the work, so the figures before the work are those of the original design.".into());
+        // What the job records instead of bench readings: the diagnosis from the sweep at the
+        // terminals, estimated (it does not enter the figures before the work).
+        let estimated: Vec<String> = match &f.diagnosis {
+            Some(Ok(d)) => d
+                .estimates
+                .iter()
+                .filter(|e| e.identifiable && e.start > 0.0 && ((e.value / e.start) - 1.0).abs() >= 0.05)
+                .map(|e| {
+                    let pct = 100.0 * (e.value / e.start - 1.0);
+                    let what = if e.field == "value" { e.part.clone() } else { format!("{}'s {}", e.part, if plain { "loss resistance" } else { e.field.as_str() }) };
+                    format!("{what} about {:.0} % {}", pct.abs(), if pct < 0.0 { "below" } else { "above" },)
+                })
+                .collect(),
+            _ => Vec::new(),
+        };
+        if estimated.is_empty() {
+            out.push("No part or driver readings were recorded before the work, so the figures before the work are those of the original design.".into());
+        } else {
+            out.push(format!(
+                "No part was read on the bench before the work; the impedance sweep at the terminals pointed to {} its design value (an estimate from the sweep, not a reading). The figures before the work are those of the original design.",
+                join_and(&estimated)
+            ));
+        }
     } else if off.is_empty() {
         out.push("Before the work, as worked out from the parts' readings, every driver was within 0.5 dB of the original design.".into());
     } else {
@@ -37,6 +59,21 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             })
             .collect();
         out.push(format!("Before the work, as worked out from the parts' readings, {}.", join_and(&each)));
+    }
+    // The drivers' own faults, as the bench found them.
+    for d in f.scenes.as_found.network.drivers.iter().filter(|d| d.fault.is_some() || d.fault_note.is_some()) {
+        let read = match d.fault {
+            Some(crate::model::Fault::Open) => Some("read open on the bench (no continuity across its voice coil)"),
+            Some(crate::model::Fault::Shorted) => Some("read shorted on the bench (its voice coil shorted)"),
+            None => None,
+        };
+        let who = capitalise(&driver_words(net, &d.name));
+        out.push(match (read, &d.fault_note) {
+            (Some(r), Some(n)) => format!("{who} {r}; the bench found: {}.", n.trim_end_matches('.')),
+            (Some(r), None) => format!("{who} {r}."),
+            (None, Some(n)) => format!("{who}: the bench found a fault: {}.", n.trim_end_matches('.')),
+            (None, None) => continue,
+        });
     }
     let (ld, lf, ll) = (&f.loads.as_designed, &f.loads.as_found, &f.loads.as_left);
     if lf.verdict == crate::analysis::Verdict::Over && ll.verdict != crate::analysis::Verdict::Over {
@@ -70,7 +107,12 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
         let kept: Vec<String> = flagged.iter().filter(|p| !touched(p)).map(|p| p.to_string()).collect();
         if !kept.is_empty() && !quoting(job) {
             let (verb, them) = if kept.len() == 1 { ("was", "its") } else { ("were", "their") };
-            out.push(format!("{} {verb} left in place: {them} effect is part of the figures after the work.", join_and(&kept)));
+            if c.quote {
+                let verb = if kept.len() == 1 { "stays" } else { "stay" };
+                out.push(format!("{} {verb} in place in the work proposed: {them} effect is part of the figures after that work.", join_and(&kept)));
+            } else {
+                out.push(format!("{} {verb} left in place: {them} effect is part of the figures after the work.", join_and(&kept)));
+            }
         }
     }
     if c.audience == Audience::Archive {
@@ -103,11 +145,13 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             (_, true) => "a difference likely to be heard".to_string(),
             (other, false) => format!("{other}; 3 dB is double the power, not double the loudness"),
         };
-        out.push(format!("After the work, {every} is calculated to play within {worst:.2} dB of the original design at every frequency of its working range: {what}."));
+        let after = if c.quote { "After the proposed work" } else { "After the work" };
+        out.push(format!("{after}, {every} is calculated to play within {worst:.2} dB of the original design at every frequency of its working range: {what}."));
     }
     if !faults.is_empty() {
         out.push(format!(
-            "After the work, {} plays more than {} dB below the original design: that is a fault (a driver shorted or disconnected), not a level difference. Do not use the speaker until it is found.",
+            "{}, {} plays more than {} dB below the original design: that is a fault (a driver shorted or disconnected), not a level difference. Do not use the speaker until it is found.",
+            if c.quote { "After the proposed work" } else { "After the work" },
             join_and(&faults),
             crate::analysis::compensate::FAULT_DB
         ));
@@ -222,27 +266,25 @@ pub(super) fn amplifier_rating(min_ohm: f64) -> Option<f64> {
 /// Cautions for this report's reader: the customer and the buyer need the amplifier, the
 /// load and listening levels; the archive keeps every caution of the bench as well.
 pub(super) fn safety(c: &Ctx) -> Vec<String> {
-    let (job, f) = (c.job, c.f);
-    let a = &job.amplifier;
+    let f = c.f;
     let mut s = Vec::new();
     let over = over_as_left(f);
     if c.audience.plain() {
         s.push("These figures are calculated from the parts' values and readings; the shop confirms them by measurement.".to_string());
-        // The buyer's amplifier is not the one the shop's figures assumed: the sheet gives the
-        // largest power the parts suit instead.
-        s.push(if c.audience == super::Audience::Sale {
-            "Amplifier: keep within the amplifier power given above. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
+        // The power the speaker suits is said once, in the power block above; a quotation
+        // (before the work) gives none.
+        s.push(if c.quote {
+            "Amplifier: a more powerful amplifier than the speaker's makers rate it for, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
         } else {
-            format!(
-                "Amplifier: use one of up to {} W into {} ohm, the power these figures assume. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.",
-                trim_number(a.power_w, 3),
-                trim_number(a.into_ohm, 3)
-            )
+            "Amplifier: keep within the amplifier power given above. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
         });
-        s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
-            Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
-            None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
-        });
+        // The load is said in its own block; a quotation, which has none, says it here.
+        if c.quote {
+            s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
+                Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
+                None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
+            });
+        }
         if !over.is_empty() {
             s.push(format!(
                 "{} would run above {} rating at that amplifier's full power: keep the volume moderate until the shop fits a higher-rated part.",

@@ -81,7 +81,9 @@ pub(super) fn fitted_words(c: &Ctx, p: &Part) -> String {
 
 /// The level line of one driver, in words: louder or quieter, by how much.
 pub(super) fn level_words(v: f64) -> String {
-    if v.abs() < 0.005 {
+    if v < -crate::analysis::compensate::FAULT_DB {
+        "silent: a fault (the driver shorted or disconnected)".into()
+    } else if v.abs() < 0.005 {
         "as designed, to within 0.01 dB on average".into()
     } else if v > 0.0 {
         format!("{:.2} dB louder than designed", v)
