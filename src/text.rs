@@ -2,8 +2,6 @@
 //! characters, Unicode noncharacters), and any text made safe and short enough to print to a
 //! terminal.
 
-use crate::diag::Pos;
-
 /// Whether `c` may stand in a job, a table, a settings file or a price list. Tabs, line feeds
 /// and carriage returns may; the other C0 and C1 control characters (NUL, BEL, ESC, DEL ...)
 /// and Unicode's noncharacters (U+FFFE, U+FFFF, U+FDD0 to U+FDEF, and the last two of every
@@ -18,11 +16,11 @@ pub fn allowed(c: char) -> bool {
 
 /// The first character of `text` that no input may hold ([`allowed`]), with its line and
 /// column (counted in characters from 1).
-pub fn first_forbidden(text: &str) -> Option<(Pos, char)> {
+pub fn first_forbidden(text: &str) -> Option<((usize, usize), char)> {
     let (mut line, mut col) = (1, 1);
     for c in text.chars() {
         if !allowed(c) {
-            return Some((Pos { line, col }, c));
+            return Some(((line, col), c));
         }
         if c == '\n' {
             line += 1;
@@ -93,7 +91,7 @@ mod tests {
         for c in ['\t', '\n', '\r', 'a', 'µ', 'Ω', '中', '\u{fffd}', '\u{1f50a}', '\u{200f}'] {
             assert!(allowed(c), "{:?}", c);
         }
-        assert_eq!(first_forbidden("a: 1\n# x\0y\n"), Some((Pos { line: 2, col: 4 }, '\0')));
+        assert_eq!(first_forbidden("a: 1\n# x\0y\n"), Some(((2, 4), '\0')));
         assert_eq!(first_forbidden("a: 1\n"), None);
     }
 

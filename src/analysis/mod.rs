@@ -138,10 +138,10 @@ pub struct Findings {
     pub parts: bom::PartsList,
     /// The options offered before the work, each solved as its own as-left scenario, and the
     /// one recommended.
-    pub options: Vec<options::OptionFindings>,
-    pub recommended: Option<options::Recommendation>,
+    pub options: Vec<OptionFindings>,
+    pub recommended: Option<Recommendation>,
     /// Which option the work done followed, when the job has both.
-    pub chosen: Option<options::Chosen>,
+    pub chosen: Option<Chosen>,
     /// The largest amplifier power the speaker as left suits.
     pub power: power::PowerRange,
     /// The prediction against the sweeps measured at the terminals, as found and as left.
@@ -200,6 +200,58 @@ impl std::fmt::Display for AnalysisError {
 
 pub fn analyse(job: &Job) -> Result<Findings, AnalysisError> {
     analyse_with(job, &Quiet)
+}
+
+// What the options a shop offers come to: here, beside the findings that hold them, so
+// that `options` (which weighs them) and `pair` (whose sets hold them) need not import each
+// other.
+
+#[derive(Debug, Clone)]
+pub struct OptionFindings {
+    pub name: String,
+    pub say: Option<String>,
+    /// The option's findings; in a pair or set, its first cabinet's.
+    pub findings: Box<Findings>,
+    /// In a pair or set, every cabinet's findings and how they match.
+    pub set: Option<Box<pair::SetFindings>>,
+    /// The parts to buy for the whole job (every cabinet's).
+    pub parts: bom::PartsList,
+    pub labour_hours: Option<f64>,
+    /// Labour at the job's hourly rate, in hundredths.
+    pub labour: Option<crate::money::Money>,
+    /// Parts and labour, when both are known (parts: every line priced).
+    pub total: Option<crate::money::Money>,
+    /// RMS over the drivers of each driver's RMS deviation from the original design over its
+    /// band (dB; acoustic where known).
+    pub score_db: f64,
+    /// Every stress, driver power, load, substitute (and, in a set, match) verdict is ok, or
+    /// "check" where the original design's is too.
+    pub verdicts_ok: bool,
+    /// The verdicts that are over, in words.
+    pub over: Vec<String>,
+    /// The verdicts that are "check" (neither ok nor over) where the original design's are
+    /// not, in words.
+    pub to_check: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Recommendation {
+    pub option: String,
+    /// Why, in one sentence.
+    pub reason: String,
+    /// The job named it (rather than the rule choosing it).
+    pub named: bool,
+}
+
+/// The option the work done followed, and whether it did what the quote said.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Chosen {
+    /// The option whose steps the job's `changes` are; None when they are none of them.
+    pub option: Option<String>,
+    /// The largest difference between a driver's level as left and the quoted one (dB).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub largest_difference_db: Option<f64>,
+    pub sentence: String,
 }
 
 /// What a job's analysis gives: one cabinet's findings, or a pair's or set's.

@@ -9,42 +9,7 @@ use crate::analysis::{analyse_with, AnalysisError, Findings, Quiet, Verdict};
 use crate::model::{Job, JobOption, Scenario};
 use crate::money::Money;
 
-#[derive(Debug, Clone)]
-pub struct OptionFindings {
-    pub name: String,
-    pub say: Option<String>,
-    /// The option's findings; in a pair or set, its first cabinet's.
-    pub findings: Box<Findings>,
-    /// In a pair or set, every cabinet's findings and how they match.
-    pub set: Option<Box<SetFindings>>,
-    /// The parts to buy for the whole job (every cabinet's).
-    pub parts: PartsList,
-    pub labour_hours: Option<f64>,
-    /// Labour at the job's hourly rate, in hundredths.
-    pub labour: Option<Money>,
-    /// Parts and labour, when both are known (parts: every line priced).
-    pub total: Option<Money>,
-    /// RMS over the drivers of each driver's RMS deviation from the original design over its
-    /// band (dB; acoustic where known).
-    pub score_db: f64,
-    /// Every stress, driver power, load, substitute (and, in a set, match) verdict is ok, or
-    /// "check" where the original design's is too.
-    pub verdicts_ok: bool,
-    /// The verdicts that are over, in words.
-    pub over: Vec<String>,
-    /// The verdicts that are "check" (neither ok nor over) where the original design's are
-    /// not, in words.
-    pub to_check: Vec<String>,
-}
-
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
-pub struct Recommendation {
-    pub option: String,
-    /// Why, in one sentence.
-    pub reason: String,
-    /// The job named it (rather than the rule choosing it).
-    pub named: bool,
-}
+pub use crate::analysis::{Chosen, OptionFindings, Recommendation};
 
 /// The job with an option's steps as its work: they take the place of the job's common
 /// `changes`; in a pair or set each cabinet's own steps (a driver replaced in one cabinet)
@@ -258,17 +223,6 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
         ),
     };
     Some(Recommendation { option: best.name.clone(), reason, named: false })
-}
-
-/// The option the work done followed, and whether it did what the quote said.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
-pub struct Chosen {
-    /// The option whose steps the job's `changes` are; None when they are none of them.
-    pub option: Option<String>,
-    /// The largest difference between a driver's level as left and the quoted one (dB).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub largest_difference_db: Option<f64>,
-    pub sentence: String,
 }
 
 /// A step as text without where it was written, to compare steps written in two places.

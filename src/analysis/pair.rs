@@ -98,9 +98,9 @@ pub struct SetFindings {
     /// The parts to buy for every cabinet's work.
     pub parts: crate::analysis::bom::PartsList,
     /// The options offered before the work, each solved for every cabinet.
-    pub options: Vec<crate::analysis::options::OptionFindings>,
-    pub recommended: Option<crate::analysis::options::Recommendation>,
-    pub chosen: Option<crate::analysis::options::Chosen>,
+    pub options: Vec<crate::analysis::OptionFindings>,
+    pub recommended: Option<crate::analysis::Recommendation>,
+    pub chosen: Option<crate::analysis::Chosen>,
 }
 
 /// The band-mean deviation from its reference of the driver a compensate entry names, in the

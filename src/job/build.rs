@@ -5,11 +5,12 @@
 //! checked ([`checks`](crate::job::checks)). Every problem is collected with its place.
 
 use crate::diag::{suggest, Pos};
+use crate::job::checks;
 use crate::job::fields::{self, part_fields};
 use crate::job::raw::*;
 use crate::job::reader::Ctx;
+use crate::job::readings::{self, find_target, Target};
 use crate::job::yaml::Node;
-use crate::job::{checks, readings};
 use crate::model::*;
 use crate::units::Quantity;
 
@@ -346,31 +347,6 @@ fn wire_links(parts: &[Part], drivers: &[Driver], input: &[String; 2], ctx: &mut
             }
         }
     }
-}
-
-pub(super) enum Target<'a> {
-    Part(&'a Part),
-    Driver(&'a Driver),
-}
-
-/// The part or driver a step or reading names: in the network, or added by an earlier step.
-pub(super) fn find_target<'a>(net: &'a Network, added: &'a [Part], key: &str, pos: Pos, path: &str, ctx: &mut Ctx) -> Option<Target<'a>> {
-    if let Some(p) = net.part(key).or_else(|| added.iter().find(|p| p.name == key)) {
-        return Some(Target::Part(p));
-    }
-    if let Some(d) = net.driver(key) {
-        return Some(Target::Driver(d));
-    }
-    if ctx.failed.iter().any(|e| e == key) {
-        return None;
-    }
-    let names: Vec<&str> = net.branches().map(|(n, _)| n).chain(added.iter().map(|p| p.name.as_str())).collect();
-    let hint = match suggest(key, names.iter().copied()) {
-        Some(s) => format!("did you mean `{s}`?"),
-        None => format!("the network has: {}", names.join(", ")),
-    };
-    ctx.error(pos, path, format!("there is no part or driver {key} in the network"), Some(hint));
-    None
 }
 
 /// A replacement's fields, read against what it replaces.

@@ -137,9 +137,9 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     // A control character would be read as nothing or, a NUL, end the file for the YAML
     // reader there, silently dropping what follows: refused where it stands.
-    if let Some((pos, c)) = crate::text::first_forbidden(text) {
+    if let Some(((line, col), c)) = crate::text::first_forbidden(text) {
         return Err(problems(
-            vec![Diagnostic::new(pos, "", format!("the job file holds {}, a character no job file may hold", crate::text::name_of(c)))
+            vec![Diagnostic::new(Pos { line, col }, "", format!("the job file holds {}, a character no job file may hold", crate::text::name_of(c)))
                 .hint("remove it (a stray control character, often from a copy and paste or a binary file); a NUL would end the file there for a YAML reader, dropping everything after it")],
             text,
         ));

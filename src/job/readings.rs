@@ -1,8 +1,9 @@
-//! Bench readings: what a reading of a part or a driver may give, read against what it names
-//! (a driver's fields against its model; open or shorted alone), and the warnings for a
-//! reading or a replacement far from the design's value.
+//! Bench readings and what they name: the part or driver a reading or a change step names,
+//! what a reading of a part or a driver may give (a driver's fields against its model; open
+//! or shorted alone), and the warnings for a reading or a replacement far from the design's
+//! value.
 
-use crate::job::build::{find_target, Target};
+use crate::diag::{suggest, Pos};
 use crate::job::fields::part_fields;
 use crate::job::raw::Entry;
 use crate::job::reader::{Ctx, Fields};
@@ -180,4 +181,29 @@ pub(super) fn far_from_design(p: &Part, patch: &PartPatch, f: &Fields, ctx: &mut
             );
         }
     }
+}
+
+pub(super) enum Target<'a> {
+    Part(&'a Part),
+    Driver(&'a Driver),
+}
+
+/// The part or driver a step or reading names: in the network, or added by an earlier step.
+pub(super) fn find_target<'a>(net: &'a Network, added: &'a [Part], key: &str, pos: Pos, path: &str, ctx: &mut Ctx) -> Option<Target<'a>> {
+    if let Some(p) = net.part(key).or_else(|| added.iter().find(|p| p.name == key)) {
+        return Some(Target::Part(p));
+    }
+    if let Some(d) = net.driver(key) {
+        return Some(Target::Driver(d));
+    }
+    if ctx.failed.iter().any(|e| e == key) {
+        return None;
+    }
+    let names: Vec<&str> = net.branches().map(|(n, _)| n).chain(added.iter().map(|p| p.name.as_str())).collect();
+    let hint = match suggest(key, names.iter().copied()) {
+        Some(s) => format!("did you mean `{s}`?"),
+        None => format!("the network has: {}", names.join(", ")),
+    };
+    ctx.error(pos, path, format!("there is no part or driver {key} in the network"), Some(hint));
+    None
 }

@@ -128,11 +128,11 @@ impl Ctx<'_> {
                 let text = text.trim_start_matches('\u{feff}').to_string();
                 // A control character (a NUL in a settings file, an ESC in a cell) is never
                 // read as nothing: refused at its line and column.
-                if let Some((at, c)) = crate::text::first_forbidden(&text) {
+                if let Some(((line, col), c)) = crate::text::first_forbidden(&text) {
                     self.error(
                         r.pos,
                         &r.field,
-                        format!("{what} \"{}\" holds {} at line {}, column {}, a character no input may hold", r.name, crate::text::name_of(c), at.line, at.col),
+                        format!("{what} \"{}\" holds {} at line {}, column {}, a character no input may hold", r.name, crate::text::name_of(c), line, col),
                         Some("remove it; a table, price list or settings file is plain text".into()),
                     );
                     return None;

@@ -11,6 +11,7 @@ mod golden;
 mod hostile;
 mod hostile2;
 mod interrupted;
+mod layout;
 mod nodal;
 mod options;
 mod pair;

@@ -9,10 +9,16 @@
 //! | --- | --- |
 //! | `mod.rs` | the data's types, [`build`], and the trade's units |
 //! | `blocks.rs` | one builder per block of tables: levels, compensation, parts, stress, load, health, tolerance, the record |
+//! | `offers.rs` | the options of a quotation side by side, and the recommendation |
+//! | `merge.rs` | several cabinets' data as one: tables, sentences, steps |
+//! | `set.rs` | the report of a pair or set, and how its cabinets match |
+//! | `service.rs` | the service record, photographs, the amplifier power, the sweeps at the terminals, a quotation's terms |
 //! | `story.rs` | the prose: what was found and done, and the cautions |
 //! | `words.rs` | how a customer reads a driver, a part, a level |
 
 mod blocks;
+mod merge;
+mod offers;
 mod service;
 mod set;
 mod story;
@@ -26,6 +32,7 @@ use crate::model::{Block, Job, Part, PartKind, PlotKind, Template};
 use crate::results::ohm;
 use crate::units::{format_si, trim_number, Quantity};
 use blocks::*;
+use offers::options;
 pub use set::{build_set, PairData};
 use story::*;
 
