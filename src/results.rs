@@ -687,13 +687,22 @@ pub fn driver_fit_text(fit: &crate::analysis::diagnose::DriverFit) -> String {
     if let Some(tp) = &fit.three_point {
         let _ = writeln!(
             s,
-            "  three-point method on the same sweep (Re from the fit): fs {} Hz, Qms {}, Qes {}",
+            "  three-point method on the sweep alone (Re {} ohm, its lowest |Z|): fs {} Hz, Qms {}, Qes {}",
+            trim_number(tp.re, 4),
             trim_number(tp.fs, 4),
             trim_number(tp.qms, 4),
             trim_number(tp.qes, 4)
         );
     }
     let _ = writeln!(s);
-    let _ = writeln!(s, "{}", fit.model_yaml);
+    match (&fit.model_yaml, &fit.advice) {
+        (Some(m), _) => {
+            let _ = writeln!(s, "{m}");
+        }
+        (None, Some(a)) => {
+            let _ = writeln!(s, "No model block: {a}.");
+        }
+        (None, None) => {}
+    }
     s
 }

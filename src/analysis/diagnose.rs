@@ -350,10 +350,22 @@ pub struct DriverFit {
     pub estimates: Vec<Estimate>,
     pub qts: f64,
     pub correlated: Vec<Correlated>,
-    /// The three-point method on the same sweep, for comparison (Thiele and Small).
+    /// The three-point method on the same sweep, for comparison (Thiele and Small): from the
+    /// sweep alone (its lowest |Z| as Re, its interpolated peak), sharing
+    /// nothing with the fit, so it is an independent check of it.
     pub three_point: Option<ThreePoint>,
-    /// The `model` block the job file takes.
-    pub model_yaml: String,
+    /// The `model` block the job file takes; None when the fit cannot follow the sweep.
+    pub model_yaml: Option<String>,
+    /// What to do when the fit cannot follow the sweep (its residual above [`MISFIT`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub advice: Option<String>,
+}
+
+/// The sweep's own DC resistance for the three-point method, without a DC reading: its
+/// lowest |Z|, where a driver's impedance comes closest to Re (toward DC below the resonance,
+/// or in the trough above it before the coil's inductance lifts it).
+pub fn sweep_re(sweep: &ImpedanceTable) -> f64 {
+    sweep.ohm.iter().copied().fold(f64::INFINITY, f64::min)
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -455,6 +467,7 @@ pub fn characterise(sweep: &ImpedanceTable, leach: bool) -> Result<DriverFit, St
     } else {
         format!("le: {}", format_si(v[1], Quantity::Inductance, 3))
     };
+    let misfit = rms > MISFIT;
     let model_yaml = format!(
         "model: {{ re: {}, {coil}, fs: {}, qms: {}, qes: {} }}   # fitted from {} (Qts {})",
         format_si(v[0], Quantity::Resistance, 4),
@@ -464,5 +477,24 @@ pub fn characterise(sweep: &ImpedanceTable, leach: bool) -> Result<DriverFit, St
         sweep.file,
         crate::units::trim_number(qts, 3)
     );
-    Ok(DriverFit { file: sweep.file.clone(), points: n, residual: rms, estimates, qts, correlated, three_point: three_point(sweep, v[0]), model_yaml })
+    // A fit that cannot follow the sweep gives no model to paste into a job.
+    let advice = misfit.then(|| {
+        let how = if leach {
+            "check the sweep: the driver alone, in free air, swept from well below to well above fs"
+        } else {
+            "try `--leach` (a voice coil whose inductance falls with frequency, as most woofers' does), and check the sweep: the driver alone, in free air"
+        };
+        format!("the model cannot follow this sweep (residual {rms:.1}, against about 1 for a good rig's noise), so no model block is given: {how}")
+    });
+    Ok(DriverFit {
+        file: sweep.file.clone(),
+        points: n,
+        residual: rms,
+        estimates,
+        qts,
+        correlated,
+        three_point: three_point(sweep, sweep_re(sweep)),
+        model_yaml: (!misfit).then_some(model_yaml),
+        advice,
+    })
 }

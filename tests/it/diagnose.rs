@@ -180,11 +180,16 @@ fn smalls_model_is_recovered_within_one_per_cent_and_agrees_with_the_three_point
         }
         // Qts = Qms Qes / (Qms + Qes) (Small 1972).
         assert!((num(&fit, "qts") / (qms * qes / (qms + qes)) - 1.0).abs() < 0.01);
-        // The three-point method (Thiele and Small) on the same curve, within 3 %.
+        // The three-point method (Thiele and Small) on the same curve, from the sweep alone:
+        // fs within 1 %, the Q's within 5 %. Its Re is the sweep's lowest |Z|, a little above
+        // the true Re (the sweep starts only one or two octaves below fs, and the coil lifts
+        // the trough above it), which moves r0 and the Q's by a few per cent: the method's own
+        // limit without a DC reading, and why it is an independent check of the fit.
         let tp = &fit["three_point"];
-        for (f, want) in [("fs", fs), ("qms", qms), ("qes", qes)] {
-            assert!((num(tp, f) / want - 1.0).abs() < 0.03, "three-point {f}: {} against {want}", num(tp, f));
-            assert!((num(tp, f) / got(f) - 1.0).abs() < 0.03, "three-point {f} against the fit");
+        assert!(num(tp, "re") >= re * (1.0 - 1e-9), "three-point Re {} below the true {re}", num(tp, "re"));
+        for (f, want, tol) in [("fs", fs, 0.01), ("qms", qms, 0.05), ("qes", qes, 0.05)] {
+            assert!((num(tp, f) / want - 1.0).abs() < tol, "three-point {f}: {} against {want}", num(tp, f));
+            assert!((num(tp, f) / got(f) - 1.0).abs() < tol, "three-point {f} against the fit");
         }
         // The model block the job takes, ready to paste.
         let yaml = fit["model_yaml"].as_str().unwrap();
@@ -211,6 +216,41 @@ fn a_sweep_whose_voice_coil_inductance_rises_above_the_resonance_is_fitted() {
     }
     let tp = &fit["three_point"];
     assert!((num(tp, "fs") / 50.0 - 1.0).abs() < 0.03, "three-point fs {}", num(tp, "fs"));
+}
+
+/// A driver whose voice coil follows Leach's model, Z = K (j w)^n (Leach, "Loudspeaker
+/// voice-coil inductance losses", JAES 1991), with Small's resonance behind it, 10 Hz to 20 kHz.
+fn leach_curve(re: f64, k: f64, n: f64, fs: f64, qms: f64, qes: f64) -> String {
+    let res = re * qms / qes;
+    let mut out = String::from("# frequency Hz, |Z| ohm, phase deg\n");
+    let mut f = 10.0f64;
+    while f <= 20_000.0 {
+        let w = 2.0 * std::f64::consts::PI * f;
+        let coil = num_complex::Complex64::from_polar(k * w.powf(n), n * std::f64::consts::FRAC_PI_2);
+        let z = re + coil + res / num_complex::Complex64::new(1.0, qms * (f / fs - fs / f));
+        out.push_str(&format!("{f},{},{}\n", z.norm(), z.arg().to_degrees()));
+        f *= 2f64.powf(1.0 / 24.0);
+    }
+    out
+}
+
+#[test]
+fn a_sweep_the_fit_cannot_follow_gives_advice_and_no_model_block() {
+    let csv = leach_curve(6.0, 0.03, 0.62, 45.0, 3.0, 0.5);
+    // Without Leach's model the coil's rise cannot be followed: no block to paste, and the
+    // advice names --leach.
+    let o = Cli::new().file("drv.csv", csv.as_bytes()).args(["characterise", "{dir}/drv.csv"]).run();
+    o.code(0).stdout_has("No model block").stdout_has("--leach");
+    assert!(!o.stdout.contains("model: {"), "{}", o.stdout);
+    let fit = characterise(&csv);
+    assert!(fit["model_yaml"].is_null() && num(&fit, "residual") > 5.0, "{fit}");
+    // With it, the fit follows the sweep and the block is given.
+    let o = Cli::new().file("drv.csv", csv.as_bytes()).args(["characterise", "{dir}/drv.csv", "--leach", "--format", "json"]).run();
+    o.code(0);
+    let v: Value = serde_json::from_str(&o.stdout).unwrap();
+    let fit = &v["driver_fit"];
+    assert!(fit["model_yaml"].as_str().is_some_and(|m| m.contains("leach: { k: ")), "{fit}");
+    assert!(num(fit, "residual") < 1.0, "{fit}");
 }
 
 #[test]
