@@ -79,6 +79,49 @@ pub fn shorten(s: &str, max: usize) -> String {
     format!("{head} ... ({} characters left out) ... {tail}", n - 2 * keep)
 }
 
+/// Wraps every line longer than `width` at spaces, continuing with the line's own indent
+/// and four spaces more.
+pub fn wrap(text: &str, width: usize) -> String {
+    let mut out = String::with_capacity(text.len() + text.len() / 16);
+    for line in text.lines() {
+        if line.chars().count() <= width {
+            out.push_str(line);
+            out.push('\n');
+            continue;
+        }
+        let indent = line.len() - line.trim_start().len();
+        let cont = " ".repeat((indent + 4).min(width / 2));
+        // Words of the line being built; a unit stays with its number ("0.018 dB" is never
+        // split), so a unit that would overflow takes its number to the next line.
+        let is_unit = |w: &str| matches!(w.trim_end_matches([',', ';', ')', '.', ':']), "dB" | "ohm" | "Hz" | "kHz" | "W" | "V" | "A" | "%" | "uF" | "mH" | "mohm" | "kohm");
+        let mut words: Vec<&str> = Vec::new();
+        let mut first = true;
+        let flush = |words: &mut Vec<&str>, first: &mut bool, out: &mut String| {
+            out.push_str(if *first { &line[..indent] } else { &cont });
+            out.push_str(words.join(" ").trim_end());
+            out.push('\n');
+            words.clear();
+            *first = false;
+        };
+        for word in line[indent..].split(' ') {
+            let lead = if first { indent } else { cont.len() };
+            let len = |ws: &[&str]| lead + ws.iter().map(|w| w.chars().count()).sum::<usize>() + ws.len().saturating_sub(1);
+            let mut trial = words.clone();
+            trial.push(word);
+            if !words.is_empty() && len(&trial) > width {
+                let carried = if is_unit(word) && words.len() > 1 { words.pop() } else { None };
+                flush(&mut words, &mut first, &mut out);
+                words.extend(carried);
+            }
+            words.push(word);
+        }
+        let current = format!("{}{}", if first { &line[..indent] } else { cont.as_str() }, words.join(" "));
+        out.push_str(current.trim_end());
+        out.push('\n');
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -257,6 +257,10 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
             .x_label_area_size(44)
             .y_label_area_size(64)
             .build_cartesian_2d((c.x.0..c.x.1).log_scale(), c.y.0..c.y.1)?;
+        // A logarithmic axis (impedance) is labelled at round values of its own (4, 5, 6, 8,
+        // 10 ...), never at plotters' evenly spaced logarithms (6.3, 7.9), which read as
+        // figures beside the rated-impedance line.
+        let log_ticks = if y_log { log_ticks(10f64.powf(c.y.0), 10f64.powf(c.y.1)) } else { Vec::new() };
         chart
             .configure_mesh()
             .x_desc("frequency (Hz)")
@@ -264,10 +268,19 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
             .label_style((FONT, 14))
             .axis_desc_style((FONT, 15))
             .x_label_formatter(&|v| if *v >= 1000.0 { format!("{}k", crate::units::trim_number(v / 1000.0, 3)) } else { crate::units::trim_number(*v, 3) })
-            .y_label_formatter(&|v| if y_log { crate::units::trim_number(10f64.powf(*v), 2) } else { crate::units::trim_number(if v.abs() < 1e-9 { 0.0 } else { *v }, 3) })
+            .y_label_formatter(&|v| crate::units::trim_number(if v.abs() < 1e-9 { 0.0 } else { *v }, 3))
+            .y_labels(if y_log { 0 } else { 10 })
             .light_line_style(RGBColor(0xec, 0xec, 0xec))
             .bold_line_style(RGBColor(0xd4, 0xd4, 0xd4))
             .draw()?;
+        for t in &log_ticks {
+            let y = t.log10();
+            chart.draw_series(LineSeries::new(vec![(c.x.0, y), (c.x.1, y)], ShapeStyle::from(&RGBColor(0xd4, 0xd4, 0xd4)).stroke_width(1)))?;
+            let (px, py) = chart.backend_coord(&(c.x.0, y));
+            let style = TextStyle::from((FONT, 14).into_font())
+                .pos(plotters::style::text_anchor::Pos::new(plotters::style::text_anchor::HPos::Right, plotters::style::text_anchor::VPos::Center));
+            top.draw(&Text::new(crate::units::trim_number(*t, 3), (px - 6, py), style))?;
+        }
         for (pts, colour) in &c.bands {
             let mut poly: Vec<(f64, f64)> = pts.iter().map(|(f, lo, _)| (*f, lo.clamp(c.y.0, c.y.1))).collect();
             poly.extend(pts.iter().rev().map(|(f, _, hi)| (*f, hi.clamp(c.y.0, c.y.1))));
@@ -283,6 +296,34 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
         root.present()?;
     }
     Ok(svg)
+}
+
+/// Round values to label a logarithmic axis from `lo` to `hi`: the first of the steps per
+/// decade (1 2 5; 1 2 3 5; 1 2 3 4 5 6 8; and with 1.5) that gives at least five labels.
+fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let steps: [&[f64]; 4] = [&[1.0, 2.0, 5.0], &[1.0, 2.0, 3.0, 5.0], &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0], &[1.0, 1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0]];
+    if !(lo > 0.0 && hi > lo && lo.is_finite() && hi.is_finite()) {
+        return Vec::new();
+    }
+    let mut last = Vec::new();
+    for set in steps {
+        let mut ticks = Vec::new();
+        let mut decade = 10f64.powf(lo.log10().floor());
+        while decade <= hi {
+            for m in set {
+                let v = m * decade;
+                if v >= lo && v <= hi {
+                    ticks.push(v);
+                }
+            }
+            decade *= 10.0;
+        }
+        if ticks.len() >= 5 {
+            return ticks;
+        }
+        last = ticks;
+    }
+    last
 }
 
 /// A range covering `values` with room above and below (at least a tenth of the span, and of
@@ -645,41 +686,5 @@ pub fn svg_to_png(svg: &str) -> Result<Vec<u8>, String> {
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn a_trace_leaving_the_chart_is_broken_not_drawn_along_the_edge() {
-        let pts = [(1.0, 0.0), (2.0, -50.0), (3.0, 1.0), (4.0, 2.0), (5.0, f64::NAN), (6.0, 3.0)];
-        let r = runs(&pts, (-10.0, 10.0));
-        assert_eq!(r, vec![vec![(1.0, 0.0)], vec![(3.0, 1.0), (4.0, 2.0)], vec![(6.0, 3.0)]]);
-    }
-
-    #[test]
-    fn driver_colours_stay_apart_in_grey() {
-        // Relative luminance (ITU-R BT.709 weights on linearised sRGB, IEC 61966-2-1): each
-        // palette's colours differ by at least 0.08, so they read apart printed in grey.
-        let lin = |c: u8| {
-            let v = c as f64 / 255.0;
-            if v <= 0.04045 {
-                v / 12.92
-            } else {
-                ((v + 0.055) / 1.055).powf(2.4)
-            }
-        };
-        let y = |c: &RGBColor| 0.2126 * lin(c.0) + 0.7152 * lin(c.1) + 0.0722 * lin(c.2);
-        // Every colour at least 3:1 against white, the contrast WCAG 2.1 (1.4.11) asks of
-        // graphics: (1 + 0.05) / (Y + 0.05).
-        for c in palette(5) {
-            assert!(1.05 / (y(&c) + 0.05) >= 3.0, "{c:?}: {:.2}:1 on white", 1.05 / (y(&c) + 0.05));
-        }
-        for n in 2..=4 {
-            let p = palette(n);
-            for i in 0..n {
-                for j in i + 1..n {
-                    assert!((y(&p[i]) - y(&p[j])).abs() >= 0.08, "palette of {n}: colours {i} and {j} too close in grey");
-                }
-            }
-        }
-    }
-}
+#[path = "plots_tests.rs"]
+mod tests;
