@@ -454,16 +454,22 @@ const CONFINED: &str = "VOICEKEEP_CONFINED_RENDER";
 fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, template_arg: Option<&str>) -> Result<(), u8> {
     // A quotation offers work: choices (`options`) or one proposal (`changes`).
     let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
+    // Work done: the job's `changes`, or a cabinet's own where no options are offered (in a
+    // quotation a cabinet's steps count only within the options).
+    let worked = !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty()));
+    let others = |but: &str| {
+        let list: Vec<&str> = ["customer", "archive"].into_iter().chain(worked.then_some("sale")).chain(proposes.then_some("quote")).filter(|t| *t != but).collect();
+        list.join(", ")
+    };
     if *template == Template::Quote && !proposes {
         say_err!("{}: a quotation offers work, and this job lists neither `options` nor `changes`", path.display());
-        say_err!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template (customer, archive, sale)");
+        say_err!("  hint: list the customer's choices under `options`, or the work you propose under `changes`; or choose another template ({})", others("quote"));
         return Err(PROBLEMS);
     }
     // A sale sheet records a refurbishment: a job with no work done has none to record.
-    let worked = !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
     if *template == Template::Sale && !worked {
-        say_err!("{}: a sale sheet records the work done on the speaker, and this job lists no `changes`", path.display());
-        say_err!("  hint: list the work done under `changes`; for a speaker inspected or quoted but not worked on, choose the customer, archive or quote template");
+        say_err!("{}: a sale sheet records the work done on the speaker, and this job lists no work done (`changes`)", path.display());
+        say_err!("  hint: list the work done under `changes`; for a speaker inspected or quoted but not worked on, choose another template ({})", others("sale"));
         return Err(PROBLEMS);
     }
     // The report never takes the place of the job or of anything it read.
@@ -540,61 +546,6 @@ fn text_width() -> usize {
         Some((terminal_size::Width(w), _)) if w >= 40 => w as usize,
         _ => 100,
     }
-}
-
-/// The `job:` block a starter prints: placeholders a shop fills in, never a sample's
-/// invented shop and customer.
-const STARTER_JOB: &str = "job:
-  number: JOB-0001                  # your job number
-  date: 2026-10-14                  # the report's date (never the clock): today's, as YYYY-MM-DD
-  work: what was done, in a line
-  technician: your name
-  shop: { name: your shop's name, address: \"street, town\", contact: phone or e-mail }
-  customer: { name: the customer's name, reference: their reference for the speaker }
-  speaker:
-    description: the speaker, in a line
-    serials: [serial of each cabinet]
-    rated_impedance: 8 ohm          # from the speaker's plate
-  notes: |
-    Bench notes, the shop's own: printed in the archive only.
-  customer_notes: |
-    Notes for the customer: printed in their report and the archive, never on the sale sheet.
-";
-
-/// A sample job with its opening comment and its `job:` block replaced by placeholders
-/// ([`STARTER_JOB`]).
-fn starter(name: &str, sample: &str) -> String {
-    let mut out = format!(
-        "# voicekeep starter job, from the {name} example. Fill in the job block, then replace the\n# network, readings and changes with your speaker's; `voicekeep check` lists every problem.\n# Values are \"number unit\" (3.3 uF, 0.27 mH, 2.2 ohm) or the RKM code printed on parts (2R2, 4u7).\n"
-    );
-    let mut skipping = false;
-    let mut in_photos = false;
-    for line in sample.lines().skip_while(|l| l.starts_with('#') || l.trim().is_empty()) {
-        // A sample's photographs are files beside it: a starter shows the form instead.
-        if line.starts_with("  photos:") {
-            out.push_str("  # photos:                        # JPEG or PNG files beside the job\n  #   - { file: before.jpg, caption: the board as it came in, taken: before }\n");
-            in_photos = true;
-            continue;
-        }
-        if in_photos && line.starts_with("    ") {
-            continue;
-        }
-        in_photos = false;
-        if line.starts_with("job:") {
-            out.push_str(STARTER_JOB);
-            skipping = true;
-            continue;
-        }
-        if skipping && !line.is_empty() && !line.starts_with(' ') && !line.starts_with('#') {
-            skipping = false;
-            out.push('\n');
-        }
-        if !skipping {
-            out.push_str(line);
-            out.push('\n');
-        }
-    }
-    out
 }
 
 fn new(example: &str) -> u8 {
@@ -694,3 +645,5 @@ fn batch(dir: &Path, out_dir: &Path) -> u8 {
 }
 
 mod confined;
+mod starter;
+use starter::starter;

@@ -287,9 +287,13 @@ fn a_quote_of_one_proposal_offers_the_work_in_the_future_and_asks_for_acceptance
     for wrong in ["Work done", "Replaced C1", "Fitted R9", "Option chosen", "Prices are for", "accepted as quoted", "at the prices quoted"] {
         assert!(!text.contains(wrong), "{wrong}: {text}");
     }
-    // With options, the customer writes the one chosen and prices are stated for the job.
+    // With options, the customer writes the one chosen and prices are stated for what they
+    // cover: one cabinet's network, of a job that lists two serials.
     let text = quote_text(SAMPLE);
-    assert!(text.contains("Option chosen") && text.contains("Prices are for the parts and labour listed, for the whole job;"), "{text}");
+    assert!(
+        text.contains("Option chosen") && text.contains("Prices are for the parts and labour listed, for one cabinet (the job lists two serials, each priced alike);"),
+        "{text}"
+    );
     // A pair's proposal is priced for both cabinets, labour and all.
     let text = quote_text("samples/pair-recap.yaml");
     for want in [

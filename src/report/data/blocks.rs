@@ -13,7 +13,9 @@ pub(super) fn header(c: &Ctx) -> JobHeader {
     let sale = c.audience == Audience::Sale;
     JobHeader {
         number: info.number.clone(),
-        work: info.work.clone(),
+        // The job's one-line title is the shop's (it may tell the owner's complaint or how the
+        // speaker was damaged): a buyer reads the speaker's description instead.
+        work: if sale { info.speaker_description.clone() } else { info.work.clone() },
         technician: info.technician.clone(),
         shop: Shop {
             name: info.shop_name.clone(),
@@ -89,7 +91,15 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
             .map(|l| {
                 let meaning =
                     if l.as_left_fault { "a fault: driver shorted or disconnected".to_string() } else { crate::analysis::levels::plain_meaning(l.passband_worst_db).to_string() };
-                let before = if l.as_found_fault { "silent: a fault".to_string() } else { db(l.as_found_db) };
+                // With nothing read on the bench, "before the work" is the design's own figure:
+                // said so, not printed as a finding of +0.00 dB.
+                let before = if l.as_found_fault {
+                    "silent: a fault".to_string()
+                } else if c.job.measured.is_empty() {
+                    "not read on the bench".to_string()
+                } else {
+                    db(l.as_found_db)
+                };
                 Row(vec![
                     driver_words(net, &l.driver),
                     before,
@@ -114,11 +124,12 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                     level(l.as_left_db),
                     if l.as_found_fault || l.as_left_fault { "-".into() } else { db(l.found_to_left_db) },
                     format!("{} ({} - {})", level(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
-                    l.left_flag.clone(),
+                    // Judged, as every sentence is, on the worst point over the working range.
+                    if l.as_left_fault { l.left_flag.clone() } else { crate::analysis::level_flag(l.passband_worst_db).to_string() },
                 ])
             })
             .collect();
-        Table::new(&["Driver", "Role", "Band", "As designed", "As found", "As left", "Found → left", "As left, worst in passband", "As left vs design"], rows)
+        Table::new(&["Driver", "Role", "Band", "As designed", "As found", "As left", "Found → left", "As left, worst in passband", "Worst vs design"], rows)
     };
     let crossovers = if c.audience.plain() {
         Table::default()

@@ -245,6 +245,9 @@ pub struct ReportData {
     pub terminals: Option<service::TerminalsData>,
     /// A quotation's line to sign and what its prices cover.
     pub quote: service::QuoteTerms,
+    /// Whether the job records work done (its `changes`, or a cabinet's where no options are
+    /// offered); an inspection or a quotation has none.
+    pub worked: bool,
 }
 
 /// The options side by side, each one's parts, and the recommendation.
@@ -398,13 +401,15 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         photos: service::photos(&c),
         terminals: service::terminals(&c),
         quote: service::quote_terms(&c, &f.parts, &f.options, 1),
+        worked: !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty())),
     };
 
     if let Some(ch) = &f.chosen {
         data.summary.push(ch.sentence.clone());
     }
-    // A quotation before any work: the speaker "after the work" is the speaker as it is now.
-    if job.changes.is_empty() && !job.options.is_empty() {
+    // A quotation before any work, or an inspection with none: the speaker "after the work"
+    // is the speaker as it is now.
+    if job.changes.is_empty() && (!job.options.is_empty() || job.cabinets.iter().all(|c| c.changes.is_empty())) {
         for h in &mut data.levels.table.header {
             *h = h.replace("After the work", "Now, before any work").replace("Before the work", "From the readings");
         }

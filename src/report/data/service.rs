@@ -107,7 +107,11 @@ pub(crate) fn quote_terms(c: &Ctx, parts: &crate::analysis::bom::PartsList, opti
     let job = c.job;
     let rate = job.quote.labour_rate;
     let currency = parts.currency.clone().or_else(|| job.quote.currency.clone()).map(|c| format!(" {c}")).unwrap_or_default();
+    let serials = job.info.serials.len();
     let whole = match cabinets {
+        // One cabinet's network for several serials: the prices are for one, as the options
+        // table says.
+        1 if serials > 1 => format!("one cabinet (the job lists {} serials, each priced alike)", super::words::count_words(serials)),
         1 => "the whole job".to_string(),
         2 => "the whole job, both cabinets".to_string(),
         n => format!("the whole job, all {} cabinets", super::words::count_words(n)),
@@ -299,18 +303,21 @@ pub(super) fn power(c: &Ctx) -> String {
         1 => format!("{} has no rating on record", capitalise(&named[0])),
         _ => format!("{} have no rating on record", capitalise(&join_and(&named))),
     };
+    // The driver makers' ratings come first only where a driver has one on record.
+    let rated_driver = net.drivers.iter().any(|d| d.rated_power.is_some());
+    let makers = if rated_driver { "the driver makers' ratings come first, and " } else { "" };
     let plain = match p.suits_w {
         Some(w) if p.unrated.is_empty() => format!(
             "This speaker suits an amplifier of up to {} W per channel into {into} ohm: up to that power, every part and driver stays within its rating on music. The ratings are for heat; a driver's cone travel at low frequencies can set a lower limit, and an amplifier driven into clipping can damage the speaker at any power.",
             trim_number(w, 3)
         ),
         Some(w) => format!(
-            "This speaker suits an amplifier of up to {} W per channel into {into} ohm, from the ratings on record. {unrated}, so the figure is no higher than the {} W the shop's figures assume; the driver makers' ratings come first, and an amplifier driven into clipping can damage the speaker at any power.",
+            "This speaker suits an amplifier of up to {} W per channel into {into} ohm, from the ratings on record. {unrated}, so the shop gives no figure above the {} W amplifier it worked these figures out for; {makers}an amplifier driven into clipping can damage the speaker at any power.",
             trim_number(w, 3),
             trim_number(p.job_w, 3)
         ),
         None => format!(
-            "No part or driver has a power rating on record, so these figures cannot say what amplifier power this speaker suits; they were worked at {} W per channel into {into} ohm. Ask the shop, and follow the driver makers' ratings.",
+            "No part or driver has a power rating on record, so these figures cannot say what amplifier power this speaker suits; they were worked out for {} W per channel into {into} ohm. Ask the shop.",
             trim_number(p.job_w, 3)
         ),
     };

@@ -40,7 +40,9 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
         .map(|(i, _)| i);
     let power = least.map(|i| {
         let p = each[i].power.clone();
-        if set.cabinets.len() > 1 {
+        if set.cabinets.len() > 1 && data_plain(template) {
+            format!("{p} (This is the lower of the cabinets' figures.)")
+        } else if set.cabinets.len() > 1 {
             format!("{p} (Cabinet {}, the least of the cabinets.)", names[i])
         } else {
             p
@@ -122,6 +124,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     summary.append(&mut data.summary);
     data.summary = summary;
     data.job.speaker.serials = names.clone();
+    data.worked = !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty()));
     // The parts for every cabinet's work, counted across the set.
     data.parts_to_buy = super::blocks::parts_to_buy(&set.parts);
     data.parts_total = super::blocks::parts_total(&set.parts);
@@ -142,6 +145,11 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     }
     super::trade_units(&mut data);
     data
+}
+
+/// Whether a template's reader gets plain words.
+fn data_plain(template: &Template) -> bool {
+    super::Audience::of(template) != super::Audience::Archive
 }
 
 /// "the two cabinets" or "the five cabinets".

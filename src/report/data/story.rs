@@ -15,6 +15,11 @@ fn quoting(job: &crate::model::Job) -> bool {
     job.changes.is_empty() && !job.options.is_empty()
 }
 
+/// A job with no work done and none offered: readings only, an inspection.
+fn no_work(job: &crate::model::Job) -> bool {
+    job.changes.is_empty() && job.options.is_empty() && job.cabinets.iter().all(|c| c.changes.is_empty())
+}
+
 pub(super) fn summary(c: &Ctx) -> Vec<String> {
     let (job, f) = (c.job, c.f);
     let net = &job.network;
@@ -105,7 +110,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             })
         };
         let kept: Vec<String> = flagged.iter().filter(|p| !touched(p)).map(|p| p.to_string()).collect();
-        if !kept.is_empty() && !quoting(job) {
+        if !kept.is_empty() && !quoting(job) && !no_work(job) {
             let (verb, them) = if kept.len() == 1 { ("was", "its") } else { ("were", "their") };
             if c.quote {
                 let verb = if kept.len() == 1 { "stays" } else { "stay" };
@@ -133,6 +138,14 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
         out.push("No work has been done yet: the options below are what the shop offers, each with what it would do and what it costs.".into());
         return out;
     }
+    if no_work(job) && !c.quote {
+        // An inspection: the speaker as it is, against its design.
+        let every = if faults.is_empty() { "every driver" } else { "every other driver" };
+        if !fine.is_empty() {
+            out.push(format!("No work has been done: as it is now, {every} plays within {worst:.2} dB of the original design at every frequency of its working range."));
+        }
+        return out;
+    }
     if !fine.is_empty() {
         let every = if faults.is_empty() { "every driver" } else { "every other driver" };
         let what = match (crate::analysis::level_flag(worst), plain) {
@@ -146,7 +159,11 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             (other, false) => format!("{other}; 3 dB is double the power, not double the loudness"),
         };
         let after = if c.quote { "After the proposed work" } else { "After the work" };
-        out.push(format!("{after}, {every} is calculated to play within {worst:.2} dB of the original design at every frequency of its working range: {what}."));
+        if worst < 0.005 {
+            out.push(format!("{after}, {every} is calculated to play as the original design did, to within 0.01 dB at every frequency of its working range."));
+        } else {
+            out.push(format!("{after}, {every} is calculated to play within {worst:.2} dB of the original design at every frequency of its working range: {what}."));
+        }
     }
     if !faults.is_empty() {
         out.push(format!(
@@ -279,7 +296,9 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
             "Amplifier: keep within the amplifier power given above. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
         });
         // The load is said in its own block; a quotation, which has none, says it here.
-        if c.quote {
+        if c.quote && !c.job.options.is_empty() {
+            s.push("Load: each option's lowest impedance is in the options table; use an amplifier its maker rates for that load or lower.".to_string());
+        } else if c.quote {
             s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
                 Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
                 None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
