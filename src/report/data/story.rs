@@ -156,7 +156,9 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             ("within 0.5 dB", false) => "within 0.5 dB; level changes below about 0.4 dB generally go unnoticed (Ballou, Handbook for Sound Engineers, 3.8.6)".to_string(),
             ("measurable", _) => "a measurable difference, though hard to hear".to_string(),
             (_, true) => "a difference likely to be heard".to_string(),
-            (other, false) => format!("{other}; 3 dB is double the power, not double the loudness"),
+            // Said where a difference reaches 3 dB, which a reader might take for twice as loud.
+            (other, false) if worst >= 3.0 => format!("{other}; 3 dB is double the power, not double the loudness (about 10 dB is heard as twice as loud)"),
+            (other, false) => other.to_string(),
         };
         let after = if c.quote { "After the proposed work" } else { "After the work" };
         if worst < 0.005 {
@@ -188,12 +190,23 @@ pub(super) fn work(c: &Ctx) -> Vec<String> {
             (ChangeStep::Replace { target, with: Patch::Part(_) }, true) => {
                 let (Some(old), Some(new)) = (net_found.part(target), net_left.part(target)) else { return format!("Replaced {target}.") };
                 // "(was a bipolar electrolytic capacitor)": the old part's type, with its noun.
-                let was = old
-                    .type_text
-                    .as_ref()
-                    .map(|t| if t.to_lowercase().contains(kind_noun(old.kind)) { t.clone() } else { format!("{t} {}", kind_noun(old.kind)) })
-                    .map(|t| format!(" (was {})", with_article(&t)))
-                    .unwrap_or_default();
+                // Like for like says why it was replaced instead: the part read open, shorted
+                // or out of its tolerance on the bench.
+                let like = old.type_text.is_some() && old.type_text == new.type_text;
+                let flagged = c.f.health.iter().find(|h| h.part == *target && !h.ok);
+                let was = if like {
+                    match (old.fault, flagged) {
+                        (Some(f), _) => format!(", like for like: the old one read {} on the bench", f.name()),
+                        (None, Some(_)) => ", like for like: the bench readings showed the old one worn".to_string(),
+                        (None, None) => ", like for like".to_string(),
+                    }
+                } else {
+                    old.type_text
+                        .as_ref()
+                        .map(|t| if t.to_lowercase().contains(kind_noun(old.kind)) { t.clone() } else { format!("{t} {}", kind_noun(old.kind)) })
+                        .map(|t| format!(" (was {})", with_article(&t)))
+                        .unwrap_or_default()
+                };
                 format!("Replaced {target}, {} in {}, with {}{was}.", with_article(kind_noun(old.kind)), part_place(net_left, target), fitted_words(c, new))
             }
             (ChangeStep::Replace { target, with: Patch::Part(_) }, false) => {
@@ -248,7 +261,12 @@ pub(super) fn added_line(c: &Ctx, number: usize, part: &Part, plain: bool, inser
             return format!("{} was planned in {} but not fitted: {why}.", part.name, part_place(net_left, &part.name));
         }
         let why = fit.map(|f| format!(" to bring {} back to its original level", driver_words(net_left, &f.driver))).unwrap_or_default();
-        return format!("Fitted {}, {}, in {}{why}.", part.name, fitted_words(c, fitted), part_place(net_left, &part.name));
+        // A shunt is fitted across its driver, as the compensation's sentence says.
+        let (place, why) = match fit.filter(|f| f.shunt) {
+            Some(f) => (format!("across {}", driver_words(net_left, &f.driver)), " to bring it back to its original level".to_string()),
+            None => (format!("in {}", part_place(net_left, &part.name)), why),
+        };
+        return format!("Fitted {}, {}, {place}{why}.", part.name, fitted_words(c, fitted));
     }
     // The shop's label for where it sits, when it gives one, in place of the nodes.
     if let Some(section) = &fitted.section {
