@@ -7,9 +7,9 @@ use std::path::Path;
 
 use crate::util::root;
 
-/// Every source file as its module path (`analysis::levels`, `report::data`), with its text.
-fn modules() -> BTreeMap<String, String> {
-    let mut out = BTreeMap::new();
+/// Every source file under src/.
+fn rs_files() -> Vec<std::path::PathBuf> {
+    let mut out = Vec::new();
     let mut stack = vec![root().join("src")];
     while let Some(dir) = stack.pop() {
         for e in std::fs::read_dir(&dir).unwrap().flatten() {
@@ -17,11 +17,16 @@ fn modules() -> BTreeMap<String, String> {
             if p.is_dir() {
                 stack.push(p);
             } else if p.extension().is_some_and(|x| x == "rs") {
-                out.insert(module_of(&p), std::fs::read_to_string(&p).unwrap());
+                out.push(p);
             }
         }
     }
     out
+}
+
+/// Every source file as its module path (`analysis::levels`, `report::data`), with its text.
+fn modules() -> BTreeMap<String, String> {
+    rs_files().into_iter().map(|p| (module_of(&p), std::fs::read_to_string(&p).unwrap())).collect()
 }
 
 fn module_of(p: &Path) -> String {
@@ -82,18 +87,7 @@ fn ancestor(a: &str, b: &str) -> bool {
 fn graph() -> BTreeMap<String, BTreeSet<String>> {
     let files = modules();
     let known: BTreeSet<String> = files.keys().cloned().collect();
-    let mut mod_rs = BTreeSet::new();
-    let mut stack = vec![root().join("src")];
-    while let Some(dir) = stack.pop() {
-        for e in std::fs::read_dir(&dir).unwrap().flatten() {
-            let p = e.path();
-            if p.is_dir() {
-                stack.push(p);
-            } else if p.file_name().is_some_and(|n| n == "mod.rs") {
-                mod_rs.insert(module_of(&p));
-            }
-        }
-    }
+    let mod_rs: BTreeSet<String> = rs_files().iter().filter(|p| p.file_name().is_some_and(|n| n == "mod.rs")).map(|p| module_of(p)).collect();
     files.iter().map(|(m, t)| (m.clone(), names(m, t, &known, mod_rs.contains(m)))).collect()
 }
 
