@@ -396,11 +396,17 @@ pub fn all_outcome(job: &Job, o: &Outcome) -> Vec<(PlotKind, String)> {
 /// A pair's or set's plots: the cabinets overlaid, told apart by line pattern.
 pub fn all_set(job: &Job, set: &SetFindings) -> Vec<(PlotKind, String)> {
     let mut out = Vec::new();
+    // With no work done (an inspection, or a quotation whose cabinet steps count only within
+    // its options) the speaker "as left" is the speaker as found: no plot claims otherwise.
+    let worked = !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty()));
     for (kind, r) in [
         (PlotKind::PairFound, set_change(job, set, Scenario::AsFound)),
         (PlotKind::PairLeft, set_change(job, set, Scenario::AsLeft)),
         (PlotKind::Impedance, set_impedance(job, set)),
     ] {
+        if kind == PlotKind::PairLeft && !worked {
+            continue;
+        }
         if let Ok(svg) = r {
             out.push((kind, svg));
         }

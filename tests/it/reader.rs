@@ -451,3 +451,23 @@ fn the_readers_tools_find_what_they_look_for() {
     assert_eq!(decibels("level -223.53 dB and +0.62 dB, 3 dB, 90 dB SPL"), vec![-223.53, 0.62, 3.0]);
     assert_eq!((sig3(5.8), sig3(5.7749), sig3(12.2), sig3(0.91), sig3(1500.0)), ("5.8".into(), "5.77".into(), "12.2".into(), "0.91".into(), "1500".into()));
 }
+
+/// A job with no work done (an inspection, or a quotation whose cabinet steps count only
+/// within its options) shows no plot or sentence of the speaker "after the work". Failed
+/// before on pair-quote's customer report: "The same as left, after the work: traces that lie
+/// together show a matched pair" under the as-found traces.
+#[test]
+fn a_job_with_no_work_done_shows_nothing_after_the_work() {
+    let mut bad = Vec::new();
+    for job in all().iter().filter(|j| ["pair-quote", "quote-three-options", "inspection-only"].contains(&j.name.as_str())) {
+        for r in job.reports.iter().filter(|r| r.template != "quote") {
+            let text = r.text();
+            for wrong in ["The same as left, after the work", "After the work,", "Work done"] {
+                if text.contains(wrong) {
+                    bad.push(format!("{}: \"{wrong}\"", r.name()));
+                }
+            }
+        }
+    }
+    verdict("no work", bad);
+}
