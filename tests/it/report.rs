@@ -297,3 +297,16 @@ fn a_pair_report_names_the_cabinet_and_part_at_fault_and_says_whether_the_pair_m
     assert!(sale.contains("The two cabinets now match"));
     assert!(!sale.contains("Vantongeren"));
 }
+
+#[test]
+fn a_part_whose_node_an_inserted_part_took_is_kept_not_changed() {
+    // The two-way demo without C1's replacement: R9 is still inserted where C1 meets IN, so
+    // C1's end moves to the new junction, and C1 itself is the part it was.
+    let text = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    let text = text.replace("  - replace: C1\n    with: { value: 3.3 uF, esr: 0.012 ohm, rating: 250 V, type: polypropylene film }\n", "");
+    let job = crate::util::job_from(&text);
+    let f = voicekeep::analysis::analyse(&job).unwrap();
+    let d = voicekeep::report::data::build(&job, &f, &voicekeep::model::Template::Archive, &[]);
+    let c1 = d.parts.rows.iter().find(|r| r.0[0] == "C1").unwrap();
+    assert_eq!(c1.0.last().unwrap(), "measured, kept; an inserted part now meets it", "{:?}", c1.0);
+}

@@ -324,9 +324,13 @@ pub(super) fn parts(c: &Ctx) -> Table {
                 None => format!("{}, {} - {}", any.kind.name(), left.network.node_label(&any.between[0]), left.network.node_label(&any.between[1])),
             };
             let t = |p: Option<&Part>| p.map(part_text).unwrap_or_else(|| "-".into());
+            // Only its nodes moved: a part inserted beside it took one of its ends.
+            let moved = |a: &Part, b: &Part| a.between != b.between && Part { between: b.between.clone(), ..a.clone() } == *b;
+            let measured_kept = c.job.measured.iter().any(|m| m.target == *n);
             let change = match (fo, l) {
                 (None, Some(_)) => "added".to_string(),
                 (Some(_), None) => "removed".to_string(),
+                (Some(a), Some(b)) if moved(a, b) => format!("{}kept; an inserted part now meets it", if measured_kept { "measured, " } else { "" }),
                 (Some(a), Some(b)) if a != b => {
                     if c.job.changes.iter().any(|ch| matches!(&ch.step, ChangeStep::Replace { target, .. } if target == n)) {
                         format!("replaced{}", b.type_text.as_ref().map(|t| format!(" ({t})")).unwrap_or_default())
