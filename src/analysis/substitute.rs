@@ -231,10 +231,16 @@ fn one(job: &Job, f: &Findings, name: &str) -> Option<Substitute> {
             Verdict::Over,
             format!("this substitute cannot be matched passively: it is {short:.1} dB short of the original even with nothing in series, and a passive part can only take level away; choose a more sensitive driver or attenuate the other drivers by as much"),
         ),
-        (true, None, Some(x)) => (
-            Verdict::Ok,
-            format!("{} ({}) brings it to {:+.2} dB of the original's acoustic output over its band", x.part, ohm(x.fitted_ohm), level_db),
-        ),
+        (true, None, Some(_)) => {
+            // Every part fitted for the driver counts: both arms of an L-pad.
+            let parts: Vec<String> = f.compensation.fits.iter().filter(|x| x.driver == name && !x.is_none() && !x.fault).map(|x| format!("{} ({})", x.part, ohm(x.fitted_ohm))).collect();
+            let (who, verb) = match parts.as_slice() {
+                [] => ("no compensating part".to_string(), "leaves"),
+                [one] => (one.clone(), "brings"),
+                [rest @ .., last] => (format!("{} and {last}", rest.join(", ")), "bring"),
+            };
+            (Verdict::Ok, format!("{who} {verb} it to {level_db:+.2} dB of the original's acoustic output over its band"))
+        }
         (true, None, None) => {
             let v = if level_db.abs() <= 0.5 { Verdict::Ok } else { Verdict::Check };
             let advice = if level_db > 0.5 { ": a series resistor or an L-pad (`value: auto` with a compensate entry) would take the excess away" } else if level_db < -0.5 { ": a passive part cannot raise it" } else { "" };

@@ -78,7 +78,10 @@ fn a_substitute_three_db_more_sensitive_gets_the_l_pad_of_the_l_pad_equations() 
     assert!((volts + 3.0).abs() < 0.1, "voltage {volts}");
     let sub = &f.substitutes[0];
     assert_eq!(sub.driver, "HF");
-    assert_eq!(sub.checks.iter().find(|c| c.check == "level").unwrap().verdict, Verdict::Ok);
+    let level = sub.checks.iter().find(|c| c.check == "level").unwrap();
+    assert_eq!(level.verdict, Verdict::Ok);
+    // Both arms of the L-pad bring it there, and the check names both.
+    assert!(level.reason.contains("RS (") && level.reason.contains(" and RP (") && level.reason.contains("bring it to"), "{}", level.reason);
 }
 
 #[test]
