@@ -454,9 +454,7 @@ const CONFINED: &str = "VOICEKEEP_CONFINED_RENDER";
 fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, template_arg: Option<&str>) -> Result<(), u8> {
     // A quotation offers work: choices (`options`) or one proposal (`changes`).
     let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
-    // Work done: the job's `changes`, or a cabinet's own where no options are offered (in a
-    // quotation a cabinet's steps count only within the options).
-    let worked = !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty()));
+    let worked = job.work_done();
     let others = |but: &str| {
         let list: Vec<&str> = ["customer", "archive"].into_iter().chain(worked.then_some("sale")).chain(proposes.then_some("quote")).filter(|t| *t != but).collect();
         list.join(", ")

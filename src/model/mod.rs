@@ -536,6 +536,13 @@ pub struct Job {
 }
 
 impl Job {
+    /// Whether the job records work done: its `changes`, or a cabinet's own where no options
+    /// are offered (in a quotation a cabinet's steps count only within its options). An
+    /// inspection or a quotation has none.
+    pub fn work_done(&self) -> bool {
+        !self.changes.is_empty() || (self.options.is_empty() && self.cabinets.iter().any(|c| !c.changes.is_empty()))
+    }
+
     /// The job of one cabinet of a set: the common readings and steps, then the cabinet's own.
     pub fn for_cabinet(&self, c: &Cabinet) -> Job {
         let mut job = self.clone();

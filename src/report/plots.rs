@@ -396,9 +396,8 @@ pub fn all_outcome(job: &Job, o: &Outcome) -> Vec<(PlotKind, String)> {
 /// A pair's or set's plots: the cabinets overlaid, told apart by line pattern.
 pub fn all_set(job: &Job, set: &SetFindings) -> Vec<(PlotKind, String)> {
     let mut out = Vec::new();
-    // With no work done (an inspection, or a quotation whose cabinet steps count only within
-    // its options) the speaker "as left" is the speaker as found: no plot claims otherwise.
-    let worked = !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty()));
+    // With no work done the speaker "as left" is the speaker as found: no plot claims otherwise.
+    let worked = job.work_done();
     for (kind, r) in [
         (PlotKind::PairFound, set_change(job, set, Scenario::AsFound)),
         (PlotKind::PairLeft, set_change(job, set, Scenario::AsLeft)),

@@ -401,7 +401,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         photos: service::photos(&c),
         terminals: service::terminals(&c),
         quote: service::quote_terms(&c, &f.parts, &f.options, 1),
-        worked: !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty())),
+        worked: job.work_done(),
     };
 
     if let Some(ch) = &f.chosen {
@@ -409,7 +409,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
     }
     // A quotation before any work, or an inspection with none: the speaker "after the work"
     // is the speaker as it is now.
-    if job.changes.is_empty() && (!job.options.is_empty() || job.cabinets.iter().all(|c| c.changes.is_empty())) {
+    if !job.work_done() {
         for h in &mut data.levels.table.header {
             *h = h.replace("After the work", "Now, before any work").replace("Before the work", "From the readings");
         }

@@ -124,7 +124,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     summary.append(&mut data.summary);
     data.summary = summary;
     data.job.speaker.serials = names.clone();
-    data.worked = !job.changes.is_empty() || (job.options.is_empty() && job.cabinets.iter().any(|c| !c.changes.is_empty()));
+    data.worked = job.work_done();
     // The parts for every cabinet's work, counted across the set.
     data.parts_to_buy = super::blocks::parts_to_buy(&set.parts);
     data.parts_total = super::blocks::parts_total(&set.parts);

@@ -17,7 +17,7 @@ fn quoting(job: &crate::model::Job) -> bool {
 
 /// A job with no work done and none offered: readings only, an inspection.
 fn no_work(job: &crate::model::Job) -> bool {
-    job.changes.is_empty() && job.options.is_empty() && job.cabinets.iter().all(|c| c.changes.is_empty())
+    !job.work_done() && job.options.is_empty()
 }
 
 pub(super) fn summary(c: &Ctx) -> Vec<String> {
