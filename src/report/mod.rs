@@ -62,6 +62,53 @@ impl std::error::Error for ReportError {}
 /// Renders the report of a job of one cabinet or several to PDF bytes. The same job and
 /// findings always give the same bytes.
 pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Result<Vec<u8>, ReportError> {
+    let archive = matches!(template, Template::Archive);
+    let doc = typeset(job, outcome, template)?;
+    let d = job.info.date;
+    let date = Datetime::from_ymd(d.year, d.month, d.day);
+    let standards = if archive { PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| ReportError::Pdf(format!("{e:?}")))? } else { PdfStandards::default() };
+    let options = PdfOptions {
+        ident: Smart::Custom(format!("voicekeep {} {}", job.info.number, job.info.date)),
+        creator: Smart::Custom(Some(format!("voicekeep {}", crate::results::VERSION))),
+        timestamp: date.map(Timestamp::new_utc),
+        standards,
+        ..Default::default()
+    };
+    typst_pdf::pdf(&doc, &options).map_err(|diags| ReportError::Pdf(diags.iter().map(|d| d.message.to_string()).collect::<Vec<_>>().join("; ")))
+}
+
+/// Where a layout mark of the built-in templates fell: `kind` is what the template marked
+/// (`table` where a table starts, `row` at each of its body rows, `end` after it; `figure`
+/// at a figure's top and `figure-end` below its caption), `page` counts from 1 and `y` is
+/// points down from the page's top edge. The marks are invisible; the tests read them to
+/// check the layout a reader sees (no table split by a figure, no row alone at a page's foot).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Mark {
+    pub kind: String,
+    pub page: usize,
+    pub y: f64,
+}
+
+/// The layout marks of a report, in the document's order.
+pub fn layout_marks(job: &Job, outcome: &Outcome, template: &Template) -> Result<Vec<Mark>, ReportError> {
+    use typst::foundations::{Label, Selector};
+    use typst::introspection::{Introspector, MetadataElem};
+    let doc = typeset(job, outcome, template)?;
+    let label = Label::new(typst::utils::PicoStr::intern("vk-mark")).expect("a label's name is not empty");
+    let introspector = doc.introspector();
+    let found = introspector.query(&Selector::Label(label));
+    Ok(found
+        .iter()
+        .filter_map(|c| {
+            let kind = c.to_packed::<MetadataElem>()?.value.clone().cast::<typst::foundations::Str>().ok()?.to_string();
+            let at = introspector.position(c.location()?)?;
+            Some(Mark { kind, page: at.page.get(), y: at.point.y.to_pt() })
+        })
+        .collect())
+}
+
+/// Lays out the report: the template over the report's data, plots and inputs.
+fn typeset(job: &Job, outcome: &Outcome, template: &Template) -> Result<PagedDocument, ReportError> {
     let (main_name, main_text) = match template {
         Template::Customer => ("customer.typ".to_string(), CUSTOMER_TYP.to_string()),
         Template::Archive => ("archive.typ".to_string(), ARCHIVE_TYP.to_string()),
@@ -70,7 +117,6 @@ pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Resu
         // A shop template's text came in with the job: rendering reads nothing from disk.
         Template::File { name, text } => (std::path::Path::new(name).file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text.clone()),
     };
-    let archive = matches!(template, Template::Archive);
     let results = serde_json::to_vec_pretty(&crate::results::json_outcome(job, outcome)).map_err(|e| ReportError::Pdf(e.to_string()))?;
     let plots = plots::all_outcome(job, outcome);
     let kinds: Vec<crate::model::PlotKind> = plots.iter().map(|(k, _)| *k).collect();
@@ -111,15 +157,7 @@ pub fn render_outcome(job: &Job, outcome: &Outcome, template: &Template) -> Resu
             messages: vec![format!("{main_name}: the report would run to {} pages, above the {MAX_PAGES} a report may have; no report was written", doc.pages().len())],
         });
     }
-    let standards = if archive { PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| ReportError::Pdf(format!("{e:?}")))? } else { PdfStandards::default() };
-    let options = PdfOptions {
-        ident: Smart::Custom(format!("voicekeep {} {}", job.info.number, job.info.date)),
-        creator: Smart::Custom(Some(format!("voicekeep {}", crate::results::VERSION))),
-        timestamp: date.map(Timestamp::new_utc),
-        standards,
-        ..Default::default()
-    };
-    typst_pdf::pdf(&doc, &options).map_err(|diags| ReportError::Pdf(diags.iter().map(|d| d.message.to_string()).collect::<Vec<_>>().join("; ")))
+    Ok(doc)
 }
 
 /// A Typst world whose today is the job's date: a template calling `datetime.today()` gets

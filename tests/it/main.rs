@@ -14,6 +14,7 @@ mod interrupted;
 mod layout;
 mod nodal;
 mod options;
+mod pages;
 mod pair;
 mod parts;
 mod props;

@@ -17,7 +17,7 @@ const TEMPLATES: [&str; 4] = ["customer", "archive", "sale", "quote"];
 
 /// Every job the harness reads: the samples, the reference networks, the sweep networks and
 /// the harness's own jobs (tests/reader/, each made for a sentence that once read false).
-fn jobs() -> Vec<PathBuf> {
+pub fn jobs() -> Vec<PathBuf> {
     let mut out = Vec::new();
     for dir in ["samples", "tests/reference", "tests/reader"] {
         let Ok(entries) = std::fs::read_dir(root().join(dir)) else { continue };
