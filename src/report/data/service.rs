@@ -85,7 +85,7 @@ pub(super) fn service(c: &Ctx) -> Option<ServiceData> {
         Table::new(&["Item", "Result", "Note"], s.inspection.iter().map(|i| Row(vec![i.item.clone(), i.result.words().to_string(), i.note.clone().unwrap_or_default()])).collect());
     let count = |r: crate::model::service::InspectionResult| s.inspection.iter().filter(|i| i.result == r).count();
     use crate::model::service::InspectionResult as R;
-    let parts: Vec<String> = [R::Pass, R::Fixed, R::Fail, R::NotChecked].iter().filter(|r| count(**r) > 0).map(|r| format!("{} {}", count(*r), r.words())).collect();
+    let parts: Vec<String> = [R::Pass, R::Fixed, R::Fail, R::NotChecked, R::NoneFitted].iter().filter(|r| count(**r) > 0).map(|r| format!("{} {}", count(*r), r.words())).collect();
     let inspection_summary = if s.inspection.is_empty() { String::new() } else { format!("{} items: {}.", s.inspection.len(), parts.join(", ")) };
     Some(ServiceData { record: Table::new(&["", ""], rows), inspection, inspection_summary, condition: s.condition.clone(), technician: c.job.info.technician.clone() })
 }
@@ -288,7 +288,12 @@ pub(super) fn history(c: &Ctx) -> Table {
 pub(super) fn power(c: &Ctx) -> String {
     let p = &c.f.power;
     let net = &c.f.scenes.as_left.network;
-    let into = trim_number(p.into_ohm, 3);
+    // The figure is an amplifier's rating into its rated load: on a speaker of another
+    // impedance "into 8 ohm" would read as the speaker's, so the sentence names both.
+    let (speaker, into) = match c.job.info.rated_impedance {
+        Some(r) if (r - p.into_ohm).abs() > 1e-9 => (format!("This {} ohm speaker", trim_number(r, 3)), format!("by the amplifier's {} ohm rating", trim_number(p.into_ohm, 3))),
+        _ => ("This speaker".to_string(), format!("into {} ohm", trim_number(p.into_ohm, 3))),
+    };
     let named: Vec<String> = p
         .unrated
         .iter()
@@ -308,17 +313,18 @@ pub(super) fn power(c: &Ctx) -> String {
     let makers = if rated_driver { "the driver makers' ratings come first, and " } else { "" };
     let plain = match p.suits_w {
         Some(w) if p.unrated.is_empty() => format!(
-            "This speaker suits an amplifier of up to {} W per channel into {into} ohm: up to that power, every part and driver stays within its rating on music. The ratings are for heat; a driver's cone travel at low frequencies can set a lower limit, and an amplifier driven into clipping can damage the speaker at any power.",
+            "{speaker} suits an amplifier of up to {} W per channel {into}: up to that power, every part and driver stays within its rating on music. The ratings are for heat; a driver's cone travel at low frequencies can set a lower limit, and an amplifier driven into clipping can damage the speaker at any power.",
             trim_number(w, 3)
         ),
         Some(w) => format!(
-            "This speaker suits an amplifier of up to {} W per channel into {into} ohm, from the ratings on record. {unrated}, so the shop gives no figure above the {} W amplifier it worked these figures out for; {makers}an amplifier driven into clipping can damage the speaker at any power.",
+            "{speaker} suits an amplifier of up to {} W per channel {into}, from the ratings on record. {unrated}, so the shop gives no figure above the {} W amplifier it worked these figures out for; {makers}an amplifier driven into clipping can damage the speaker at any power.",
             trim_number(w, 3),
             trim_number(p.job_w, 3)
         ),
         None => format!(
-            "No part or driver has a power rating on record, so these figures cannot say what amplifier power this speaker suits; they were worked out for {} W per channel into {into} ohm. Ask the shop.",
-            trim_number(p.job_w, 3)
+            "No part or driver has a power rating on record, so these figures cannot say what amplifier power this speaker suits; they were worked out for an amplifier of {} W per channel into {} ohm. Ask the shop.",
+            trim_number(p.job_w, 3),
+            trim_number(p.into_ohm, 3)
         ),
     };
     if c.audience.plain() {
