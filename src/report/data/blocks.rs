@@ -100,8 +100,11 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                 } else {
                     db(l.as_found_db)
                 };
+                // Each measure beside the range it is taken over: the average over the band,
+                // the largest difference over the working range (which the band may not span).
                 Row(vec![
                     driver_words(net, &l.driver),
+                    format!("{} to {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))),
                     before,
                     level(l.as_left_db),
                     format!("{} ({} to {})", level(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
@@ -109,7 +112,7 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                 ])
             })
             .collect();
-        Table::new(&["Driver", "Before the work (average)", "After the work (average)", "After the work, largest difference", "What that means"], rows)
+        Table::new(&["Driver", "Averaged over", "Before the work (average)", "After the work (average)", "After the work, largest difference (range)", "What that means"], rows)
     } else {
         let rows = f
             .levels
