@@ -401,7 +401,7 @@ pub fn all_set(job: &Job, set: &SetFindings) -> Vec<(PlotKind, String)> {
     for (kind, r) in [
         (PlotKind::PairFound, set_change(job, set, Scenario::AsFound)),
         (PlotKind::PairLeft, set_change(job, set, Scenario::AsLeft)),
-        (PlotKind::Impedance, set_impedance(job, set)),
+        (PlotKind::Impedance, set_impedance(job, set, worked)),
     ] {
         if kind == PlotKind::PairLeft && !worked {
             continue;
@@ -459,8 +459,9 @@ fn compared<'a>(f: &'a Findings, di: usize, s: &'a crate::analysis::Scene, k: us
     }
 }
 
-/// Each cabinet's impedance magnitude as left, with the design's.
-fn set_impedance(job: &Job, set: &SetFindings) -> Result<String, Box<dyn std::error::Error>> {
+/// Each cabinet's impedance magnitude as left (as found, with no work done), with the design's.
+fn set_impedance(job: &Job, set: &SetFindings, worked: bool) -> Result<String, Box<dyn std::error::Error>> {
+    let now = if worked { "as left" } else { "as found" };
     let first = &set.cabinets.first().ok_or("no cabinets")?.findings;
     let log = |z: &num_complex::Complex64| z.norm().max(1e-3).log10();
     let mut curves: Vec<Curve> = set
@@ -468,7 +469,7 @@ fn set_impedance(job: &Job, set: &SetFindings) -> Result<String, Box<dyn std::er
         .iter()
         .enumerate()
         .map(|(k, c)| Curve {
-            label: format!("|Z| cabinet {} as left", c.name),
+            label: format!("|Z| cabinet {} {now}", c.name),
             colour: NAVY,
             pattern: cabinet_pattern(k),
             points: c.findings.freqs.iter().cloned().zip(c.findings.scenes.as_left.z.iter().map(log)).collect(),
@@ -480,7 +481,7 @@ fn set_impedance(job: &Job, set: &SetFindings) -> Result<String, Box<dyn std::er
         pattern: Pattern::Long,
         points: first.freqs.iter().cloned().zip(first.scenes.as_designed.z.iter().map(log)).collect(),
     });
-    impedance_chart(job, "Input impedance magnitude at the amplifier terminals, each cabinet as left", "|Z| (Ω)", xr(first), curves)
+    impedance_chart(job, &format!("Input impedance magnitude at the amplifier terminals, each cabinet {now}"), "|Z| (Ω)", xr(first), curves)
 }
 
 /// A log |Z| chart of `curves` with the 80 % floor of the rated impedance drawn in.
@@ -504,9 +505,10 @@ fn impedance_chart(job: &Job, title: &str, y_label: &str, x: (f64, f64), curves:
     })
 }
 
-/// The caption of a pair's or set's plot.
-pub fn set_caption(kind: PlotKind) -> &'static str {
+/// The caption of a pair's or set's plot; with no work done the cabinets are drawn as found.
+pub fn set_caption(kind: PlotKind, worked: bool) -> &'static str {
     match kind {
+        PlotKind::Impedance if !worked => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as found, before any work (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
         PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
         k => caption(k),
     }

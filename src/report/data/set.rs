@@ -130,7 +130,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     data.parts_total = super::blocks::parts_total(&set.parts);
     for p in &mut data.plots {
         if let Some(k) = PlotKind::ALL.iter().find(|k| k.name() == p.name) {
-            p.caption = crate::report::plots::set_caption(*k).into();
+            p.caption = crate::report::plots::set_caption(*k, data.worked).into();
         }
     }
     data.pair = Some(pair);
