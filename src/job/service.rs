@@ -156,7 +156,7 @@ fn inspection(node: &Node, path: &str, ctx: &mut Ctx) -> Vec<InspectionItem> {
             Node::Scalar { .. } => (ctx.choice(v, &field, &results), None),
             _ => {
                 let Some(g) = ctx.fields(v, &field, &["result", "note"]) else { continue };
-                let result = ctx.req(&g, "result", "pass, fail, fixed or not checked").and_then(|n| ctx.choice(n, &g.at("result"), &results));
+                let result = ctx.req(&g, "result", "pass, fail, fixed, not checked or none fitted").and_then(|n| ctx.choice(n, &g.at("result"), &results));
                 (result, ctx.opt_text(&g, "note"))
             }
         };

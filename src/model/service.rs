@@ -12,11 +12,19 @@ pub enum InspectionResult {
     Fail,
     Fixed,
     NotChecked,
+    /// The model has no such item (a speaker built without a protection device): nothing to
+    /// check, which "not checked" would leave open.
+    NoneFitted,
 }
 
 impl InspectionResult {
-    pub const ALL: [(&'static str, InspectionResult); 4] =
-        [("pass", InspectionResult::Pass), ("fail", InspectionResult::Fail), ("fixed", InspectionResult::Fixed), ("not checked", InspectionResult::NotChecked)];
+    pub const ALL: [(&'static str, InspectionResult); 5] = [
+        ("pass", InspectionResult::Pass),
+        ("fail", InspectionResult::Fail),
+        ("fixed", InspectionResult::Fixed),
+        ("not checked", InspectionResult::NotChecked),
+        ("none fitted", InspectionResult::NoneFitted),
+    ];
 
     pub fn words(self) -> &'static str {
         match self {
@@ -24,6 +32,7 @@ impl InspectionResult {
             InspectionResult::Fail => "fail",
             InspectionResult::Fixed => "fixed",
             InspectionResult::NotChecked => "not checked",
+            InspectionResult::NoneFitted => "none fitted",
         }
     }
 }

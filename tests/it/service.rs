@@ -142,6 +142,9 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
     // facts: the amplifier power the speaker suits (one figure, as the sale sheet's), bands
     // within 20 Hz to 20 kHz and a sweep ending on its end point, the bench notes the shop's
     // own (the customer's notes in their place), no standard's number, the load said once.
+    // A third time on purpose: the levels table names the range each average is taken over,
+    // and a speaker rated at another impedance than the amplifier's load reads the power as
+    // the amplifier's rating ("This 4 ohm speaker ... by the amplifier's 8 ohm rating").
     for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
         let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
         o.code(0);
@@ -181,7 +184,9 @@ fn every_service_field_reaches_the_templates_that_show_it() {
         "Very good: the veneer has two light marks on the top; grille as new",
         "one crimp on the tweeter lead re-made",
         "crossover board mounting",
-        "12 items: 8 pass, 3 fixed, 1 not checked.",
+        // The protection item is `none fitted`: this model has none, so nothing was left
+        // unchecked (it read "not checked" beside "no protection device fitted" before).
+        "12 items: 8 pass, 3 fixed, 1 none fitted.",
     ];
     let owner = [
         "No treble from the left speaker since a party",
@@ -191,7 +196,13 @@ fn every_service_field_reaches_the_templates_that_show_it() {
         "1.5 h at 44.00 EUR an hour: 66.00 EUR",
         "Work done and checked by M. Okafor.",
     ];
-    let archive_only = ["maker Corran Resistors, part no. CW10-1R5J, from Easterfold Components, lot 2634", "removed: marked \"1R5 J 5W\"", "removed: marked \"0.82"];
+    let archive_only = [
+        "none fitted",
+        "this model has no protection device",
+        "maker Corran Resistors, part no. CW10-1R5J, from Easterfold Components, lot 2634",
+        "removed: marked \"1R5 J 5W\"",
+        "removed: marked \"0.82",
+    ];
     let (_, customer) = render(REPAIR, "customer");
     let (_, archive) = render(REPAIR, "archive");
     let (_, sale) = render(REPAIR, "sale");
