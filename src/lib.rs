@@ -16,5 +16,6 @@ pub mod model;
 pub mod money;
 pub mod report;
 pub mod results;
+pub mod schematic;
 pub mod text;
 pub mod units;
