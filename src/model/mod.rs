@@ -317,12 +317,14 @@ pub enum Block {
     Photos,
     /// The sweeps at the terminals: the prediction confirmed, and the diagnosis.
     Terminals,
+    /// The crossover drawn: the views the template shows (see `crate::schematic`).
+    Schematic,
     Plot(PlotKind),
 }
 
 impl Block {
     /// The named blocks, as `report.blocks` spells them (besides `text:` and `plot:`).
-    pub const NAMES: [&'static str; 18] = [
+    pub const NAMES: [&'static str; 19] = [
         "levels",
         "parts",
         "compensation",
@@ -341,6 +343,7 @@ impl Block {
         "power",
         "photos",
         "terminals",
+        "schematic",
     ];
 
     pub fn named(name: &str) -> Option<Block> {
@@ -363,6 +366,7 @@ impl Block {
             "power" => Block::Power,
             "photos" => Block::Photos,
             "terminals" => Block::Terminals,
+            "schematic" => Block::Schematic,
             _ => return None,
         })
     }
@@ -391,6 +395,7 @@ impl Block {
             Block::Power => "power",
             Block::Photos => "photos",
             Block::Terminals => "terminals",
+            Block::Schematic => "schematic",
         }
     }
 }

@@ -107,6 +107,29 @@ pub fn layout_marks(job: &Job, outcome: &Outcome, template: &Template) -> Result
         .collect())
 }
 
+/// The drawings of the crossover a template shows, laid out and written as SVG: the
+/// customer's report and the sale sheet the speaker as it is now (as left, or as found with
+/// no work done), the archive every view, the quotation what it proposes.
+pub fn schematics_for(job: &Job, outcome: &Outcome, template: &Template) -> Vec<(crate::schematic::view::View, crate::schematic::Drawing, String)> {
+    let quote = matches!(template, Template::Quote);
+    let all = crate::schematic::view::views(job, outcome, quote);
+    let now = if all.iter().any(|v| v.name == "as-left") { "as-left" } else { "designed" };
+    let only = all.len() == 1;
+    let keep = |name: &str| match template {
+        Template::Customer | Template::Sale => name == now,
+        Template::Quote => name != "designed" || only,
+        Template::Archive | Template::File { .. } => true,
+    };
+    all.into_iter()
+        .filter(|v| keep(&v.name))
+        .map(|v| {
+            let d = crate::schematic::layout::layout(&v.circuit);
+            let svg = crate::schematic::svg::render(&d, &v.circuit);
+            (v, d, svg)
+        })
+        .collect()
+}
+
 /// Lays out the report: the template over the report's data, plots and inputs.
 fn typeset(job: &Job, outcome: &Outcome, template: &Template) -> Result<PagedDocument, ReportError> {
     let (main_name, main_text) = match template {
@@ -120,10 +143,13 @@ fn typeset(job: &Job, outcome: &Outcome, template: &Template) -> Result<PagedDoc
     let results = serde_json::to_vec_pretty(&crate::results::json_outcome(job, outcome)).map_err(|e| ReportError::Pdf(e.to_string()))?;
     let plots = plots::all_outcome(job, outcome);
     let kinds: Vec<crate::model::PlotKind> = plots.iter().map(|(k, _)| *k).collect();
-    let report_data = match outcome {
+    let mut report_data = match outcome {
         Outcome::One(f) => data::build(job, f, template, &kinds),
         Outcome::Set(set) => data::build_set(job, set, template, &kinds),
     };
+    let views = schematics_for(job, outcome, template);
+    report_data.schematics =
+        views.iter().map(|(v, d, _)| data::SchematicData { name: v.name.clone(), caption: v.caption.clone(), width_pt: (d.width as f64 * 0.75).min(470.0) }).collect();
     // Every text the template sets, with any character no font has replaced (`check` warns
     // of each): a missing glyph would print as an empty box, and the archive's PDF/A refuses it.
     let mut data_value = serde_json::to_value(&report_data).map_err(|e| ReportError::Pdf(e.to_string()))?;
@@ -133,6 +159,9 @@ fn typeset(job: &Job, outcome: &Outcome, template: &Template) -> Result<PagedDoc
     let mut binaries: Vec<(String, Vec<u8>)> = vec![("data.json".into(), data_json), ("results.json".into(), results)];
     for (kind, svg) in plots {
         binaries.push((format!("plots/{}.svg", kind.name()), svg.into_bytes()));
+    }
+    for (v, _, svg) in views {
+        binaries.push((format!("plots/schematic-{}.svg", v.name), svg.into_bytes()));
     }
     for (i, input) in job.inputs.iter().enumerate() {
         binaries.push((format!("inputs/{i}"), input.bytes.clone()));

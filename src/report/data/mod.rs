@@ -192,6 +192,15 @@ pub struct PlotData {
     pub caption: String,
 }
 
+/// A drawing of the crossover (`/plots/schematic-NAME.svg`) and the width it is set at:
+/// its natural size, so its labels keep their size, within the text width.
+#[derive(Debug, Serialize)]
+pub struct SchematicData {
+    pub name: String,
+    pub caption: String,
+    pub width_pt: f64,
+}
+
 #[derive(Debug, Serialize)]
 pub struct Attachment {
     pub name: String,
@@ -223,6 +232,8 @@ pub struct ReportData {
     pub inputs: Table,
     pub attachments: Vec<Attachment>,
     pub plots: Vec<PlotData>,
+    /// The drawings of the crossover this template shows, set after the data is built.
+    pub schematics: Vec<SchematicData>,
     /// How the cabinets of a pair or set match; None for a job of one cabinet.
     pub pair: Option<PairData>,
     pub substitutes: Vec<SubstituteData>,
@@ -358,6 +369,7 @@ fn block_data(b: &Block) -> BlockData {
         Block::Power => ("power", None, None),
         Block::Photos => ("photos", None, None),
         Block::Terminals => ("terminals", None, None),
+        Block::Schematic => ("schematic", None, None),
     };
     BlockData { kind: kind.into(), text, plot }
 }
@@ -390,6 +402,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         inputs: inputs(&c),
         attachments: attachments(&c),
         plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k).into() }).collect(),
+        schematics: Vec::new(),
         pair: None,
         substitutes: substitutes(&c),
         parts_to_buy: parts_to_buy(&f.parts),
