@@ -55,6 +55,9 @@ enum Command {
     Check {
         /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
+        /// Also draw the network as typed (JOB-schematic.svg beside the job), to compare with the board before going on
+        #[arg(long)]
+        draw: bool,
     },
     /// Solve the job and print the compensation plan, levels, load and stress
     Solve {
@@ -151,7 +154,7 @@ where
     };
     OUTSIDE.store(cli.allow_outside, std::sync::atomic::Ordering::Relaxed);
     ExitCode::from(match cli.command {
-        Command::Check { job } => check(&job),
+        Command::Check { job, draw } => check(&job, draw),
         Command::Solve { job, format } => solve(&job, format),
         Command::Report { job, output, template } => report_cmd(&job, output, template),
         Command::Plot { job, out, format } => plot(&job, &out, format),
@@ -244,9 +247,16 @@ fn count(n: usize, noun: &str) -> String {
     format!("{n} {noun}{}", if n == 1 { "" } else { "s" })
 }
 
-fn check(path: &Path) -> u8 {
+fn check(path: &Path, draw: bool) -> u8 {
     match load(path) {
         Ok(job) => {
+            // Drawn before solving: a network typed wrong may not solve, and the drawing is
+            // how the technician sees where.
+            if draw {
+                if let Err(code) = draw_typed(path, &job) {
+                    return code;
+                }
+            }
             // Solving is part of checking: a network that cannot be solved is a problem in the job.
             match analyse(path, &job) {
                 Ok(_) => {
@@ -511,8 +521,13 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
     let mut written = String::new();
     // Named after the job, so the plots of several jobs can share a folder.
     let stem = if path.as_os_str() == "-" { "standard-input".into() } else { path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into()) };
-    for (kind, svg) in report::plots::all_outcome(&job, &f) {
-        let name = kind.name();
+    // The plots, then the crossover drawn: as designed, as left, each option as proposed.
+    let mut drawings: Vec<(String, String)> = report::plots::all_outcome(&job, &f).into_iter().map(|(k, svg)| (k.name().to_string(), svg)).collect();
+    for v in crate::schematic::view::views(&job, &f, false) {
+        let svg = crate::schematic::svg::render(&crate::schematic::layout::layout(&v.circuit), &v.circuit);
+        drawings.push((format!("schematic-{}", v.name), svg));
+    }
+    for (name, svg) in drawings {
         let (file, bytes) = match format {
             PlotFormat::Svg => (dir.join(format!("{stem}-{name}.svg")), svg.into_bytes()),
             PlotFormat::Png => match report::plots::svg_to_png(&svg) {
@@ -535,6 +550,31 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
         written.push_str(&format!("wrote {}\n", file.display()));
     }
     out(&written)
+}
+
+/// Writes the network as typed, drawn, beside the job as JOB-schematic.svg.
+fn draw_typed(path: &Path, job: &Job) -> Result<(), u8> {
+    if path.as_os_str() == "-" {
+        say_err!("voicekeep: --draw writes the drawing beside the job file, and a job read from standard input has none");
+        say_err!("  hint: save the job to a file and check that");
+        return Err(USAGE);
+    }
+    let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into());
+    let file = path.with_file_name(format!("{stem}-schematic.svg"));
+    let c = crate::schematic::view::circuit(&job.network);
+    let svg = crate::schematic::svg::render(&crate::schematic::layout::layout(&c), &c);
+    if read_by(path, job).contains(&where_written(&file)) {
+        say_err!("{}: the drawing would overwrite {}, one of the job's own inputs", path.display(), file.display());
+        return Err(PROBLEMS);
+    }
+    report::write_atomically(&file, svg.as_bytes()).map_err(|e| {
+        say_err!("voicekeep: cannot write {}: {e}", file.display());
+        FAILURE
+    })?;
+    match out(&format!("drew {}\n", file.display())) {
+        OK => Ok(()),
+        code => Err(code),
+    }
 }
 
 /// The width `solve` wraps its text to: the terminal's, or 100 columns when the output is

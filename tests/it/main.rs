@@ -21,6 +21,7 @@ mod props;
 mod reader;
 mod reference;
 mod report;
+mod schematic;
 mod service;
 mod substitute;
 mod terminals;
