@@ -494,3 +494,34 @@ fn a_job_with_no_work_done_shows_nothing_after_the_work() {
     }
     verdict("no work", bad);
 }
+
+/// A plain report says what its figures are and warns the owner who plays test tones.
+/// Failed before on every customer report ("the shop confirms them by measurement" with no
+/// measurement in the job) and on two-way-recap, whose R9 passes its rating on a steady
+/// full-level tone from about 14 W while the report said only "up to 60 W".
+#[test]
+fn plain_reports_say_the_figures_are_a_prediction_and_warn_of_steady_tones() {
+    let mut bad = Vec::new();
+    for job in all() {
+        for r in job.reports.iter().filter(|r| r.plain() && r.template != "quote") {
+            let text = r.text();
+            if text.contains("confirms them by measurement") {
+                bad.push(format!("{}: promises a measurement", r.name()));
+            }
+            for c in cabinets(&job.json) {
+                let p = &c["power_range"];
+                let (Some(sine), Some(suits)) = (p["sine_max_w"].as_f64(), p["suits_w"].as_f64().or(p["job_w"].as_f64())) else { continue };
+                if sine < suits {
+                    // Two significant figures, rounded down, worked here from the JSON.
+                    let step = 10f64.powf(sine.log10().floor() - 1.0);
+                    let w = (sine / step + 1e-9).floor() * step;
+                    let want = format!("from about {} W of amplifier power", if w >= 10.0 { format!("{w:.0}") } else { format!("{w:.1}").trim_end_matches(".0").to_string() });
+                    if !text.contains("Test tones:") || !text.contains(&want) {
+                        bad.push(format!("{}: no steady-tone caution \"{want}\"", r.name()));
+                    }
+                }
+            }
+        }
+    }
+    verdict("what the figures are", bad);
+}

@@ -305,7 +305,13 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
     let mut s = Vec::new();
     let over = over_as_left(f);
     if c.audience.plain() {
-        s.push("These figures are calculated from the parts' values and readings; the shop confirms them by measurement.".to_string());
+        // Said as what they are: a prediction, unless a sweep at the terminals after the work
+        // was measured (its result is in the terminals block).
+        s.push(if c.job.terminals.as_left.is_some() && !c.quote {
+            "These figures are calculated from the parts' values and readings; the sweep measured at the speaker's terminals after the work is set against them above.".to_string()
+        } else {
+            "These figures are calculated from the parts' values and readings: a prediction, not a measurement of the speaker.".to_string()
+        });
         // The power the speaker suits is said once, in the power block above; a quotation
         // (before the work) gives none.
         s.push(if c.quote {
@@ -328,6 +334,18 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
                 join_and(&over),
                 if over.len() == 1 { "its" } else { "their" }
             ));
+        }
+        // A steady full-level tone heats a resistor far more than music does: the owner who
+        // plays test tones is told from what power (the bench caution, in plain words).
+        if let (Some(w), Some(who)) = (f.power.sine_max_w, &f.power.sine_limited_by) {
+            if w < f.power.suits_w.unwrap_or(f.power.job_w) && !c.quote {
+                let what = if c.job.network.driver(who).is_some() { "a driver" } else { "a part" };
+                s.push(format!(
+                    "Test tones: a steady tone at full level, unlike music, can overheat {what} inside this speaker from about {} W of amplifier power; keep test tones quiet and short.",
+                    // Rounded down: a caution errs on the safe side.
+                    crate::units::trim_number(round_down_2(w), 2)
+                ));
+            }
         }
         s.push("Listening levels: long sessions at high volume damage hearing for good; keep levels moderate and take breaks.".into());
         s.push("Follow local electrical codes, the amplifier's and the speaker's makers' ratings, and qualified service practice.".into());
@@ -380,4 +398,13 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
     s.push("Soldering: work in a ventilated place, extract the fumes, and wash your hands after handling old parts and solder.".into());
     s.push("These notes defer to local electrical codes, to the amplifier's and drivers' makers' ratings, and to qualified service practice.".into());
     s
+}
+
+/// `w` rounded down to two significant figures (31.6 to 31, 1480 to 1400).
+fn round_down_2(w: f64) -> f64 {
+    if w <= 0.0 || !w.is_finite() {
+        return w;
+    }
+    let step = 10f64.powf(w.log10().floor() - 1.0);
+    (w / step + 1e-9).floor() * step
 }
