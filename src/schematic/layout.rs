@@ -405,6 +405,7 @@ impl<'a> Ladder<'a> {
         let mut b = Builder::default();
         let mut ground_from: Vec<Option<i32>> = vec![None; self.rows];
         let mut right = X_IN + 40;
+        let mut ground_to = 0;
         let note_ground = |row: usize, x: i32, g: &mut Vec<Option<i32>>| g[row] = Some(g[row].map_or(x, |v: i32| v.min(x)));
         for op in &self.ops {
             match op {
@@ -421,6 +422,7 @@ impl<'a> Ladder<'a> {
                     }
                     b.wire(p(*x, yy), p(*x, gnd[*row]));
                     note_ground(*row, *x, &mut ground_from);
+                    ground_to = ground_to.max(*x);
                     right = right.max(x + Builder::column_w(c, chain[0]));
                 }
                 Op::Series { row, x, w, group, from } => {
@@ -444,12 +446,15 @@ impl<'a> Ladder<'a> {
                     b.vertical(c, *elem, p(*x, sig[*row]), node);
                     b.wire(p(*x, sig[*row] + LEN), p(*x, gnd[*row]));
                     note_ground(*row, *x, &mut ground_from);
+                    ground_to = ground_to.max(*x);
                     right = right.max(x + Builder::column_w(c, *elem));
                 }
             }
         }
         // Every row's return line runs right to the return bus, which comes back along the foot.
-        let bus = right + 10;
+        // With one row returning there is no bus to run down: its return ends at its last
+        // joint rather than past it.
+        let bus = if ground_from[..self.rows - 1].iter().any(|g| g.is_some()) || ground_from[self.rows - 1].is_none() { right + 10 } else { ground_to };
         // The last row's return line is the foot itself when it has one (nothing lies below
         // it), else the foot runs beneath every row.
         let last = self.rows - 1;

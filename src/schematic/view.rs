@@ -38,7 +38,8 @@ pub fn circuit(net: &Network) -> Circuit {
         })
         .collect();
     for d in &net.drivers {
-        let mut text = vec![d.role.name().to_string()];
+        // "other" says nothing beside a driver's own name.
+        let mut text = if d.role == crate::model::Role::Other { vec![] } else { vec![d.role.name().to_string()] };
         if d.inverted {
             text.push("wired inverted".into());
         }
