@@ -14,6 +14,7 @@
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
+pub use super::captions::{caption, set_caption};
 use crate::analysis::pair::SetFindings;
 use crate::analysis::{frequency_order, Findings, Outcome};
 use crate::model::{Job, PlotKind, Scenario};
@@ -350,12 +351,12 @@ pub fn all(job: &Job, f: &Findings) -> Vec<(PlotKind, String)> {
     push(PlotKind::Response, response(job, f));
     push(PlotKind::Change, change(job, f));
     push(PlotKind::Impedance, impedance(job, f));
-    push(PlotKind::Phase, phase(f));
+    push(PlotKind::Phase, phase(job, f));
     if f.tolerance.is_some() {
         push(PlotKind::Tolerance, tolerance(f));
     }
     if f.acoustic.is_some() {
-        push(PlotKind::Acoustic, acoustic(f));
+        push(PlotKind::Acoustic, acoustic(job, f));
     }
     if !f.confirmation.is_empty() {
         push(PlotKind::Terminals, terminals(job, f));
@@ -505,30 +506,6 @@ fn impedance_chart(job: &Job, title: &str, y_label: &str, x: (f64, f64), curves:
     })
 }
 
-/// The caption of a pair's or set's plot; with no work done the cabinets are drawn as found.
-pub fn set_caption(kind: PlotKind, worked: bool) -> &'static str {
-    match kind {
-        PlotKind::Impedance if !worked => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as found, before any work (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
-        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
-        k => caption(k),
-    }
-}
-
-/// What each plot shows, for its caption: the same words as its legend.
-pub fn caption(kind: PlotKind) -> &'static str {
-    match kind {
-        PlotKind::Response => "Each driver's level as designed (thin long dashes, drawn on top), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
-        PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid); acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
-        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
-        PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
-        PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
-        PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, the pair did not match.",
-        PlotKind::PairLeft => "The same as left, after the work: traces that lie together show a matched pair.",
-        PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
-        PlotKind::Terminals => "Impedance magnitude measured at the speaker's terminals (as found dots, as left sparse dashes) against the impedance calculated from the parts' values and readings (as found short dashes, as left solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
-    }
-}
-
 fn xr(f: &Findings) -> (f64, f64) {
     (f.freqs[0], *f.freqs.last().unwrap_or(&f.freqs[0]) * 1.0001)
 }
@@ -538,11 +515,17 @@ fn peak(curves: &[Curve]) -> f64 {
     curves.iter().flat_map(|c| c.points.iter().map(|p| p.1)).filter(|v| v.is_finite()).fold(f64::NEG_INFINITY, f64::max)
 }
 
+/// Whether a plot draws a scenario: with no work done the speaker as left is the speaker as
+/// found, and no curve or legend claims otherwise.
+fn shown(job: &Job, s: Scenario) -> bool {
+    s != Scenario::AsLeft || job.work_done()
+}
+
 fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let colours = driver_colours(f);
     let mut curves = Vec::new();
     for (di, d) in job.network.drivers.iter().enumerate() {
-        for s in &f.scenes {
+        for s in f.scenes.iter().filter(|s| shown(job, s.scenario)) {
             let Some(k) = s.driver_index(&d.name) else { continue };
             curves.push(Curve {
                 label: format!("{} {}", d.name, s.scenario.label()),
@@ -571,7 +554,7 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
     let mut curves = Vec::new();
     for (di, d) in job.network.drivers.iter().enumerate() {
         let band = &f.bands[di];
-        for s in [&f.scenes.as_found, &f.scenes.as_left] {
+        for s in [&f.scenes.as_found, &f.scenes.as_left].into_iter().filter(|s| shown(job, s.scenario)) {
             let Some(k) = s.driver_index(&d.name) else { continue };
             let (a, b) = compared(f, di, s, k);
             let pts = band.idx.iter().map(|&i| (f.freqs[i], b[i] - a[i])).collect();
@@ -582,9 +565,10 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
 }
 
 /// One curve per scenario of a quantity of the input impedance.
-fn impedance_curves(f: &Findings, what: &str, colour: RGBColor, value: impl Fn(&num_complex::Complex64) -> f64) -> Vec<Curve> {
+fn impedance_curves(job: &Job, f: &Findings, what: &str, colour: RGBColor, value: impl Fn(&num_complex::Complex64) -> f64) -> Vec<Curve> {
     f.scenes
         .iter()
+        .filter(|s| shown(job, s.scenario))
         .map(|s| Curve {
             label: format!("{what} {}", s.scenario.label()),
             colour,
@@ -597,12 +581,12 @@ fn impedance_curves(f: &Findings, what: &str, colour: RGBColor, value: impl Fn(&
 fn impedance(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     // A log axis: the dips that matter to an amplifier (a few ohms) stay readable beside the
     // resonance peaks (tens of ohms).
-    let curves = impedance_curves(f, "|Z|", NAVY, |z| z.norm().max(1e-3).log10());
+    let curves = impedance_curves(job, f, "|Z|", NAVY, |z| z.norm().max(1e-3).log10());
     impedance_chart(job, "Input impedance magnitude at the amplifier terminals", "|Z| (Ω)", xr(f), curves)
 }
 
-fn phase(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
-    let curves = impedance_curves(f, "phase", BRICK, |z| z.arg().to_degrees());
+fn phase(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+    let curves = impedance_curves(job, f, "phase", BRICK, |z| z.arg().to_degrees());
     log_chart(Chart {
         title: "Input impedance phase at the amplifier terminals",
         y_label: "phase (degrees)",
@@ -656,11 +640,12 @@ fn tolerance(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     })
 }
 
-fn acoustic(f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
+fn acoustic(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let a = f.acoustic.as_ref().ok_or("no acoustic sum")?;
     let curves: Vec<Curve> = Scenario::ALL
         .iter()
         .zip(a)
+        .filter(|(s, _)| shown(job, **s))
         .map(|(s, v)| Curve { label: format!("sum {}", s.label()), colour: GREEN, pattern: pattern(*s), points: f.freqs.iter().cloned().zip(v.iter().cloned()).collect() })
         .collect();
     let max = peak(&curves);

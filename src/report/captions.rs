@@ -1,0 +1,33 @@
+//! What each plot shows, in the words of its legend: one place for every caption, read by
+//! the report data (one cabinet's and a set's).
+
+use crate::model::PlotKind;
+
+/// The caption of a pair's or set's plot; with no work done the cabinets are drawn as found.
+pub fn set_caption(kind: PlotKind, worked: bool) -> &'static str {
+    match kind {
+        PlotKind::Impedance if !worked => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as found, before any work (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
+        k => caption(k, worked),
+    }
+}
+
+/// What each plot shows, for its caption: the same words as its legend. With no work done
+/// (`worked` false) no plot draws the speaker as left, and no caption names it.
+pub fn caption(kind: PlotKind, worked: bool) -> &'static str {
+    match kind {
+        PlotKind::Response if !worked => "Each driver's level as designed (thin long dashes, drawn on top) and as found, before any work (short dashes); darker colours for lower-frequency drivers.",
+        PlotKind::Change if !worked => "Each driver's level as found, before any work (short dashes), against the original design over its band; acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
+        PlotKind::Impedance if !worked => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes) and as found, before any work (short dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
+        PlotKind::Acoustic if !worked => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes) and as found, before any work (short dashes).",
+        PlotKind::Response => "Each driver's level as designed (thin long dashes, drawn on top), as found (short dashes) and as left (solid); darker colours for lower-frequency drivers.",
+        PlotKind::Change => "Each driver's level against the original design over its band: as found (short dashes) and as left (solid); acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
+        PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
+        PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
+        PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
+        PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, the pair did not match.",
+        PlotKind::PairLeft => "The same as left, after the work: traces that lie together show a matched pair.",
+        PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
+        PlotKind::Terminals => "Impedance magnitude measured at the speaker's terminals (as found dots, as left sparse dashes) against the impedance calculated from the parts' values and readings (as found short dashes, as left solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
+    }
+}
