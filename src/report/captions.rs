@@ -25,8 +25,8 @@ pub fn caption(kind: PlotKind, worked: bool) -> &'static str {
         PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes), as found (short dashes) and as left (solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
         PlotKind::Phase => "Impedance phase the amplifier sees, same line patterns as the magnitude.",
         PlotKind::Tolerance => "The spread of each driver's as-left level from part tolerances, against its level with nominal parts (0 dB): the shaded band holds 90 % of the runs (5 % to 95 %).",
-        PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, the pair did not match.",
-        PlotKind::PairLeft => "The same as left, after the work: traces that lie together show a matched pair.",
+        PlotKind::PairFound => "Each driver's level in each cabinet as found, against the original design over the driver's band; cabinets told apart by line pattern (first solid, then short dashes, dots, sparse dashes). Where the cabinets' traces part, they did not match.",
+        PlotKind::PairLeft => "Each driver's level in each cabinet as left, after the work, against the original design over the driver's band; cabinets told apart by line pattern as above. Traces that lie together show cabinets that match.",
         PlotKind::Acoustic => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes), as found (short dashes), as left (solid).",
         PlotKind::Terminals => "Impedance magnitude measured at the speaker's terminals (as found dots, as left sparse dashes) against the impedance calculated from the parts' values and readings (as found short dashes, as left solid); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
     }

@@ -278,7 +278,8 @@ fn a_quote_of_one_proposal_offers_the_work_in_the_future_and_asks_for_acceptance
         "Fit R9",
         "After the proposed work",
         "Parts to buy",
-        "The work proposed above agreed, to be priced by the shop before it starts.",
+        // A sentence with a verb (it read "The work proposed above agreed, to be priced ...").
+        "I agree to the work proposed above; the shop prices what is not yet priced before the work starts.",
         "Nothing in this quotation is priced yet",
     ] {
         assert!(text.contains(want), "{want}: {text}");
@@ -298,7 +299,7 @@ fn a_quote_of_one_proposal_offers_the_work_in_the_future_and_asks_for_acceptance
     let text = quote_text("samples/pair-recap.yaml");
     for want in [
         "Prices are for the parts listed, for the whole job, both cabinets; labour is not included",
-        "accepted at the prices quoted",
+        "I accept the work proposed above at the prices quoted.",
         "After the proposed work, the two cabinets would match",
     ] {
         assert!(text.contains(want), "{want}: {text}");

@@ -289,7 +289,7 @@ fn a_pair_report_names_the_cabinet_and_part_at_fault_and_says_whether_the_pair_m
     assert!(archive.contains("How the two cabinets match"));
     let share = format!("C1 in cabinet KB-5121 (+{:.2} dB)", top["share_db"].as_f64().unwrap());
     assert!(archive.contains(&share), "{share}");
-    for caption in ["Each driver's level in each cabinet as found", "The same as left, after the work"] {
+    for caption in ["Each driver's level in each cabinet as found", "Each driver's level in each cabinet as left, after the work"] {
         assert!(archive.contains(caption), "{caption}");
     }
 

@@ -141,9 +141,10 @@ pub(crate) fn quote_terms(c: &Ctx, parts: &crate::analysis::bom::PartsList, opti
     let priced = parts.total.is_some();
     QuoteTerms {
         accept: if priced {
-            "The work proposed above accepted at the prices quoted.".into()
+            "I accept the work proposed above at the prices quoted.".into()
         } else {
-            "The work proposed above agreed, to be priced by the shop before it starts.".into()
+            // A sentence with its verb: what is signed is the work, and a price still to come.
+            "I agree to the work proposed above; the shop prices what is not yet priced before the work starts.".into()
         },
         terms: cover(priced, labour.is_some()),
         total,
