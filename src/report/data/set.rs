@@ -211,7 +211,16 @@ fn customer_sentences(job: &Job, set: &SetFindings, quote: bool) -> Vec<String> 
         if quote {
             out.push(format!("After the proposed work, {} would match: {how}.", cabinets_words(n)));
         } else {
-            out.push(format!("{} now match: {how}.", capitalise(&cabinets_words(n))));
+            // "Now" only where they did not match before; with nothing read before the work,
+            // nothing is said of it.
+            let unread = unread(set);
+            if unread {
+                out.push(format!("{} match after the work: {how}.", capitalise(&cabinets_words(n))));
+            } else if found_apart.is_empty() {
+                out.push(format!("{} match after the work as they did before it: {how}.", capitalise(&cabinets_words(n))));
+            } else {
+                out.push(format!("{} now match: {how}.", capitalise(&cabinets_words(n))));
+            }
         }
     } else {
         let each: Vec<String> = apart
@@ -237,6 +246,7 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
     let is_set = set.cabinets.len() > 2;
     let tol = trim_number(set.tolerance_db, 3);
     let net = &job.network;
+    let unread = unread(set);
     let rows = set
         .matching
         .iter()
@@ -252,7 +262,9 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
             };
             Row(vec![
                 if plain { capitalise(&driver_words(net, &m.driver)) } else { m.driver.clone() },
-                cell(&m.as_found_cabinets, m.as_found_db),
+                // With nothing read on the bench in any cabinet, "as found" is the design's own
+                // figure in each: said so, not printed as a finding of 0.00 dB.
+                if unread { "not read on the bench".to_string() } else { cell(&m.as_found_cabinets, m.as_found_db) },
                 cell(&m.as_left_cabinets, m.as_left_db),
                 if m.verdict == Verdict::Ok { "match".into() } else { "apart".into() },
             ])
@@ -290,4 +302,10 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
         compensation: Table::new(&["Part", "Driver", "Exact value", "Fitted"], comp_rows),
         compensation_notes: set.compensation.iter().map(|c| capitalise(&c.reason) + ".").collect(),
     }
+}
+
+/// Whether nothing was read on the bench in any cabinet (no part reading, no failed driver):
+/// the set "as found" is then the design's own figures, not a finding.
+fn unread(set: &SetFindings) -> bool {
+    set.cabinets.iter().all(|c| c.job.measured.is_empty() && c.job.network.drivers.iter().all(|d| d.fault.is_none()))
 }
