@@ -10,7 +10,7 @@ use criterion::{criterion_group, criterion_main, Criterion};
 use voicekeep::schematic::{geometry, layout::layout, svg, Circuit, Elem, Mark, Method, Sym};
 
 fn el(name: String, sym: Sym, a: String, b: String) -> Elem {
-    Elem { name, sym, nodes: [a, b], text: vec!["4.7 µF".into(), "replaced".into()], mark: Mark::Kept, failed: false }
+    Elem { name, sym, nodes: [a, b], text: vec!["4.7 µF".into(), "replaced".into()], mark: Mark::Kept, failed: false, plus_at: 0 }
 }
 
 /// `parts` parts as ladders: each driver's path a chain of series parts, a shunt part at

@@ -84,7 +84,7 @@ impl Builder {
         self.texts.push(Text { rect: text_box(at, &ls), lines: ls, bold_first: true });
         if driver {
             // The + terminal marked beside it.
-            let plus = t[0];
+            let plus = t[el.plus_at.min(1)];
             let y = if plus == top { top.y + 3 } else { bottom.y - 15 };
             let ls = vec!["+".to_string()];
             self.texts.push(Text { rect: text_box(p(top.x - 16, y), &ls), lines: ls, bold_first: false });
@@ -262,6 +262,28 @@ fn ladder_tree(c: &Circuit) -> Option<Tree> {
             return None;
         }
         items.entry(node.clone()).or_default().push(Item::Driver(i));
+    }
+    // Branches in the order of the drivers they lead to (the job's driver order), so that
+    // the views of one job (as designed, as left, each option) stack their rows alike
+    // whatever order the steps added parts in.
+    fn first_driver(items: &BTreeMap<String, Vec<Item>>, node: &str, depth: usize) -> usize {
+        if depth > 10_000 {
+            return usize::MAX;
+        }
+        items.get(node).map_or(usize::MAX, |list| list.iter().map(|i| rank(items, i, depth + 1)).min().unwrap_or(usize::MAX))
+    }
+    fn rank(items: &BTreeMap<String, Vec<Item>>, item: &Item, depth: usize) -> usize {
+        match item {
+            Item::Driver(e) => *e,
+            Item::Series { to, .. } => first_driver(items, to, depth),
+        }
+    }
+    let ranks: BTreeMap<String, Vec<usize>> = items.iter().map(|(n, list)| (n.clone(), list.iter().map(|i| rank(&items, i, 0)).collect())).collect();
+    for (n, list) in items.iter_mut() {
+        let r = &ranks[n];
+        let mut keyed: Vec<(usize, Item)> = r.iter().copied().zip(list.drain(..)).collect();
+        keyed.sort_by_key(|(k, _)| *k);
+        list.extend(keyed.into_iter().map(|(_, i)| i));
     }
     Some(Tree { items, shunts })
 }

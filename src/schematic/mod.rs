@@ -44,6 +44,9 @@ pub struct Elem {
     pub mark: Mark,
     /// A driver or part found failed (open, shorted, rubbing): drawn struck through.
     pub failed: bool,
+    /// Which terminal a driver's + mark stands at: 0 normally, 1 for a driver wired
+    /// inverted (its + terminal on the second node).
+    pub plus_at: usize,
 }
 
 /// A network to draw: its input terminals (signal, return) and its elements.

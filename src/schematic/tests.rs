@@ -8,7 +8,7 @@ use super::*;
 use proptest::prelude::*;
 
 fn el(name: &str, sym: Sym, a: &str, b: &str) -> Elem {
-    Elem { name: name.into(), sym, nodes: [a.into(), b.into()], text: vec!["4.7 µF".into()], mark: Mark::Kept, failed: false }
+    Elem { name: name.into(), sym, nodes: [a.into(), b.into()], text: vec!["4.7 µF".into()], mark: Mark::Kept, failed: false, plus_at: 0 }
 }
 
 fn circuit(elems: Vec<Elem>) -> Circuit {

@@ -35,37 +35,42 @@ pub fn circuit(net: &Network) -> Circuit {
             text: vec![value_text(p.kind, p.value)],
             mark: Mark::Kept,
             failed: false,
+            plus_at: 0,
         })
         .collect();
     for d in &net.drivers {
         // "other" says nothing beside a driver's own name.
         let mut text = if d.role == crate::model::Role::Other { vec![] } else { vec![d.role.name().to_string()] };
         if d.inverted {
+            // Its + terminal is on the second node (the solve inverts its output): the mark
+            // stands there, and the label says why.
             text.push("wired inverted".into());
         }
-        elems.push(Elem { name: d.name.clone(), sym: Sym::Driver, nodes: d.between.clone(), text, mark: Mark::Kept, failed: false });
+        elems.push(Elem { name: d.name.clone(), sym: Sym::Driver, nodes: d.between.clone(), text, mark: Mark::Kept, failed: false, plus_at: usize::from(d.inverted) });
     }
     Circuit { input: net.input.clone(), elems }
 }
 
 /// As designed, with what the bench found: a reading beside each part it flagged, a failed
 /// driver or part struck through and said in words.
-pub fn designed(job: &Job, f: &Findings) -> Circuit {
+/// `readings` false leaves the values read out (a set's designed view, where each cabinet
+/// read its own).
+pub fn designed(job: &Job, f: &Findings, readings: bool) -> Circuit {
     let mut c = circuit(&job.network);
     let found = &f.scenes.as_found.network;
     for e in &mut c.elems {
         if let Some(p) = found.part(&e.name) {
             if let Some(fault) = p.fault {
                 e.failed = true;
-                e.text.push(format!("read {}", fault.name()));
-            } else if f.health.iter().any(|h| h.part == e.name && !h.ok) {
-                e.text.push(format!("read {}", value_text(p.kind, p.value)));
+                e.text.push(format!("measured {}", fault.name()));
+            } else if readings && f.health.iter().any(|h| h.part == e.name && !h.ok) {
+                e.text.push(format!("measured {}", value_text(p.kind, p.value)));
             }
         }
         if let Some(d) = found.driver(&e.name).or_else(|| job.network.driver(&e.name)) {
             if let Some(fault) = d.fault {
                 e.failed = true;
-                e.text.push(format!("read {}", fault.name()));
+                e.text.push(format!("measured {}", fault.name()));
             } else if d.fault_note.is_some() {
                 e.failed = true;
                 e.text.push("failed (see notes)".into());
@@ -128,7 +133,15 @@ fn after(job: &Job, changes: &[crate::model::Change], left: &Network) -> Circuit
             e.text.push("added".into());
         } else if replaced.contains(&e.name) {
             e.mark = Mark::Replaced;
+            // The new part's type: two options may differ in nothing else.
+            if let Some(t) = left.part(&e.name).and_then(|p| p.type_text.clone()) {
+                e.text.push(t);
+            }
             e.text.push("replaced".into());
+        } else if let Some(p) = job.network.part(&e.name) {
+            // A part left in place is labelled with its marked value, as in the designed
+            // view; its bench reading is the designed view's to show.
+            e.text[0] = value_text(p.kind, p.value);
         }
     }
     // Removed parts stay in the drawing where they were, dashed.
@@ -209,6 +222,18 @@ fn mark_differing(c: &mut Circuit, set: &crate::analysis::pair::SetFindings, fou
     }
 }
 
+/// In a set, marks each part that some cabinets' own steps replaced ("replaced in KB-5121").
+fn mark_cabinet_steps(c: &mut Circuit, set: &crate::analysis::pair::SetFindings, proposal: bool) {
+    for e in c.elems.iter_mut().filter(|e| e.mark == Mark::Kept) {
+        let who: Vec<&str> = set.cabinets.iter().filter(|cab| replaced(&cab.job.changes).contains(&e.name)).map(|cab| cab.name.as_str()).collect();
+        if !who.is_empty() {
+            e.mark = Mark::Replaced;
+            let what = if proposal { "to be replaced in" } else { "replaced in" };
+            e.text.push(format!("{what} {}", who.join(", ")));
+        }
+    }
+}
+
 /// The views a job can show: as designed (with the bench's readings), as left when work was
 /// done, and each option as proposed.
 pub fn views(job: &Job, o: &crate::analysis::Outcome, quote: bool) -> Vec<View> {
@@ -221,11 +246,12 @@ pub fn views(job: &Job, o: &crate::analysis::Outcome, quote: bool) -> Vec<View> 
         },
     };
     let mut out = Vec::new();
-    let mut designed = designed(job, f);
-    let mut readings = "readings beside the parts the bench flagged; a part or driver found failed struck through".to_string();
+    let mut designed = designed(job, f, set.is_none());
+    let mut readings = "what the bench measured beside the parts it flagged; a part or driver found failed struck through".to_string();
     if let Some(s) = set {
         mark_differing(&mut designed, s, true);
-        readings = format!("{readings}; the readings are the first cabinet's ({}), and a part marked \"differs by cabinet\" read differently in another", s.cabinets[0].name);
+        readings =
+            "a part marked \"differs by cabinet\" measured differently in the cabinets (the readings are in the tables); a part or driver found failed struck through".to_string();
     }
     out.push(View {
         name: "designed".into(),
@@ -238,6 +264,7 @@ pub fn views(job: &Job, o: &crate::analysis::Outcome, quote: bool) -> Vec<View> 
         let mut left = as_left(job, f);
         if let Some(s) = set {
             mark_differing(&mut left, s, false);
+            mark_cabinet_steps(&mut left, s, quote);
         }
         if quote {
             // A quotation's steps are proposed, not done.
@@ -256,6 +283,9 @@ pub fn views(job: &Job, o: &crate::analysis::Outcome, quote: bool) -> Vec<View> 
     for (i, (spec, of)) in job.options.iter().zip(options.iter()).enumerate() {
         let mut c = after(job, &spec.changes, &of.findings.scenes.as_left.network);
         proposed(&mut c);
+        if let Some(s) = set {
+            mark_cabinet_steps(&mut c, s, true);
+        }
         let key = key(&c, true);
         out.push(View { name: format!("option-{}", i + 1), caption: format!("Option {}: the crossover as this option proposes it.{key}", spec.name), circuit: c });
     }

@@ -124,10 +124,10 @@ fn the_as_left_view_marks_what_the_job_replaced_and_added() {
     assert_eq!(marked(Mark::Added), vec!["R9"]);
     assert!(marked(Mark::Removed).is_empty());
     assert!(left.caption.contains("heavy lines: part replaced") && left.caption.contains("part added"), "{}", left.caption);
-    // C1 was read 2.95 uF against 3.3 uF designed (the sample's `measured`): flagged.
+    // C1 was measured 2.95 uF against 3.3 uF designed (the sample's `measured`): flagged.
     let designed = views.iter().find(|v| v.name == "designed").unwrap();
     let c1 = designed.circuit.elems.iter().find(|e| e.name == "C1").unwrap();
-    assert!(c1.text.iter().any(|t| t.starts_with("read 2.95")), "{:?}", c1.text);
+    assert!(c1.text.iter().any(|t| t.starts_with("measured 2.95")), "{:?}", c1.text);
     // A quotation proposes: nothing "replaced", all "to be replaced".
     let quote = view::views(&job, &o, true);
     let proposed = quote.iter().find(|v| v.name == "as-proposed").unwrap();
@@ -143,6 +143,29 @@ fn a_failed_driver_is_struck_through() {
     let designed = view::views(&job, &o, false).into_iter().find(|v| v.name == "designed").unwrap();
     let hf = designed.circuit.elems.iter().find(|e| e.name == "HF").unwrap();
     assert!(hf.failed && hf.text.iter().any(|t| t.contains("open")), "{hf:?}");
+}
+
+/// In a pair, a part one cabinet's own steps replaced is marked in the as-left view with the
+/// cabinet's name (samples/pair-recap.yaml: R1 replaced in KB-5121 alone); a part left in
+/// place is labelled with its marked value, not a reading (L1 is 1.2 mH in the job, read
+/// 1.19 mH in two-way-recap).
+#[test]
+fn the_as_left_view_names_a_cabinets_own_replacement_and_labels_kept_parts_by_their_marked_value() {
+    let job = voicekeep::job::load(&root().join("samples/pair-recap.yaml")).unwrap();
+    let o = analyse_job(&job, &Quiet).unwrap();
+    let left = view::views(&job, &o, false).into_iter().find(|v| v.name == "as-left").unwrap();
+    let r1 = left.circuit.elems.iter().find(|e| e.name == "R1").unwrap();
+    assert!(r1.mark == Mark::Replaced && r1.text.iter().any(|t| t == "replaced in KB-5121"), "{r1:?}");
+    let job = voicekeep::job::load(&root().join("samples/two-way-recap.yaml")).unwrap();
+    let o = analyse_job(&job, &Quiet).unwrap();
+    let left = view::views(&job, &o, false).into_iter().find(|v| v.name == "as-left").unwrap();
+    let l1 = left.circuit.elems.iter().find(|e| e.name == "L1").unwrap();
+    assert_eq!(l1.text[0], "1.2 mH");
+    // An inverted driver's + mark stands at its second node.
+    let job = voicekeep::job::load(&root().join("samples/three-way-mid-table.yaml")).unwrap();
+    let c = view::circuit(&job.network);
+    let mf = c.elems.iter().find(|e| e.name == "MF").unwrap();
+    assert_eq!(mf.plus_at, 1);
 }
 
 #[test]
