@@ -149,6 +149,8 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
     // labels are text in the PDF, so they join the golden). And a fifth: the cautions say the
     // figures are a prediction, warn of steady test tones, and are kept whole on one page.
     // A sixth: the pair's as-left plot caption says what it shows in a sentence of its own.
+    // A seventh: the drawing's labels (kept parts by their marked value, the new part's type,
+    // a cabinet's own replacement) and "changes of up to about 0.4 dB".
     for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
         let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
         o.code(0);

@@ -150,7 +150,8 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
         let every = if faults.is_empty() { "every driver" } else { "every other driver" };
         let what = match (crate::analysis::level_flag(worst), plain) {
             ("within 0.5 dB", true) if worst < crate::analysis::levels::NOTICEABLE_DB => {
-                "a difference too small to hear (level changes below about 0.4 dB generally go unnoticed)".to_string()
+                // "Up to": a figure under the threshold can print as 0.40 at two decimals.
+                "a difference too small to hear (level changes of up to about 0.4 dB generally go unnoticed)".to_string()
             }
             ("within 0.5 dB", true) => "at the edge of what a listener can hear (level changes below about 0.4 dB generally go unnoticed)".to_string(),
             ("within 0.5 dB", false) => "within 0.5 dB; level changes below about 0.4 dB generally go unnoticed (Ballou, Handbook for Sound Engineers, 3.8.6)".to_string(),
