@@ -544,6 +544,12 @@ impl Job {
     /// Whether the job records work done: its `changes`, or a cabinet's own where no options
     /// are offered (in a quotation a cabinet's steps count only within its options). An
     /// inspection or a quotation has none.
+    /// Whether the bench read anything before the work (a part's reading, a failed driver):
+    /// without it the speaker "as found" is the design's own figures, not a finding.
+    pub fn read_on_bench(&self) -> bool {
+        !self.measured.is_empty() || self.network.drivers.iter().any(|d| d.fault.is_some() || d.fault_note.is_some())
+    }
+
     pub fn work_done(&self) -> bool {
         !self.changes.is_empty() || (self.options.is_empty() && self.cabinets.iter().any(|c| !c.changes.is_empty()))
     }

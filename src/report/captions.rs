@@ -8,14 +8,19 @@ pub fn set_caption(kind: PlotKind, worked: bool) -> &'static str {
     match kind {
         PlotKind::Impedance if !worked => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as found, before any work (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
         PlotKind::Impedance => "Impedance magnitude the amplifier sees, on a logarithmic scale: each cabinet as left (first solid, then short dashes, dots, sparse dashes) and the original design (thin long dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
-        k => caption(k, worked),
+        k => caption(k, worked, true),
     }
 }
 
 /// What each plot shows, for its caption: the same words as its legend. With no work done
-/// (`worked` false) no plot draws the speaker as left, and no caption names it.
-pub fn caption(kind: PlotKind, worked: bool) -> &'static str {
+/// (`worked` false) no plot draws the speaker as left, and with nothing read on the bench
+/// (`read` false) none draws it as found; no caption names what is not drawn.
+pub fn caption(kind: PlotKind, worked: bool, read: bool) -> &'static str {
     match kind {
+        PlotKind::Response if worked && !read => "Each driver's level as designed (thin long dashes, drawn on top) and as left (solid); nothing was read on the bench before the work, so no curve is drawn as found; darker colours for lower-frequency drivers.",
+        PlotKind::Change if worked && !read => "Each driver's level as left (solid) against the original design over its band; nothing was read on the bench before the work, so no curve is drawn as found; acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
+        PlotKind::Impedance if worked && !read => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes) and as left (solid); nothing was read on the bench before the work, so no curve is drawn as found; the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",
+        PlotKind::Acoustic if worked && !read => "Acoustic sum of the drivers' measured responses through the network: as designed (thin long dashes) and as left (solid).",
         PlotKind::Response if !worked => "Each driver's level as designed (thin long dashes, drawn on top) and as found, before any work (short dashes); darker colours for lower-frequency drivers.",
         PlotKind::Change if !worked => "Each driver's level as found, before any work (short dashes), against the original design over its band; acoustic output where the job gives the drivers' sensitivity or response, as the levels table compares. 0 dB is the original design.",
         PlotKind::Impedance if !worked => "Impedance magnitude the amplifier sees, on a logarithmic scale, as designed (thin long dashes) and as found, before any work (short dashes); the thin grey dotted line is 80 % of the rated impedance, the lowest the loudspeaker standard allows.",

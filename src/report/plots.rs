@@ -518,7 +518,13 @@ fn peak(curves: &[Curve]) -> f64 {
 /// Whether a plot draws a scenario: with no work done the speaker as left is the speaker as
 /// found, and no curve or legend claims otherwise.
 fn shown(job: &Job, s: Scenario) -> bool {
-    s != Scenario::AsLeft || job.work_done()
+    match s {
+        Scenario::AsLeft => job.work_done(),
+        // Nothing read before the work: "as found" would be the design's curve again under
+        // another name (kept when there is nothing else to draw).
+        Scenario::AsFound => job.read_on_bench() || !job.work_done(),
+        Scenario::AsDesigned => true,
+    }
 }
 
 fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {

@@ -556,3 +556,30 @@ fn a_set_read_nowhere_claims_no_difference_before_the_work() {
     }
     verdict("set read nowhere", bad);
 }
+
+/// With nothing read on the bench before the work, no plot draws a curve "as found": it would
+/// be the design's curve again under a name that says the speaker was measured. Failed before
+/// on sweep-diagnosis (its "HF as found" line lay on 0 dB under a caption of the speaker as it
+/// came in).
+#[test]
+fn a_job_read_nowhere_draws_no_curve_as_found() {
+    let mut bad = Vec::new();
+    for job in all().iter().filter(|j| j.json.get("cabinets").is_none()) {
+        let text =
+            ["samples", "tests/reader", "tests/reference"].iter().find_map(|d| std::fs::read_to_string(root().join(format!("{d}/{}.yaml", job.name))).ok()).unwrap_or_default();
+        let read = text.lines().any(|l| l.starts_with("measured:")) || text.contains("open: true") || text.contains("shorted: true") || text.contains("fault:");
+        let worked = text.lines().any(|l| l.starts_with("changes:"));
+        if read || !worked {
+            continue;
+        }
+        for r in &job.reports {
+            let t = r.text();
+            for wrong in ["HF as found", "LF as found", "MF as found", "|Z| as found", "as found (short dashes)"] {
+                if t.contains(wrong) {
+                    bad.push(format!("{}: \"{wrong}\"", r.name()));
+                }
+            }
+        }
+    }
+    verdict("nothing read", bad);
+}

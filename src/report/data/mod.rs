@@ -401,7 +401,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         safety: safety(&c),
         inputs: inputs(&c),
         attachments: attachments(&c),
-        plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k, job.work_done()).into() }).collect(),
+        plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k, job.work_done(), job.read_on_bench()).into() }).collect(),
         schematics: Vec::new(),
         pair: None,
         substitutes: substitutes(&c),
