@@ -307,5 +307,5 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
 /// Whether nothing was read on the bench in any cabinet (no part reading, no failed driver):
 /// the set "as found" is then the design's own figures, not a finding.
 fn unread(set: &SetFindings) -> bool {
-    set.cabinets.iter().all(|c| c.job.measured.is_empty() && c.job.network.drivers.iter().all(|d| d.fault.is_none()))
+    set.cabinets.iter().all(|c| !c.job.read_on_bench())
 }
