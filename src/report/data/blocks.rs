@@ -594,13 +594,16 @@ pub(super) fn substitutes(c: &Ctx) -> Vec<SubstituteData> {
 
 /// The parts to buy, a line each: quantity, what, for which parts, and the price where the
 /// shop's list gave one (or why it did not).
-pub(super) fn parts_to_buy(p: &crate::analysis::bom::PartsList) -> Table {
+pub(super) fn parts_to_buy(p: &crate::analysis::bom::PartsList, plain: bool) -> Table {
     let priced = p.total.is_some();
     let rows = p
         .lines
         .iter()
         .map(|l| {
-            let what = [Some(l.value.clone()), l.type_text.clone(), l.rating.clone(), l.tolerance.clone(), l.series.clone()].into_iter().flatten().collect::<Vec<_>>().join(", ");
+            // The series named as what it is: a plain reader reads "standard value", the
+            // shop its series ("E24").
+            let series = l.series.as_ref().map(|s| if plain { "standard value".to_string() } else { format!("standard value ({s})") });
+            let what = [Some(l.value.clone()), l.type_text.clone(), l.rating.clone(), l.tolerance.clone(), series].into_iter().flatten().collect::<Vec<_>>().join(", ");
             let mut r = vec![l.quantity.to_string(), l.kind.clone(), what, l.parts.join(", ")];
             if priced {
                 match (l.unit_price, l.price) {

@@ -405,7 +405,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         schematics: Vec::new(),
         pair: None,
         substitutes: substitutes(&c),
-        parts_to_buy: parts_to_buy(&f.parts),
+        parts_to_buy: parts_to_buy(&f.parts, c.audience.plain()),
         parts_total: parts_total(&f.parts),
         options: options(&c),
         service: service::service(&c),

@@ -77,7 +77,7 @@ pub(super) fn options_of(c: &Ctx, list: &[OptionFindings], recommended: Option<&
             say: o.say.clone(),
             basis: option_basis(c, &o.name),
             results: option_results(c, o),
-            parts: parts_to_buy(&o.parts),
+            parts: parts_to_buy(&o.parts, c.audience.plain()),
             total: match (o.total, o.labour) {
                 (Some(t), Some(l)) => Some(format!("Labour {l} {currency}; total with parts {t} {currency}.")),
                 (Some(t), None) => Some(format!("Total {t} {currency}.")),

@@ -126,7 +126,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     data.job.speaker.serials = names.clone();
     data.worked = job.work_done();
     // The parts for every cabinet's work, counted across the set.
-    data.parts_to_buy = super::blocks::parts_to_buy(&set.parts);
+    data.parts_to_buy = super::blocks::parts_to_buy(&set.parts, plain);
     data.parts_total = super::blocks::parts_total(&set.parts);
     for p in &mut data.plots {
         if let Some(k) = PlotKind::ALL.iter().find(|k| k.name() == p.name) {

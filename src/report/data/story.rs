@@ -36,7 +36,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
                 .filter(|e| e.identifiable && e.start > 0.0 && ((e.value / e.start) - 1.0).abs() >= 0.05)
                 .map(|e| {
                     let pct = 100.0 * (e.value / e.start - 1.0);
-                    let what = if e.field == "value" { e.part.clone() } else { format!("{}'s {}", e.part, if plain { "loss resistance" } else { e.field.as_str() }) };
+                    let what = if e.field == "value" { e.part.clone() } else { format!("{}'s {}", e.part, if plain { "internal loss" } else { e.field.as_str() }) };
                     format!("{what} about {:.0} % {}", pct.abs(), if pct < 0.0 { "below" } else { "above" },)
                 })
                 .collect(),
