@@ -116,7 +116,8 @@ pub(crate) fn quote_terms(c: &Ctx, parts: &crate::analysis::bom::PartsList, opti
         2 => "the whole job, both cabinets".to_string(),
         n => format!("the whole job, all {} cabinets", super::words::count_words(n)),
     };
-    let figures = "figures are calculated from the parts' values and readings and are confirmed by measurement after the work.";
+    // A prediction, said as one: the job records no measurement to come.
+    let figures = "figures are calculated from the parts' values and readings: a prediction of the work, not a measurement of it.";
     let cover = |priced: bool, labour: bool| match (priced, labour) {
         (true, true) => format!("Prices are for the parts and labour listed, for {whole}; {figures}"),
         (true, false) => format!("Prices are for the parts listed, for {whole}; labour is not included; {figures}"),
