@@ -97,13 +97,12 @@ impl Builder {
         sym + 4 + label_w(c, e) + 18
     }
 
-    fn finish(self, c: &Circuit, inputs: [P; 2], method: Method) -> Drawing {
+    fn finish(self, inputs: [P; 2], method: Method) -> Drawing {
         let mut texts = self.texts;
         for (at, s) in [(inputs[0], "+"), (inputs[1], "−")] {
             let ls = vec![s.to_string()];
             texts.push(Text { rect: text_box(p(at.x - 18, at.y - 6), &ls), lines: ls, bold_first: true });
         }
-        let _ = c;
         let wires = split(self.wires, &self.symbols, &inputs);
         let dots = super::geometry::joints(&wires, &self.symbols, &inputs);
         let mut width = 0;
@@ -491,7 +490,7 @@ impl<'a> Ladder<'a> {
         b.wire(p(bus, top_ground), p(bus, bottom));
         b.wire(p(bus, bottom), p(X_IN, bottom));
         let inputs = [p(X_IN, sig[0]), p(X_IN, bottom)];
-        b.finish(c, inputs, Method::Ladder)
+        b.finish(inputs, Method::Ladder)
     }
 }
 
@@ -567,5 +566,5 @@ fn rails(c: &Circuit) -> Drawing {
         b.wire(p(x0, rail_y(i)), p(x1, rail_y(i)));
     }
     let inputs = [p(X_IN, rail_y(0)), p(X_IN, rail_y(index[gnd.as_str()]))];
-    b.finish(c, inputs, Method::Rails)
+    b.finish(inputs, Method::Rails)
 }
