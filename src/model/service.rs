@@ -44,7 +44,7 @@ pub const DEFAULT_INSPECTION: [(&str, &str); 11] = [
     ("spiders", "Driver spiders"),
     ("coil_rub", "Voice-coil rub"),
     ("dust_caps", "Dust caps"),
-    ("protection", "Protection devices (PTC fuses, lamps)"),
+    ("protection", "Protection devices (self-resetting fuses, lamps)"),
     ("terminals", "Input terminals"),
     ("wiring", "Internal wiring"),
     ("solder_joints", "Solder joints"),

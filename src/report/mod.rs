@@ -3,6 +3,7 @@
 //! writes. Data reaches the template as JSON, never as markup, so nothing from the job file
 //! is ever evaluated.
 
+mod axes;
 pub mod captions;
 pub mod data;
 pub mod fonts;

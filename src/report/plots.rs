@@ -15,6 +15,7 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 
 pub use super::captions::{caption, set_caption};
+use super::axes::{log_ticks, range};
 use crate::analysis::pair::SetFindings;
 use crate::analysis::{frequency_order, Findings, Outcome};
 use crate::model::{Job, PlotKind, Scenario};
@@ -231,7 +232,11 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
     for curve in &c.curves {
         if !items.iter().any(|(l, _, _)| *l == curve.label) {
             // A trace wholly outside the axes is named as such, not left for the reader to hunt.
-            let label = if runs(&curve.points, c.y).is_empty() { format!("{} (off scale)", curve.label) } else { curve.label.clone() };
+            let below = curve.points.iter().all(|p| !p.1.is_finite() || p.1 < c.y.0);
+            let label = match runs(&curve.points, c.y).is_empty() {
+                true if !curve.label.ends_with("silent") => format!("{} ({} the chart)", curve.label, if below { "all below" } else { "outside" }),
+                _ => curve.label.clone(),
+            };
             items.push((label, curve.colour, Sample::Line(curve.pattern)));
         }
     }
@@ -297,47 +302,6 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
         root.present()?;
     }
     Ok(svg)
-}
-
-/// Round values to label a logarithmic axis from `lo` to `hi`: the first of the steps per
-/// decade (1 2 5; 1 2 3 5; 1 2 3 4 5 6 8; and with 1.5) that gives at least five labels.
-fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
-    let steps: [&[f64]; 4] = [&[1.0, 2.0, 5.0], &[1.0, 2.0, 3.0, 5.0], &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0], &[1.0, 1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0]];
-    if !(lo > 0.0 && hi > lo && lo.is_finite() && hi.is_finite()) {
-        return Vec::new();
-    }
-    let mut last = Vec::new();
-    for set in steps {
-        let mut ticks = Vec::new();
-        let mut decade = 10f64.powf(lo.log10().floor());
-        while decade <= hi {
-            for m in set {
-                let v = m * decade;
-                if v >= lo && v <= hi {
-                    ticks.push(v);
-                }
-            }
-            decade *= 10.0;
-        }
-        if ticks.len() >= 5 {
-            return ticks;
-        }
-        last = ticks;
-    }
-    last
-}
-
-/// A range covering `values` with room above and below (at least a tenth of the span, and of
-/// `min_span`), so a trace never lies on the frame.
-fn range(values: impl Iterator<Item = f64>, min_span: f64) -> (f64, f64) {
-    let (lo, hi) = values.filter(|v| v.is_finite()).fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(v), b.max(v)));
-    if !lo.is_finite() {
-        return (-1.0, 1.0);
-    }
-    let span = (hi - lo).max(min_span);
-    let mid = (hi + lo) / 2.0;
-    let pad = 0.1 * span;
-    (mid - span / 2.0 - pad, mid + span / 2.0 + pad)
 }
 
 /// Every plot this job supports, as (kind, SVG text), in report order.
@@ -527,6 +491,17 @@ fn shown(job: &Job, s: Scenario) -> bool {
     }
 }
 
+/// A driver's curve in one scenario. A driver more than 40 dB down is a fault (silent, failed
+/// or cut off), the levels table's own verdict: its legend says so where no line can be drawn.
+fn driver_label(f: &Findings, driver: &str, s: Scenario) -> String {
+    let silent = f.levels.iter().find(|l| l.driver == driver).is_some_and(|l| match s {
+        Scenario::AsFound => l.as_found_fault,
+        Scenario::AsLeft => l.as_left_fault,
+        Scenario::AsDesigned => false,
+    });
+    format!("{driver} {}{}", s.label(), if silent { ": silent" } else { "" })
+}
+
 fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>> {
     let colours = driver_colours(f);
     let mut curves = Vec::new();
@@ -534,7 +509,7 @@ fn response(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error
         for s in f.scenes.iter().filter(|s| shown(job, s.scenario)) {
             let Some(k) = s.driver_index(&d.name) else { continue };
             curves.push(Curve {
-                label: format!("{} {}", d.name, s.scenario.label()),
+                label: driver_label(f, &d.name, s.scenario),
                 colour: colours[di],
                 pattern: pattern(s.scenario),
                 points: f.freqs.iter().cloned().zip(s.db[k].iter().cloned()).collect(),
@@ -564,7 +539,7 @@ fn change(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Error>>
             let Some(k) = s.driver_index(&d.name) else { continue };
             let (a, b) = compared(f, di, s, k);
             let pts = band.idx.iter().map(|&i| (f.freqs[i], b[i] - a[i])).collect();
-            curves.push(Curve { label: format!("{} {}", d.name, s.scenario.label()), colour: colours[di], pattern: pattern(s.scenario), points: pts });
+            curves.push(Curve { label: driver_label(f, &d.name, s.scenario), colour: colours[di], pattern: pattern(s.scenario), points: pts });
         }
     }
     difference_chart("Level against the original design, over each driver's band", xr(f), curves)

@@ -16,6 +16,10 @@ fn a_log_axis_is_labelled_at_round_values() {
     assert_eq!(log_ticks(3.0, 60.0), vec![3.0, 5.0, 10.0, 20.0, 30.0, 50.0]);
     assert_eq!(log_ticks(2.0, 500.0), vec![2.0, 5.0, 10.0, 20.0, 50.0, 100.0, 200.0, 500.0]);
     assert!(log_ticks(0.0, 5.0).is_empty());
+    // A top far above the last round label gets one more: 3 to 45 ohm stopped at 30 beside a
+    // peak at 42 (a terminal sweep's plot); 40 is a third above 30, so it is added.
+    assert_eq!(log_ticks(3.0, 45.0), vec![3.0, 5.0, 10.0, 20.0, 30.0, 40.0]);
+    assert_eq!(log_ticks(3.0, 38.0), vec![3.0, 5.0, 10.0, 20.0, 30.0]);
 }
 
 #[test]

@@ -286,7 +286,7 @@ fn plain_reports_print_no_fault_as_a_figure_and_no_jargon() {
                 continue;
             }
             // "E24", " RMS" and "loss resistance" failed before on quote-three-options' quote
-            // and sweep-diagnosis' customer report.
+            // and sweep-diagnosis' customer report; "PTC" on repair-like-for-like's inspection.
             for word in [
                 "ESR",
                 "EPDR",
@@ -305,6 +305,7 @@ fn plain_reports_print_no_fault_as_a_figure_and_no_jargon() {
                 " RMS",
                 "loss resistance",
                 "Impedance magnitude",
+                "PTC",
             ] {
                 if text.contains(word) {
                     bad.push(format!("{}: \"{word}\"", r.name()));
@@ -610,4 +611,27 @@ fn a_job_read_nowhere_draws_no_curve_as_found() {
 /// (top level or a cabinet's) or a failed driver.
 fn read_on_bench(yaml: &str) -> bool {
     yaml.lines().any(|l| l.trim_start().starts_with("measured:")) || yaml.contains("open: true") || yaml.contains("shorted: true") || yaml.contains("fault:")
+}
+
+/// A worn part the work left in place is given a reason a signer can stand behind: how far its
+/// reading alone moves a driver. Failed before on pair-recap ("L2 was left in place: its effect
+/// is part of the figures after the work", with no word of why that was acceptable).
+#[test]
+fn a_worn_part_left_in_place_says_how_little_it_moves() {
+    let mut bad = Vec::new();
+    let mut seen = 0;
+    for job in all() {
+        for r in &job.reports {
+            let t = r.text();
+            for (at, _) in t.match_indices(" left in place") {
+                seen += 1;
+                let rest: String = t[at..].chars().take(160).collect();
+                if !rest.contains("its reading moves") && !rest.contains("on their own") {
+                    bad.push(format!("{}: \"...{}\"", r.name(), rest.chars().take(90).collect::<String>()));
+                }
+            }
+        }
+    }
+    assert!(seen > 0, "no report leaves a worn part in place: the check reads nothing");
+    verdict("kept part without a reason", bad);
 }

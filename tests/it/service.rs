@@ -150,7 +150,9 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
     // figures are a prediction, warn of steady test tones, and are kept whole on one page.
     // A sixth: the pair's as-left plot caption says what it shows in a sentence of its own.
     // A seventh: the drawing's labels (kept parts by their marked value, the new part's type,
-    // a cabinet's own replacement) and "changes of up to about 0.4 dB".
+    // a cabinet's own replacement) and "changes of up to about 0.4 dB". An eighth: a worn part
+    // left in place says how far its reading alone moves a driver, and a silent driver's
+    // legend says "silent" (it said "off scale").
     for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
         let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
         o.code(0);

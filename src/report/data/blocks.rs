@@ -95,7 +95,7 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                 // said so, not printed as a finding of +0.00 dB.
                 let before = if l.as_found_fault {
                     "silent: a fault".to_string()
-                } else if c.job.measured.is_empty() {
+                } else if !c.job.read_on_bench() {
                     "not read on the bench".to_string()
                 } else {
                     db(l.as_found_db)

@@ -124,7 +124,11 @@ fn option_basis(c: &Ctx, name: &str) -> String {
     let solved = if solved.is_empty() { String::new() } else { format!("; {}", join_and(&solved)) };
     format!(
         "Computed from the speaker as found ({}) with this option's {} step{}: {}{solved}.",
-        if c.job.measured.is_empty() { "no bench readings, so as designed".to_string() } else { format!("{} bench readings", count_words(c.job.measured.len())) },
+        match c.job.measured.len() {
+            _ if !c.job.read_on_bench() => "no bench readings, so as designed".to_string(),
+            1 => "one bench reading".to_string(),
+            n => format!("{} bench readings", count_words(n)),
+        },
         count_words(steps.len()),
         if steps.len() == 1 { "" } else { "s" },
         join_and(&steps)

@@ -26,7 +26,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
     let plain = c.audience.plain();
     let mut out = Vec::new();
     let off: Vec<&crate::analysis::LevelRow> = f.levels.iter().filter(|l| l.as_found_db.abs() >= 0.5).collect();
-    if job.measured.is_empty() {
+    if !job.read_on_bench() {
         // What the job records instead of bench readings: the diagnosis from the sweep at the
         // terminals, estimated (it does not enter the figures before the work).
         let estimated: Vec<String> = match &f.diagnosis {
@@ -109,14 +109,37 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
                 _ => false,
             })
         };
-        let kept: Vec<String> = flagged.iter().filter(|p| !touched(p)).map(|p| p.to_string()).collect();
+        let kept: Vec<&crate::analysis::health::Flag> = f.health.iter().filter(|h| !h.ok && !touched(&h.part)).collect();
         if !kept.is_empty() && !quoting(job) && !no_work(job) {
-            let (verb, them) = if kept.len() == 1 { ("was", "its") } else { ("were", "their") };
+            let names: Vec<String> = kept.iter().map(|h| h.part.clone()).collect();
+            // The reason a signer gives for leaving a worn part: how little it moves the sound,
+            // the analysis' own figure for that part's reading alone on the original design.
+            // A part read open or shorted, or one whose effect is no figure, gets no reason.
+            let sized = kept.iter().all(|h| !h.effect_driver.is_empty() && h.effect_db.abs() < 40.0);
+            let why = kept
+                .iter()
+                .map(|h| {
+                    let by = if h.effect_db.abs() < 0.005 { "by less than 0.01 dB".to_string() } else { format!("by {:.2} dB", h.effect_db.abs()) };
+                    if kept.len() == 1 {
+                        format!(": on its own, its reading moves {} {by}, and", driver_words(net, &h.effect_driver))
+                    } else {
+                        format!("{} moves {} {by}", h.part, driver_words(net, &h.effect_driver))
+                    }
+                })
+                .collect::<Vec<_>>();
+            let why = match (sized, kept.len()) {
+                (false, _) => String::new(),
+                (true, 1) => why[0].clone(),
+                _ => format!(": on their own, {}, and", join_and(&why)),
+            };
+            let them = if kept.len() == 1 { "it" } else { "them" };
+            let sep = if why.is_empty() { ";" } else { "" };
             if c.quote {
                 let verb = if kept.len() == 1 { "stays" } else { "stay" };
-                out.push(format!("{} {verb} in place in the work proposed: {them} effect is part of the figures after that work.", join_and(&kept)));
+                out.push(format!("{} {verb} in place in the work proposed{why}{sep} the figures after that work include {them}.", join_and(&names)));
             } else {
-                out.push(format!("{} {verb} left in place: {them} effect is part of the figures after the work.", join_and(&kept)));
+                let verb = if kept.len() == 1 { "was" } else { "were" };
+                out.push(format!("{} {verb} left in place{why}{sep} the figures after the work include {them}.", join_and(&names)));
             }
         }
     }
