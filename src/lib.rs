@@ -11,6 +11,7 @@ pub mod cli;
 pub mod diag;
 pub mod engine;
 pub mod files;
+pub mod index;
 pub mod job;
 pub mod model;
 pub mod money;

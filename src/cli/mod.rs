@@ -47,6 +47,9 @@ pub struct Cli {
     /// paths, `..`, links that lead out); by default they are refused
     #[arg(long, global = true)]
     allow_outside: bool,
+    /// Print only problems: no "wrote ..." lines, no progress bar, no line per job that went well
+    #[arg(long, short, global = true)]
+    quiet: bool,
 }
 
 #[derive(Subcommand, Debug)]
@@ -114,13 +117,48 @@ enum Command {
         #[arg(long, default_value = "two-way")]
         example: String,
     },
-    /// Report every job in a folder; a bad job is reported and the rest go on
+    /// Report every job under a folder and write the archive index; a job unchanged since its report is skipped, a bad job is named and the rest go on
     Batch {
-        /// Folder of job files (*.yaml, *.yml)
+        /// Folder of job files (*.yaml, *.yml), searched with its sub-folders
         dir: PathBuf,
-        /// Folder for the reports
+        /// Folder for the reports (laid out in the jobs' own sub-folders) and the index (index.csv, index.json)
         #[arg(long)]
         out: PathBuf,
+        /// customer, archive, sale, quote, or the path of your own .typ template, for every job (overrides each job's choice)
+        #[arg(long)]
+        template: Option<String>,
+        /// Report every job again, even one whose inputs have not changed since its report
+        #[arg(long)]
+        force: bool,
+    },
+    /// Find past jobs in the archive index `batch` writes, by number, customer, serial, design, part fitted or date
+    Find {
+        /// The reports folder `batch --out` wrote (or its index.json)
+        index: PathBuf,
+        /// The job number, exactly (any case)
+        #[arg(long)]
+        number: Option<String>,
+        /// Part of the customer's name or reference, any case
+        #[arg(long)]
+        customer: Option<String>,
+        /// Part of a speaker's serial number
+        #[arg(long)]
+        serial: Option<String>,
+        /// Part of the name of the design the job used
+        #[arg(long)]
+        design: Option<String>,
+        /// The value of a part the work fitted, within 1 %: 3.3 uF, 0.27 mH, 2.2 ohm
+        #[arg(long)]
+        part: Option<String>,
+        /// Jobs dated on or after this day (2026-01-31)
+        #[arg(long)]
+        from: Option<String>,
+        /// Jobs dated on or before this day
+        #[arg(long)]
+        to: Option<String>,
+        /// text for people, json for other programs
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
     },
 }
 
@@ -153,6 +191,7 @@ where
         }
     };
     OUTSIDE.store(cli.allow_outside, std::sync::atomic::Ordering::Relaxed);
+    QUIET.store(cli.quiet, std::sync::atomic::Ordering::Relaxed);
     ExitCode::from(match cli.command {
         Command::Check { job, draw } => check(&job, draw),
         Command::Solve { job, format } => solve(&job, format),
@@ -161,7 +200,10 @@ where
         Command::New { example } => new(&example),
         Command::Diagnose { job, format } => diagnose(&job, format),
         Command::Characterise { sweep, leach, format } => characterise(&sweep, leach, format),
-        Command::Batch { dir, out } => batch(&dir, &out),
+        Command::Find { index, number, customer, serial, design, part, from, to, format } => {
+            find::run(find::Args { index, number, customer, serial, design, part, from, to, format })
+        }
+        Command::Batch { dir, out, template, force } => batch::run(batch::Options { dir: &dir, out_dir: &out, template, force, quiet: cli.quiet }),
     })
 }
 
@@ -178,6 +220,18 @@ fn out(text: &str) -> u8 {
         }
     }
 }
+
+/// What a command says when it went well ("wrote ..."): nothing under `--quiet`.
+fn done(text: &str) -> u8 {
+    if QUIET.load(std::sync::atomic::Ordering::Relaxed) {
+        OK
+    } else {
+        out(text)
+    }
+}
+
+/// `--quiet`, set once at the start of a run.
+static QUIET: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 
 /// `--allow-outside`, set once at the start of a run.
 static OUTSIDE: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
@@ -261,7 +315,7 @@ fn check(path: &Path, draw: bool) -> u8 {
             match analyse(path, &job) {
                 Ok(_) => {
                     let cabinets = if job.cabinets.is_empty() { String::new() } else { format!(", {} cabinets", job.cabinets.len()) };
-                    out(&format!(
+                    done(&format!(
                         "{}: ok ({}, {}, {}{cabinets})\n",
                         path.display(),
                         count(job.network.parts.len(), "part"),
@@ -431,7 +485,7 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
         _ => None,
     };
     match render_to(path, &job, &template, &target, template_arg.as_deref()) {
-        Ok(()) => out(&format!("wrote {}\n", target.display())),
+        Ok(_) => done(&format!("wrote {}\n", target.display())),
         Err(c) => c,
     }
 }
@@ -461,7 +515,8 @@ const CONFINED: &str = "VOICEKEEP_CONFINED_RENDER";
 
 /// `template_arg` is the `--template` the command line gave, if any (the child is given it
 /// again); without it the template is the job's own.
-fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, template_arg: Option<&str>) -> Result<(), u8> {
+/// Returns the job's results when it solved them here (a shop's template renders in a child).
+fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, template_arg: Option<&str>) -> Result<Option<analysis::Outcome>, u8> {
     // A quotation offers work: choices (`options`) or one proposal (`changes`).
     let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
     let worked = job.work_done();
@@ -490,7 +545,7 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, templat
     // runs too long or too large, so a loop in it cannot hang the run or take the machine.
     if let Template::File { name, .. } = template {
         if std::env::var_os(CONFINED).is_none() {
-            return confined::render(path, name, template_arg, target);
+            return confined::render(path, name, template_arg, target).map(|()| None);
         }
         confined::limit_memory();
     }
@@ -506,7 +561,8 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, templat
     report::write_atomically(target, &pdf).map_err(|e| {
         say_err!("voicekeep: cannot write {}: {e}", target.display());
         FAILURE
-    })
+    })?;
+    Ok(Some(f))
 }
 
 fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
@@ -549,7 +605,7 @@ fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
         }
         written.push_str(&format!("wrote {}\n", file.display()));
     }
-    out(&written)
+    done(&written)
 }
 
 /// Writes the network as typed, drawn, beside the job as JOB-schematic.svg.
@@ -571,7 +627,7 @@ fn draw_typed(path: &Path, job: &Job) -> Result<(), u8> {
         say_err!("voicekeep: cannot write {}: {e}", file.display());
         FAILURE
     })?;
-    match out(&format!("drew {}\n", file.display())) {
+    match done(&format!("drew {}\n", file.display())) {
         OK => Ok(()),
         code => Err(code),
     }
@@ -597,91 +653,8 @@ fn new(example: &str) -> u8 {
     }
 }
 
-/// A batch job read and given its report's path, or the exit code of its refusal.
-type Planned<'j> = Result<(&'j Job, PathBuf), u8>;
-
-fn batch(dir: &Path, out_dir: &Path) -> u8 {
-    use rayon::prelude::*;
-    let mut jobs: Vec<PathBuf> = match std::fs::read_dir(dir) {
-        Ok(rd) => rd.filter_map(|e| e.ok().map(|e| e.path())).filter(|p| matches!(p.extension().and_then(|e| e.to_str()), Some("yaml") | Some("yml"))).collect(),
-        Err(e) => {
-            say_err!("voicekeep: cannot read folder {}: {e}", dir.display());
-            return FAILURE;
-        }
-    };
-    jobs.sort();
-    if jobs.is_empty() {
-        say_err!("voicekeep: no job files (*.yaml, *.yml) in {}", dir.display());
-        return PROBLEMS;
-    }
-    if let Err(e) = std::fs::create_dir_all(out_dir) {
-        say_err!("voicekeep: cannot create {}: {e}", out_dir.display());
-        return FAILURE;
-    }
-    let bar = indicatif::ProgressBar::new(jobs.len() as u64);
-    if !std::io::IsTerminal::is_terminal(&std::io::stderr()) {
-        bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
-    }
-    // Read every job first: no report may take the place of another's, nor of anything any
-    // job of the batch read.
-    let loaded: Vec<(PathBuf, Result<Job, u8>)> = jobs.par_iter().map(|p| (p.clone(), load(p))).collect();
-    let inputs: Vec<(PathBuf, &Path)> =
-        loaded.iter().filter_map(|(p, j)| j.as_ref().ok().map(|j| (p, j))).flat_map(|(p, j)| read_by(p, j).into_iter().map(move |i| (i, p.as_path()))).collect();
-    let mut taken: std::collections::BTreeMap<PathBuf, &Path> = Default::default();
-    let mut planned: Vec<(PathBuf, Planned)> = Vec::new();
-    for (p, job) in &loaded {
-        let plan = match job {
-            Err(c) => Err(*c),
-            Ok(job) => {
-                let target = out_dir.join(format!("{}.pdf", p.file_stem().unwrap_or_default().to_string_lossy()));
-                let real = where_written(&target);
-                if let Some(first) = taken.get(&real) {
-                    say_err!("{}: its report would be {}, as {}'s is", p.display(), target.display(), first.display());
-                    say_err!("  hint: give the two job files different names (their names less .yaml or .yml name the reports)");
-                    Err(PROBLEMS)
-                } else if let Some((_, owner)) = inputs.iter().find(|(i, owner)| *i == real && *owner != p.as_path()) {
-                    say_err!("{}: its report would overwrite {}, which {} reads", p.display(), target.display(), owner.display());
-                    say_err!("  hint: write the reports to another folder with --out");
-                    Err(PROBLEMS)
-                } else {
-                    taken.insert(real, p.as_path());
-                    Ok((job, target))
-                }
-            }
-        };
-        planned.push((p.clone(), plan));
-    }
-    let codes: Vec<(PathBuf, u8)> = planned
-        .par_iter()
-        .map(|(p, plan)| {
-            let code = match plan {
-                Ok((job, target)) => match render_to(p, job, &job.template.clone(), target, None) {
-                    Ok(()) => OK,
-                    Err(c) => c,
-                },
-                Err(c) => *c,
-            };
-            bar.inc(1);
-            (p.clone(), code)
-        })
-        .collect();
-    bar.finish_and_clear();
-    let failed: Vec<&(PathBuf, u8)> = codes.iter().filter(|(_, c)| *c != OK).collect();
-    let mut summary = String::new();
-    for (p, c) in &codes {
-        summary.push_str(&format!("{} {}\n", if *c == OK { "ok    " } else { "failed" }, p.display()));
-    }
-    summary.push_str(&format!("{} of {} jobs reported\n", codes.len() - failed.len(), codes.len()));
-    let code = out(&summary);
-    if failed.iter().any(|(_, c)| *c == FAILURE) {
-        FAILURE
-    } else if !failed.is_empty() {
-        PROBLEMS
-    } else {
-        code
-    }
-}
-
+mod batch;
 mod confined;
+mod find;
 mod starter;
 use starter::starter;

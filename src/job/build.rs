@@ -210,6 +210,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
         blocks: raw.blocks,
         service,
         terminals: raw.terminals,
+        design: None,
         inputs: Vec::new(),
         warnings: Vec::new(),
     })

@@ -533,6 +533,9 @@ pub struct Job {
     pub service: service::Service,
     /// Impedance sweeps measured at the terminals, as found and as left.
     pub terminals: terminals::Terminals,
+    /// The design from the shop's library the job uses (`design:`), by name; None for a
+    /// network typed in the job.
+    pub design: Option<String>,
     /// The job file first, then every table it read, in order.
     pub inputs: Vec<InputFile>,
     /// What `check` warns of without refusing the job (a character no font of the report

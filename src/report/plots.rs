@@ -14,8 +14,8 @@
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
-pub use super::captions::{caption, set_caption};
 use super::axes::{log_ticks, range};
+pub use super::captions::{caption, set_caption};
 use crate::analysis::pair::SetFindings;
 use crate::analysis::{frequency_order, Findings, Outcome};
 use crate::model::{Job, PlotKind, Scenario};

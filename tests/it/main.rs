@@ -4,6 +4,7 @@
 mod analytic;
 mod bad;
 mod commands;
+mod desk;
 mod diagnose;
 mod finite;
 mod fixtures;
