@@ -266,7 +266,7 @@ fn pair_text(s: &mut String, set: &SetFindings) {
         let _ = writeln!(s, "  {:<8} {:>10} {:>10}  {}", m.driver, format!("{:.2} dB", m.as_found_db), format!("{:.2} dB", m.as_left_db), m.verdict);
     }
     for m in &set.matching {
-        let _ = writeln!(s, "  {}", m.sentence(is_set));
+        let _ = writeln!(s, "  {}", m.sentence(is_set, set.read_on_bench(), set.cabinets.first().is_some_and(|c| c.job.work_done())));
         if let Some(r) = m.responsible_sentence() {
             let _ = writeln!(s, "  {r}");
         }

@@ -177,7 +177,7 @@ pub fn analyse_set(job: &Job, progress: &dyn Progress) -> Result<SetFindings, An
         let serves = best.filter(|(_, w)| *w <= tol / 2.0);
         let reason = match (serves, best) {
             (Some((v, w)), _) => format!(
-                "one {} {} value, {} ohm, serves every cabinet: each within {:.2} dB of its reference, inside half the {} dB pair tolerance",
+                "one {} {} value, {} ohm, serves every cabinet: each cabinet's band average within {:.2} dB of its reference, inside half the {} dB pair tolerance",
                 entry.series.name(),
                 entry.part,
                 crate::units::trim_number(v, 3),
@@ -351,14 +351,25 @@ fn diff(v: f64) -> String {
     format!("{:.2} dB", v.abs())
 }
 
+impl SetFindings {
+    /// Whether anything was read on the bench in any cabinet (a part reading or a failed
+    /// driver): without, the set "as found" is the design's own figures, not a finding.
+    pub fn read_on_bench(&self) -> bool {
+        self.cabinets.iter().any(|c| c.job.read_on_bench())
+    }
+}
+
 impl PairMatch {
-    /// What the match of this driver comes to, in one sentence for the technician.
-    pub fn sentence(&self, set: bool) -> String {
+    /// What the match of this driver comes to, in one sentence for the technician: `read`,
+    /// whether anything was read on the bench before the work; `worked`, whether work was done.
+    pub fn sentence(&self, set: bool, read: bool, worked: bool) -> String {
         let t = crate::units::trim_number(self.tolerance_db, 3);
         let [fl, fq] = &self.as_found_cabinets;
         let [ll, lq] = &self.as_left_cabinets;
         let fault = crate::analysis::compensate::FAULT_DB;
-        let found = if self.as_found_db > fault {
+        let found = if !read {
+            "nothing was read on the bench before the work, so there is no difference as found to tell".to_string()
+        } else if self.as_found_db > fault {
             format!("as found {fq}'s was all but silent, {} below {fl}'s: a fault (an open part or connection), not a level difference", diff(self.as_found_db))
         } else if self.as_found_db < 0.005 {
             "as found the cabinets played alike".to_string()
@@ -385,6 +396,14 @@ impl PairMatch {
             (_, false) => format!("outside the {t} dB pair tolerance"),
             (_, true) => format!("not every cabinet within {t} dB of the set's median"),
         };
+        if !worked {
+            // No work: there is no "as left", and the verdict is of the speakers as they are.
+            return if read {
+                format!("{}: {found}; no work has been done yet ({verdict}).", self.driver)
+            } else {
+                format!("{}: {found}; no work has been done yet.", self.driver)
+            };
+        }
         format!("{}: {found}; {left}, {verdict}.", self.driver)
     }
 

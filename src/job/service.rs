@@ -161,7 +161,11 @@ fn inspection(node: &Node, path: &str, ctx: &mut Ctx) -> Vec<InspectionItem> {
             }
         };
         let Some(result) = result else { continue };
-        let item = default.map(|(_, words)| words.to_string()).unwrap_or_else(|| k.name.clone());
+        // The shop's own item is printed as the default items are, with a capital.
+        let item = default.map(|(_, words)| words.to_string()).unwrap_or_else(|| {
+            let mut c = k.name.chars();
+            c.next().map(|f| f.to_uppercase().chain(c).collect()).unwrap_or_default()
+        });
         given.push(InspectionItem { key: k.name.clone(), item, result, note });
     }
     let mut out: Vec<InspectionItem> = DEFAULT_INSPECTION

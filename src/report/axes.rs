@@ -29,13 +29,13 @@ pub(super) fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
 }
 
 /// Adds a label above the last when the axis runs on well past it (3 to 45 ohm labelled 3, 5,
-/// 10, 20, 30 leaves a peak at 42 beside no figure): the largest round value (1 2 3 4 5 6 8
-/// per decade) below the top, if it is at least a third above the last label, so the two
+/// 10, 20, 30 leaves a peak at 42 beside no figure): the largest round value (1 1.5 2 3 4 5
+/// 6 8 per decade) below the top, if it is at least a third above the last label, so the two
 /// never crowd.
 fn top_up(mut ticks: Vec<f64>, hi: f64) -> Vec<f64> {
     let Some(&last) = ticks.last() else { return ticks };
     let decade = 10f64.powf(hi.log10().floor());
-    let top = [8.0, 6.0, 5.0, 4.0, 3.0, 2.0, 1.0].iter().map(|m| m * decade).find(|v| *v <= hi * (1.0 + 1e-12));
+    let top = [8.0, 6.0, 5.0, 4.0, 3.0, 2.0, 1.5, 1.0].iter().map(|m| m * decade).find(|v| *v <= hi * (1.0 + 1e-12));
     if let Some(t) = top {
         if t >= last * 4.0 / 3.0 {
             ticks.push(t);

@@ -20,6 +20,8 @@ fn a_log_axis_is_labelled_at_round_values() {
     // peak at 42 (a terminal sweep's plot); 40 is a third above 30, so it is added.
     assert_eq!(log_ticks(3.0, 45.0), vec![3.0, 5.0, 10.0, 20.0, 30.0, 40.0]);
     assert_eq!(log_ticks(3.0, 38.0), vec![3.0, 5.0, 10.0, 20.0, 30.0]);
+    // The sweep sample's terminal plot stopped at 10 beside a peak near 15.
+    assert_eq!(log_ticks(3.5, 17.0), vec![4.0, 5.0, 6.0, 8.0, 10.0, 15.0]);
 }
 
 #[test]

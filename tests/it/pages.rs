@@ -48,6 +48,12 @@ fn layout_problems(name: &str, marks: &[Mark]) -> Vec<String> {
             if on_first == 1 {
                 out.push(format!("{name}: table {} leaves a single row at the foot of page {}", i + 1, first.page));
             }
+            // Nor its last row alone at the top of the next (repair-like-for-like's archive
+            // carried its inspection's last row over to page 2).
+            let on_last = rows.iter().filter(|r| r.page == last.page).count();
+            if on_last == 1 {
+                out.push(format!("{name}: table {} carries a single row over to page {}", i + 1, last.page));
+            }
         }
     }
     out
@@ -108,7 +114,8 @@ fn the_layout_checker_finds_a_split_table_and_a_row_alone_at_a_foot() {
         mark("figure", 2, 60.0),
         mark("figure-end", 2, 300.0),
         mark("row", 2, 320.0),
-        mark("end", 2, 330.0),
+        mark("row", 2, 330.0),
+        mark("end", 2, 340.0),
     ];
     let p = layout_problems("split", &split);
     assert!(p.len() == 1 && p[0].contains("split by a figure on page 2"), "{p:?}");
@@ -116,7 +123,11 @@ fn the_layout_checker_finds_a_split_table_and_a_row_alone_at_a_foot() {
     let alone = [mark("table", 1, 740.0), mark("row", 1, 760.0), mark("row", 2, 60.0), mark("row", 2, 70.0), mark("end", 2, 80.0)];
     let p = layout_problems("alone", &alone);
     assert!(p.len() == 1 && p[0].contains("single row at the foot of page 1"), "{p:?}");
+    // One row carried over to the next page.
+    let carried = [mark("table", 1, 600.0), mark("row", 1, 700.0), mark("row", 1, 760.0), mark("row", 2, 60.0), mark("end", 2, 80.0)];
+    let p = layout_problems("carried", &carried);
+    assert!(p.len() == 1 && p[0].contains("carries a single row over to page 2"), "{p:?}");
     // Two rows at the foot are not alone.
-    let two = [mark("table", 1, 740.0), mark("row", 1, 750.0), mark("row", 1, 760.0), mark("row", 2, 60.0), mark("end", 2, 80.0)];
+    let two = [mark("table", 1, 740.0), mark("row", 1, 750.0), mark("row", 1, 760.0), mark("row", 2, 60.0), mark("row", 2, 70.0), mark("end", 2, 80.0)];
     assert!(layout_problems("two", &two).is_empty());
 }

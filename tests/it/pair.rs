@@ -184,8 +184,14 @@ fn a_set_whose_cabinets_play_alike_names_no_odd_cabinet() {
     for m in &set.matching {
         assert_eq!(m.odd_cabinet, None, "{}", m.driver);
         assert!(m.responsible.is_empty(), "{:?}", m.responsible);
-        let s = m.sentence(true);
+        let s = m.sentence(true, set.read_on_bench(), true);
         assert!(s.contains("as found the cabinets played alike") && !s.contains("loudest") && !s.contains("farthest"), "{s}");
+        // With nothing read, the same figures are no finding: the sentence says so.
+        let s = m.sentence(true, false, true);
+        assert!(s.contains("nothing was read on the bench before the work") && !s.contains("played alike"), "{s}");
+        // With no work done, nothing is said "as left".
+        let s = m.sentence(true, true, false);
+        assert!(s.contains("no work has been done yet") && !s.contains("as left"), "{s}");
     }
 }
 

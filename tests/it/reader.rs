@@ -42,6 +42,8 @@ struct Report {
     /// Per page: how far down the body the last text reaches (0 top, 1 the foot of the body),
     /// and the last line of the body.
     ends: Vec<(f64, String)>,
+    /// Whether the PDF carries embedded files (an `/EmbeddedFile` object).
+    attached: bool,
 }
 
 impl Report {
@@ -135,7 +137,8 @@ fn read(job: &Path, template: &'static str, dir: &Path) -> Option<Report> {
     if pages.last().is_some_and(|p| p.is_empty()) {
         pages.pop();
     }
-    Some(Report { job: stem, template, pages, ends: page_ends(&pdf) })
+    let attached = std::fs::read(&pdf).unwrap().windows(13).any(|w| w == b"/EmbeddedFile");
+    Some(Report { job: stem, template, pages, ends: page_ends(&pdf), attached })
 }
 
 /// Every job under every template, rendered two at a time (the machine's two cores).
@@ -634,4 +637,43 @@ fn a_worn_part_left_in_place_says_how_little_it_moves() {
     }
     assert!(seen > 0, "no report leaves a worn part in place: the check reads nothing");
     verdict("kept part without a reason", bad);
+}
+
+/// Only the shop's record carries the job's files inside the PDF: the job file holds the bench
+/// notes that are the shop's own, its settings and stock prices, and photographs not marked
+/// for the customer. Failed before on every customer report and quotation (each carried the
+/// job file; repair-like-for-like's also the photograph not marked for the customer).
+#[test]
+fn only_the_archive_carries_the_jobs_files() {
+    let mut bad = Vec::new();
+    for job in all() {
+        for r in &job.reports {
+            if r.attached != (r.template == "archive") {
+                bad.push(format!("{}: {}", r.name(), if r.attached { "files attached" } else { "nothing attached" }));
+            }
+        }
+    }
+    verdict("attachments", bad);
+}
+
+/// A report states no rating the job does not give: no "its rated 8 Ω" for a speaker whose
+/// rated impedance the job leaves out (the header says "not given"), and no "the amplifier
+/// power given above" where no power figure was given. Failed before on the reference jobs'
+/// customer reports (butterworth-esr-dcr, lpad-tweeter, small-zobel, three-way).
+#[test]
+fn a_report_claims_no_rating_the_job_does_not_give() {
+    let mut bad = Vec::new();
+    for job in all() {
+        let no_power = job.json.pointer("/power_range/suits_w").is_none_or(|v| v.is_null());
+        for r in job.reports.iter().filter(|r| r.plain()) {
+            let t = r.text();
+            if job.rated_ohm.is_none() && t.contains("its rated") {
+                bad.push(format!("{}: \"its rated\" with no rated impedance in the job", r.name()));
+            }
+            if no_power && t.contains("power given above") {
+                bad.push(format!("{}: refers to a power figure it does not give", r.name()));
+            }
+        }
+    }
+    verdict("claimed rating", bad);
 }

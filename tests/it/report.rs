@@ -96,9 +96,17 @@ fn renders_are_byte_identical_and_a_changed_note_changes_the_pdf() {
     let b = Cli::new().job(&job).args(["report", "{job}", "-o", "{dir}/b.pdf"]).run();
     let (pa, pb) = (std::fs::read(a.dir.join("a.pdf")).unwrap(), std::fs::read(b.dir.join("b.pdf")).unwrap());
     assert!(pa == pb, "two renders of the same job differ");
+    // The bench notes are the shop's own: the archive changes with them, the customer's
+    // report not at all (it carried the job file, notes and all, before).
     let changed = job.replace("dull and veiled", "dull and distant");
+    assert!(changed != job);
     let c = Cli::new().job(&changed).args(["report", "{job}", "-o", "{dir}/c.pdf"]).run();
-    assert!(std::fs::read(c.dir.join("c.pdf")).unwrap() != pa);
+    assert!(std::fs::read(c.dir.join("c.pdf")).unwrap() == pa, "the customer's report changed with the shop's bench notes");
+    let archive = |text: &str| {
+        let o = Cli::new().job(text).args(["report", "{job}", "--template", "archive", "-o", "{dir}/x.pdf"]).run();
+        std::fs::read(o.dir.join("x.pdf")).unwrap()
+    };
+    assert!(archive(&job) != archive(&changed));
 }
 
 #[test]

@@ -191,7 +191,8 @@ fn every_service_field_reaches_the_templates_that_show_it() {
         "2026-10-06 to 2026-10-14",
         "Very good: the veneer has two light marks on the top; grille as new",
         "one crimp on the tweeter lead re-made",
-        "crossover board mounting",
+        // The shop's own item, capitalised as the default items are.
+        "Crossover board mounting",
         // The protection item is `none fitted`: this model has none, so nothing was left
         // unchecked (it read "not checked" beside "no protection device fitted" before).
         "12 items: 8 pass, 3 fixed, 1 none fitted.",
@@ -249,7 +250,7 @@ fn the_inspection_lists_every_default_item_and_refuses_a_slip() {
         "Driver spiders not checked",
         "Voice-coil rub not checked",
         "Grille not checked",
-        "tweeter lens fail cracked",
+        "Tweeter lens fail cracked",
         "12 items: 1 pass, 1 fail, 10 not checked.",
     ] {
         assert!(t.contains(item), "{item}: {t}");

@@ -153,14 +153,22 @@ pub(super) fn compensation(c: &Ctx) -> CompensationData {
     let f = c.f;
     let net = &f.scenes.as_left.network;
     let rating_of = |part: &str| f.stress.rows.iter().find(|r| r.scenario == Scenario::AsLeft && r.part == part).and_then(|r| r.rating_w.map(|w| (w, r.rating_chosen)));
-    let acoustic: Vec<&str> = f.compensation.fits.iter().filter(|x| x.acoustic).map(|x| x.driver.as_str()).collect();
+    let mut acoustic: Vec<&str> = f.compensation.fits.iter().filter(|x| x.acoustic).map(|x| x.driver.as_str()).collect();
+    // Two parts fitted for one driver name it once ("for HF, HF" before).
+    acoustic.dedup();
     let held = if acoustic.is_empty() {
         String::new()
     } else {
         format!(" (for {}, the level held is acoustic output, SPL at 2.83 V and 1 m from sensitivity or response, since the reference and the driver fitted now both have it; otherwise the voltage across the driver)", acoustic.join(", "))
     };
+    // A pair's common value is not each cabinet's own nearest: the rule says which it is.
+    let common = if c.job.compensate.iter().any(|e| e.common_ohm.is_some()) {
+        "; where one value serves every cabinet of the pair or set, that value instead: the member of the series that keeps the worst cabinet's band average closest to its reference, within half the pair tolerance"
+    } else {
+        ""
+    };
     let basis = format!(
-        "least-squares level match in dB over each band against the reference scenario{held}, rounded to the named IEC 60063 series (nearest in the geometric sense); ratings at least twice the programme dissipation at {} W (common practice)",
+        "least-squares level match in dB over each band against the reference scenario{held}, rounded to the named IEC 60063 series (nearest in the geometric sense){common}; ratings at least twice the programme dissipation at {} W (common practice)",
         trim_number(f.stress.programme_w, 3)
     );
     let mut notes = Vec::new();
@@ -469,7 +477,14 @@ pub(super) fn load(c: &Ctx) -> LoadData {
         let verdict = if ll.verdict == crate::analysis::Verdict::Over {
             "too low for most amplifiers: check the amplifier maker's minimum load before use.".to_string()
         } else if !ll.rated_impedance_holds {
-            format!("below the 80 % of its rated {} that the loudspeaker standard allows, so use {advice}, or keep the volume moderate.", ohm(r))
+            // With no rating given, the shop judged against the amplifier's load: said so,
+            // never as the speaker's own rating (the header says "not given").
+            match job.info.rated_impedance {
+                Some(_) => format!("below the 80 % of its rated {} that the loudspeaker standard allows, so use {advice}, or keep the volume moderate.", ohm(r)),
+                None => {
+                    format!("below 80 % of {}, the load the shop's figures assume (the speaker's own rating is not given), so use {advice}, or keep the volume moderate.", ohm(r))
+                }
+            }
         } else if ll.demanding {
             format!("a demanding load at high volume; use {advice}.")
         } else {
@@ -559,10 +574,12 @@ pub(super) fn inputs(c: &Ctx) -> Table {
     Table::new(&["File", "Size", "SHA-256"], c.job.inputs.iter().map(|i| Row(vec![i.name.clone(), format!("{} bytes", i.bytes.len()), sha256(&i.bytes)])).collect())
 }
 
-/// The files attached inside the PDF. The sale sheet carries none of them: the job file
-/// names the previous owner.
+/// The files attached inside the PDF: the archive's only. The job file holds the shop's own
+/// bench notes, its settings and stock prices, and photographs not marked for the customer;
+/// the customer's report, the quotation and the sale sheet carry none of them (they failed
+/// before: every customer report carried the job file with its private notes).
 pub(super) fn attachments(c: &Ctx) -> Vec<Attachment> {
-    if c.audience == Audience::Sale {
+    if c.audience != Audience::Archive || c.quote {
         return Vec::new();
     }
     c.job.inputs.iter().enumerate().map(|(i, inp)| Attachment { name: inp.name.clone(), file: format!("/inputs/{i}"), mime: mime(&inp.name).into() }).collect()

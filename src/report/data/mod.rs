@@ -422,9 +422,15 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
     }
     // A quotation before any work, or an inspection with none: the speaker "after the work"
     // is the speaker as it is now.
+    // The plain table's "after" average would repeat the "before" one: it goes.
     if !job.work_done() {
-        for h in &mut data.levels.table.header {
-            *h = h.replace("After the work", "Now, before any work").replace("Before the work", "From the readings");
+        let t = &mut data.levels.table;
+        if let Some(at) = t.header.iter().position(|h| h == "After the work (average)") {
+            t.header.remove(at);
+            t.rows.iter_mut().for_each(|r| drop(r.0.remove(at)));
+        }
+        for h in &mut t.header {
+            *h = h.replace("After the work, largest", "Largest").replace("After the work", "Now, before any work").replace("Before the work", "From the readings");
         }
     }
     // A quotation of one proposal (`changes`, no options): the work is offered, not done.

@@ -41,7 +41,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     let power = least.map(|i| {
         let p = each[i].power.clone();
         if set.cabinets.len() > 1 && data_plain(template) {
-            format!("{p} (This is the lower of the cabinets' figures.)")
+            format!("{p} (This is the {} of the cabinets' figures.)", if set.cabinets.len() == 2 { "lower" } else { "lowest" })
         } else if set.cabinets.len() > 1 {
             format!("{p} (Cabinet {}, the least of the cabinets.)", names[i])
         } else {
@@ -270,13 +270,29 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
             ])
         })
         .collect();
-    let header = ["Driver", "Difference as found", "Difference as left", "Match"];
+    // With no work done there is no "as left": its columns go (they would repeat "as found").
+    let worked = job.work_done();
+    let drop_left = |mut rows: Vec<Row>, at: usize| {
+        if !worked {
+            rows.iter_mut().for_each(|r| drop(r.0.remove(at)));
+        }
+        rows
+    };
+    let rows = drop_left(rows, 2);
+    let header: Vec<&str> = ["Driver", "Difference as found", "Difference as left", "Match"].into_iter().filter(|h| worked || !h.ends_with("as left")).collect();
     let median_rows = set
         .matching
         .iter()
-        .flat_map(|m| m.from_median.iter().map(move |x| Row(vec![m.driver.clone(), x.cabinet.clone(), crate::results::level(x.as_found_db), crate::results::level(x.as_left_db)])))
+        .flat_map(|m| {
+            m.from_median.iter().map(move |x| {
+                let found = if unread { "not read on the bench".to_string() } else { crate::results::level(x.as_found_db) };
+                Row(vec![m.driver.clone(), x.cabinet.clone(), found, crate::results::level(x.as_left_db)])
+            })
+        })
         .collect();
-    let mut sentences: Vec<String> = set.matching.iter().map(|m| m.sentence(is_set)).collect();
+    let median_rows = drop_left(median_rows, 3);
+    let median_header: Vec<&str> = ["Driver", "Cabinet", "From the median as found", "As left"].into_iter().filter(|h| worked || *h != "As left").collect();
+    let mut sentences: Vec<String> = set.matching.iter().map(|m| m.sentence(is_set, !unread, job.work_done())).collect();
     sentences.extend(set.matching.iter().filter_map(|m| m.responsible_sentence()));
     let comp_rows = set
         .compensation
@@ -297,15 +313,14 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
             "each driver's band-mean level in each cabinet, as worked out from that cabinet's readings (as found) and its work (as left); {spread}, against a tolerance of {tol} dB (the job's, or 0.5 dB, common practice); a reading's share is its effect alone on the original design"
         ),
         table: Table::new(&header, rows),
-        median: Table::new(&["Driver", "Cabinet", "From the median as found", "As left"], median_rows),
+        median: Table::new(&median_header, median_rows),
         sentences,
         compensation: Table::new(&["Part", "Driver", "Exact value", "Fitted"], comp_rows),
         compensation_notes: set.compensation.iter().map(|c| capitalise(&c.reason) + ".").collect(),
     }
 }
 
-/// Whether nothing was read on the bench in any cabinet (no part reading, no failed driver):
-/// the set "as found" is then the design's own figures, not a finding.
+/// Whether nothing was read on the bench in any cabinet: the set's own fact.
 fn unread(set: &SetFindings) -> bool {
-    set.cabinets.iter().all(|c| !c.job.read_on_bench())
+    !set.read_on_bench()
 }

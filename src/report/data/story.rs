@@ -15,6 +15,16 @@ fn quoting(job: &crate::model::Job) -> bool {
     job.changes.is_empty() && !job.options.is_empty()
 }
 
+/// When the readings were taken, as a sentence opens: "Before the work" only where there is
+/// work, done or offered; an inspection's speaker is as it came in.
+fn when_found(job: &crate::model::Job) -> &'static str {
+    if no_work(job) {
+        "As it came in"
+    } else {
+        "Before the work"
+    }
+}
+
 /// A job with no work done and none offered: readings only, an inspection.
 fn no_work(job: &crate::model::Job) -> bool {
     !job.work_done() && job.options.is_empty()
@@ -51,7 +61,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             ));
         }
     } else if off.is_empty() {
-        out.push("Before the work, as worked out from the parts' readings, every driver was within 0.5 dB of the original design.".into());
+        out.push(format!("{}, as worked out from the parts' readings, every driver was within 0.5 dB of the original design.", when_found(job)));
     } else {
         let each: Vec<String> = off
             .iter()
@@ -63,7 +73,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
                 }
             })
             .collect();
-        out.push(format!("Before the work, as worked out from the parts' readings, {}.", join_and(&each)));
+        out.push(format!("{}, as worked out from the parts' readings, {}.", when_found(job), join_and(&each)));
     }
     // The drivers' own faults, as the bench found them.
     for d in f.scenes.as_found.network.drivers.iter().filter(|d| d.fault.is_some() || d.fault_note.is_some()) {
@@ -340,6 +350,9 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
         // (before the work) gives none.
         s.push(if c.quote {
             "Amplifier: a more powerful amplifier than the speaker's makers rate it for, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
+        } else if f.power.suits_w.is_none() {
+            // No figure was given above (nothing has a rating on record): none is referred to.
+            format!("Amplifier: with no power rating on record for any part or driver, ask the shop before using an amplifier of more than the {} W per channel these figures were worked out for. One driven into clipping can damage the drivers and the crossover at any power; turn the volume down if the sound hardens or distorts.", trim_number(f.power.job_w, 3))
         } else {
             "Amplifier: keep within the amplifier power given above. A more powerful amplifier, or one driven into clipping, can damage the drivers and the crossover; turn the volume down if the sound hardens or distorts.".to_string()
         });
