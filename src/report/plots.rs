@@ -337,12 +337,13 @@ fn terminals(job: &Job, f: &Findings) -> Result<String, Box<dyn std::error::Erro
         // sparse dashes; predicted as found short dashes, as left solid.
         let (predicted, measured) = if c.scenario == crate::model::Scenario::AsLeft { (Pattern::Solid, Pattern::Sparse) } else { (Pattern::Short, Pattern::Dot) };
         curves.push(Curve { label: format!("measured {}", c.scenario.label()), colour: BRICK, pattern: measured, points: c.curves.iter().map(|p| (p[0], p[1].log10())).collect() });
-        curves.push(Curve {
-            label: format!("calculated {}", c.scenario.label()),
-            colour: NAVY,
-            pattern: predicted,
-            points: c.curves.iter().map(|p| (p[0], p[3].log10())).collect(),
-        });
+        // With nothing read on the bench, the calculated speaker as found is the design.
+        let calculated = if c.scenario == crate::model::Scenario::AsFound && !job.read_on_bench() {
+            "calculated from the design (nothing read)".to_string()
+        } else {
+            format!("calculated {}", c.scenario.label())
+        };
+        curves.push(Curve { label: calculated, colour: NAVY, pattern: predicted, points: c.curves.iter().map(|p| (p[0], p[3].log10())).collect() });
         lo = lo.min(c.from_hz);
         hi = hi.max(c.to_hz);
     }
@@ -368,7 +369,9 @@ pub fn all_set(job: &Job, set: &SetFindings) -> Vec<(PlotKind, String)> {
         (PlotKind::PairLeft, set_change(job, set, Scenario::AsLeft)),
         (PlotKind::Impedance, set_impedance(job, set, worked)),
     ] {
-        if kind == PlotKind::PairLeft && !worked {
+        // Nor, with nothing read before the work in any cabinet, does one claim an "as found"
+        // (it would be the design's curve under that name).
+        if (kind == PlotKind::PairLeft && !worked) || (kind == PlotKind::PairFound && !set.read_on_bench()) {
             continue;
         }
         if let Ok(svg) = r {

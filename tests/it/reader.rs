@@ -593,14 +593,18 @@ fn a_set_read_nowhere_claims_no_difference_before_the_work() {
 #[test]
 fn a_job_read_nowhere_draws_no_curve_as_found() {
     let mut bad = Vec::new();
-    for job in all().iter().filter(|j| j.json.get("cabinets").is_none()) {
-        let worked = job.yaml.lines().any(|l| l.starts_with("changes:"));
+    for job in all() {
+        // Work done: the job's own steps, or a cabinet's where no options are offered (an
+        // option's steps are proposed, not done).
+        let options = job.yaml.lines().any(|l| l.starts_with("options:"));
+        let worked = job.yaml.lines().any(|l| l.starts_with("changes:") || (!options && l.trim_start().starts_with("changes:")));
         if read_on_bench(&job.yaml) || !worked {
             continue;
         }
         for r in &job.reports {
             let t = r.text();
-            for wrong in ["HF as found", "LF as found", "MF as found", "|Z| as found", "as found (short dashes)"] {
+            // "Each cabinet as found" failed before on set-of-three-alike's plot of the set.
+            for wrong in ["HF as found", "LF as found", "MF as found", "|Z| as found", "as found (short dashes)", "Each cabinet as found against"] {
                 if t.contains(wrong) {
                     bad.push(format!("{}: \"{wrong}\"", r.name()));
                 }
