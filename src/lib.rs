@@ -15,6 +15,7 @@ pub mod index;
 pub mod job;
 pub mod model;
 pub mod money;
+pub mod netlist;
 pub mod report;
 pub mod results;
 pub mod schematic;

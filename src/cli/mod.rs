@@ -131,6 +131,20 @@ enum Command {
         #[arg(long)]
         force: bool,
     },
+    /// Write a scenario's network (with the fitted values) as a SPICE netlist with an AC analysis, to check any figure in ngspice
+    Netlist {
+        /// The job file (YAML), or - to read it from standard input
+        job: PathBuf,
+        /// as-designed, as-found or as-left
+        #[arg(long, default_value = "as-left")]
+        scenario: String,
+        /// The cabinet of a pair or set
+        #[arg(long)]
+        cabinet: Option<String>,
+        /// Where to write the netlist (default: standard output)
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+    },
     /// Find past jobs in the archive index `batch` writes, by number, customer, serial, design, part fitted or date
     Find {
         /// The reports folder `batch --out` wrote (or its index.json)
@@ -200,6 +214,7 @@ where
         Command::New { example } => new(&example),
         Command::Diagnose { job, format } => diagnose(&job, format),
         Command::Characterise { sweep, leach, format } => characterise(&sweep, leach, format),
+        Command::Netlist { job, scenario, cabinet, output } => netlist::run(&job, &scenario, cabinet, output),
         Command::Find { index, number, customer, serial, design, part, from, to, format } => {
             find::run(find::Args { index, number, customer, serial, design, part, from, to, format })
         }
@@ -656,5 +671,6 @@ fn new(example: &str) -> u8 {
 mod batch;
 mod confined;
 mod find;
+mod netlist;
 mod starter;
 use starter::starter;

@@ -13,6 +13,7 @@ mod hostile;
 mod hostile2;
 mod interrupted;
 mod layout;
+mod netlist;
 mod nodal;
 mod options;
 mod pages;
