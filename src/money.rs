@@ -44,6 +44,13 @@ impl Money {
         i64::try_from((2 * hundredths + scale) / (2 * scale)).ok().map(Money)
     }
 
+    /// This amount's share at a rate in hundredths of a percent (2000 for 20 %), exact,
+    /// rounded half up to the hundredth; None if it overflows.
+    pub fn share(self, hundredths_of_percent: i64) -> Option<Money> {
+        let n = (self.0 as i128).checked_mul(hundredths_of_percent as i128)?;
+        i64::try_from((2 * n + 10_000) / 20_000).ok().map(Money)
+    }
+
     pub fn plus(self, other: Money) -> Option<Money> {
         self.0.checked_add(other.0).map(Money)
     }
@@ -64,6 +71,16 @@ impl serde::Serialize for Money {
 
 #[cfg(test)]
 mod tests {
+
+    #[test]
+    fn a_share_rounds_half_up_to_the_hundredth() {
+        // 7.5 % of 12.35 is 0.92625: 0.93. 20 % of 136.70 is 27.34 exactly. 5 % of 0.10 is
+        // 0.005: half, up to 0.01.
+        assert_eq!(Money(1235).share(750), Some(Money(93)));
+        assert_eq!(Money(13670).share(2000), Some(Money(2734)));
+        assert_eq!(Money(10).share(500), Some(Money(1)));
+        assert_eq!(Money(10).share(0), Some(Money(0)));
+    }
     use super::*;
 
     #[test]

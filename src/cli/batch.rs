@@ -89,7 +89,7 @@ pub fn run(o: Options) -> u8 {
     use rayon::prelude::*;
     if let Some(t) = &o.template {
         if Template::built_in(t).is_none() && !t.ends_with(".typ") {
-            say_err!("voicekeep: --template takes customer, archive, sale, quote or the path of a .typ file, not \"{t}\"");
+            say_err!("voicekeep: --template takes customer, archive, sale, quote, invoice or the path of a .typ file, not \"{t}\"");
             return super::USAGE;
         }
     }

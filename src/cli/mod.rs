@@ -77,7 +77,7 @@ enum Command {
         /// Where to write the PDF (default: beside the job, same name)
         #[arg(short, long)]
         output: Option<PathBuf>,
-        /// customer, archive, sale, quote, or the path of your own .typ template (overrides the job's choice)
+        /// customer, archive, sale, quote, invoice, or the path of your own .typ template (overrides the job's choice)
         #[arg(long)]
         template: Option<String>,
     },
@@ -124,7 +124,7 @@ enum Command {
         /// Folder for the reports (laid out in the jobs' own sub-folders) and the index (index.csv, index.json)
         #[arg(long)]
         out: PathBuf,
-        /// customer, archive, sale, quote, or the path of your own .typ template, for every job (overrides each job's choice)
+        /// customer, archive, sale, quote, invoice, or the path of your own .typ template, for every job (overrides each job's choice)
         #[arg(long)]
         template: Option<String>,
         /// Report every job again, even one whose inputs have not changed since its report
@@ -469,7 +469,7 @@ fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) ->
     let cli_template = template.is_some();
     if let Some(t) = &template {
         if Template::built_in(t).is_none() && !t.ends_with(".typ") {
-            say_err!("voicekeep: --template takes customer, archive, sale, quote or the path of a .typ file, not \"{t}\"");
+            say_err!("voicekeep: --template takes customer, archive, sale, quote, invoice or the path of a .typ file, not \"{t}\"");
             return USAGE;
         }
     }
@@ -536,7 +536,13 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, templat
     let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
     let worked = job.work_done();
     let others = |but: &str| {
-        let list: Vec<&str> = ["customer", "archive"].into_iter().chain(worked.then_some("sale")).chain(proposes.then_some("quote")).filter(|t| *t != but).collect();
+        let list: Vec<&str> = ["customer", "archive"]
+            .into_iter()
+            .chain(worked.then_some("sale"))
+            .chain(proposes.then_some("quote"))
+            .chain(worked.then_some("invoice"))
+            .filter(|t| *t != but)
+            .collect();
         list.join(", ")
     };
     if *template == Template::Quote && !proposes {
@@ -565,6 +571,14 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, templat
         confined::limit_memory();
     }
     let f = analyse(path, job)?;
+    // An invoice bills work done with every line priced.
+    if *template == Template::Invoice {
+        if let Some((message, hint)) = report::data::invoice::refusal(job, report::data::invoice::parts_of(&f)) {
+            say_err!("{}: {message}", path.display());
+            say_err!("  hint: {hint}");
+            return Err(PROBLEMS);
+        }
+    }
     let pdf = report::render_outcome(job, &f, template).map_err(|e| {
         say_err!("{}: {e}", path.display());
         if matches!(e, report::ReportError::Template { .. }) {

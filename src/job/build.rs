@@ -187,6 +187,7 @@ pub fn build(raw: RawJob, ctx: &mut Ctx) -> Option<Job> {
                     quote.labour_rate = s.labour_rate;
                 }
                 quote.currency = s.currency;
+                quote.tax = s.tax;
                 if logo.is_none() {
                     logo = s.logo.map(|name| TableRef { name, pos: r.pos, field: format!("{} (logo)", r.field) });
                 }
@@ -566,6 +567,7 @@ fn template(raw: RawTemplate, ctx: &mut Ctx) -> Template {
         RawTemplate::Archive => Template::Archive,
         RawTemplate::Sale => Template::Sale,
         RawTemplate::Quote => Template::Quote,
+        RawTemplate::Invoice => Template::Invoice,
         RawTemplate::File { name, pos } => match ctx.files.read(&name, crate::report::MAX_TEMPLATE_BYTES).and_then(|b| crate::report::template_text(&name, b)) {
             Ok(bytes) => {
                 let text = String::from_utf8_lossy(&bytes).into_owned();

@@ -261,7 +261,7 @@ fn quote(node: &Node, ctx: &mut Ctx) -> (Quote, Option<crate::diag::Pos>) {
         m
     });
     let recommend = ctx.opt_text(&f, "recommend");
-    (Quote { labour_rate, recommend, currency: None }, f.get("recommend").map(|n| n.pos()))
+    (Quote { labour_rate, recommend, currency: None, tax: None }, f.get("recommend").map(|n| n.pos()))
 }
 
 /// The price list section: the file and its currency.
@@ -627,6 +627,7 @@ fn report(node: &Node, options: &[String], ctx: &mut Ctx) -> (RawTemplate, Optio
                 Some(Template::Archive) => RawTemplate::Archive,
                 Some(Template::Sale) => RawTemplate::Sale,
                 Some(Template::Quote) => RawTemplate::Quote,
+                Some(Template::Invoice) => RawTemplate::Invoice,
                 Some(_) => RawTemplate::Customer,
                 None if t.ends_with(".typ") => RawTemplate::File { name: t, pos: n.pos() },
                 None => {

@@ -99,6 +99,7 @@ pub enum RawTemplate {
     Archive,
     Sale,
     Quote,
+    Invoice,
     File { name: String, pos: Pos },
 }
 

@@ -202,7 +202,20 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
     // own place in the message.
     let mut inner = Ctx::new(ctx.files);
     let s = (|| {
-        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency", "logo"])?;
+        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency", "logo", "tax_rate", "tax_name"])?;
+        // "20 %", at most two decimals, 0 to 100 %: kept exact in hundredths of a percent.
+        let tax = f.get("tax_rate").and_then(|n| {
+            let t = inner.text(n, "tax_rate")?;
+            let rate = t.trim().strip_suffix('%').and_then(|x| crate::money::Money::parse(x.trim())).filter(|m| m.0 <= 10_000);
+            if rate.is_none() {
+                inner.error(n.pos(), "tax_rate", format!("\"{t}\" is not a tax rate"), Some("a percentage from 0 to 100 with at most two decimals, such as 20 % or 7.5 %".into()));
+            }
+            rate.map(|r| crate::model::service::Tax { name: String::new(), hundredths_of_percent: r.0 })
+        });
+        let tax = tax.map(|mut t| {
+            t.name = inner.opt_text(&f, "tax_name").unwrap_or_else(|| "Tax".into());
+            t
+        });
         let labour_rate = f.get("labour_rate").and_then(|n| {
             let t = inner.text(n, "labour_rate")?;
             let m = crate::money::Money::parse(&t);
@@ -224,6 +237,7 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
             labour_rate,
             currency: inner.opt_text(&f, "currency"),
             logo: inner.opt_text(&f, "logo"),
+            tax,
         })
     })();
     let ok = inner.diags.is_empty();

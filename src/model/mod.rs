@@ -205,6 +205,8 @@ pub struct Quote {
     pub recommend: Option<String>,
     /// The currency of the hourly rate when no price list gives one (the shop settings').
     pub currency: Option<String>,
+    /// The tax an invoice adds, from the shop's settings; None charges none.
+    pub tax: Option<service::Tax>,
 }
 
 /// One line of a shop's price list: a stock item and its unit price.
@@ -251,6 +253,8 @@ pub enum Template {
     Sale,
     /// The customer's quotation before the work: the options side by side.
     Quote,
+    /// The customer's bill after the work: the parts fitted, the labour and the tax.
+    Invoice,
     /// A shop's own template: its file name and text, read when the job was.
     File {
         name: String,
@@ -260,7 +264,7 @@ pub enum Template {
 
 impl Template {
     /// The built-in templates' names, as the job and the command line spell them.
-    pub const NAMES: [&'static str; 4] = ["customer", "archive", "sale", "quote"];
+    pub const NAMES: [&'static str; 5] = ["customer", "archive", "sale", "quote", "invoice"];
 
     pub fn built_in(name: &str) -> Option<Template> {
         match name {
@@ -268,6 +272,7 @@ impl Template {
             "archive" => Some(Template::Archive),
             "sale" => Some(Template::Sale),
             "quote" => Some(Template::Quote),
+            "invoice" => Some(Template::Invoice),
             _ => None,
         }
     }
@@ -279,6 +284,7 @@ impl Template {
             Template::Archive => "archive",
             Template::Sale => "sale",
             Template::Quote => "quote",
+            Template::Invoice => "invoice",
             Template::File { name, .. } => name,
         }
     }

@@ -124,4 +124,13 @@ pub struct ShopSettings {
     pub currency: Option<String>,
     /// The shop's logo, an image file beside the jobs, as written.
     pub logo: Option<String>,
+    pub tax: Option<Tax>,
+}
+
+/// A tax an invoice adds to its subtotal: its name ("VAT") and its rate in hundredths of a
+/// percent (20 % is 2000), exact.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Tax {
+    pub name: String,
+    pub hundredths_of_percent: i64,
 }

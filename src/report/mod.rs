@@ -27,6 +27,7 @@ pub const CUSTOMER_TYP: &str = include_str!("../../templates/customer.typ");
 pub const ARCHIVE_TYP: &str = include_str!("../../templates/archive.typ");
 pub const SALE_TYP: &str = include_str!("../../templates/sale.typ");
 pub const QUOTE_TYP: &str = include_str!("../../templates/quote.typ");
+pub const INVOICE_TYP: &str = include_str!("../../templates/invoice.typ");
 
 /// The most pages a report may have (the built-in templates give 2 to 12 for the samples).
 pub const MAX_PAGES: usize = 300;
@@ -119,6 +120,7 @@ pub fn schematics_for(job: &Job, outcome: &Outcome, template: &Template) -> Vec<
     let only = all.len() == 1;
     let keep = |name: &str| match template {
         Template::Customer | Template::Sale => name == now,
+        Template::Invoice => false,
         Template::Quote => name != "designed" || only,
         Template::Archive | Template::File { .. } => true,
     };
@@ -139,6 +141,7 @@ fn typeset(job: &Job, outcome: &Outcome, template: &Template) -> Result<PagedDoc
         Template::Archive => ("archive.typ".to_string(), ARCHIVE_TYP.to_string()),
         Template::Sale => ("sale.typ".to_string(), SALE_TYP.to_string()),
         Template::Quote => ("quote.typ".to_string(), QUOTE_TYP.to_string()),
+        Template::Invoice => ("invoice.typ".to_string(), INVOICE_TYP.to_string()),
         // A shop template's text came in with the job: rendering reads nothing from disk.
         Template::File { name, text } => (std::path::Path::new(name).file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "template.typ".into()), text.clone()),
     };

@@ -12,6 +12,7 @@ mod golden;
 mod hostile;
 mod hostile2;
 mod interrupted;
+mod invoice;
 mod layout;
 mod netlist;
 mod nodal;

@@ -13,7 +13,7 @@ use std::process::Command;
 
 use crate::util::{bin, root};
 
-const TEMPLATES: [&str; 4] = ["customer", "archive", "sale", "quote"];
+const TEMPLATES: [&str; 5] = ["customer", "archive", "sale", "quote", "invoice"];
 
 /// Every job the harness reads: the samples, the reference networks, the sweep networks and
 /// the harness's own jobs (tests/reader/, each made for a sentence that once read false).
@@ -52,6 +52,11 @@ impl Report {
     }
     fn plain(&self) -> bool {
         self.template != "archive"
+    }
+    /// A report of the speaker's figures: not a quotation (before the work) nor an invoice
+    /// (a bill, which states no figure but money).
+    fn states_figures(&self) -> bool {
+        self.template != "quote" && self.template != "invoice"
     }
     fn name(&self) -> String {
         format!("{} ({})", self.job, self.template)
@@ -236,7 +241,7 @@ fn the_power_a_speaker_suits_is_one_figure_in_every_report() {
         for r in &job.reports {
             let text = r.text();
             let stated = figures(&text, "suits an amplifier of up to ", " W");
-            if r.template != "quote" && stated.is_empty() && least.is_finite() {
+            if r.states_figures() && stated.is_empty() && least.is_finite() {
                 bad.push(format!("{}: no \"suits an amplifier of up to N W\"", r.name()));
             }
             for v in &stated {
@@ -360,7 +365,7 @@ fn a_quote_speaks_of_work_proposed_not_done() {
 fn every_report_states_each_drivers_level_as_the_json_has_it() {
     let mut bad = Vec::new();
     for job in all() {
-        for r in job.reports.iter().filter(|r| r.template != "quote") {
+        for r in job.reports.iter().filter(|r| r.states_figures()) {
             let text = r.text();
             for cab in cabinets(&job.json) {
                 for l in cab["levels"].as_array().unwrap() {
@@ -395,7 +400,7 @@ fn sig3(v: f64) -> String {
 fn every_report_states_the_load_and_the_fitted_values_the_json_has() {
     let mut bad = Vec::new();
     for job in all() {
-        for r in job.reports.iter().filter(|r| r.template != "quote") {
+        for r in job.reports.iter().filter(|r| r.states_figures()) {
             let text = r.text().replace(" Ω", "Ω");
             for cab in cabinets(&job.json) {
                 let low = format!("{}Ω", sig3(cab["load"]["as_left"]["min_ohm"].as_f64().unwrap()));
@@ -514,7 +519,7 @@ fn a_job_with_no_work_done_shows_nothing_after_the_work() {
                 }
             }
         }
-        for r in job.reports.iter().filter(|r| r.template != "quote") {
+        for r in job.reports.iter().filter(|r| r.states_figures()) {
             let text = r.text();
             for wrong in ["The same as left, after the work", "in each cabinet as left, after the work", "After the work,", "Work done"] {
                 if text.contains(wrong) {
@@ -540,7 +545,7 @@ fn plain_reports_say_the_figures_are_a_prediction_and_warn_of_steady_tones() {
                 bad.push(format!("{}: promises a measurement", r.name()));
             }
         }
-        for r in job.reports.iter().filter(|r| r.plain() && r.template != "quote") {
+        for r in job.reports.iter().filter(|r| r.plain() && r.states_figures()) {
             let text = r.text();
             if text.contains("confirms them by measurement") {
                 bad.push(format!("{}: promises a measurement", r.name()));
@@ -573,7 +578,7 @@ fn a_set_read_nowhere_claims_no_difference_before_the_work() {
         if read_on_bench(&job.yaml) {
             continue;
         }
-        for r in job.reports.iter().filter(|r| r.template != "quote") {
+        for r in job.reports.iter().filter(|r| r.states_figures()) {
             let t = r.text();
             if t.contains("now match") || t.contains("as they did before it") {
                 bad.push(format!("{}: speaks of the cabinets before the work", r.name()));
@@ -680,4 +685,28 @@ fn a_report_claims_no_rating_the_job_does_not_give() {
         }
     }
     verdict("claimed rating", bad);
+}
+
+/// An invoice bills the work: it prints money, never a level, an impedance or an amplifier
+/// power, and it is refused (with a hint) rather than printed with a line unpriced.
+#[test]
+fn an_invoice_prints_money_not_figures() {
+    let mut bad = Vec::new();
+    let mut seen = 0;
+    for job in all() {
+        for r in job.reports.iter().filter(|r| r.template == "invoice") {
+            seen += 1;
+            let t = r.text();
+            for word in [" dB", "suits an amplifier", "not priced", "Figures worked out"] {
+                if t.contains(word) {
+                    bad.push(format!("{}: \"{word}\"", r.name()));
+                }
+            }
+            if !t.contains("Total (") {
+                bad.push(format!("{}: no total", r.name()));
+            }
+        }
+    }
+    assert!(seen > 0, "no job was invoiced: the check reads nothing");
+    verdict("invoice", bad);
 }

@@ -17,6 +17,7 @@
 //! | `words.rs` | how a customer reads a driver, a part, a level |
 
 mod blocks;
+pub mod invoice;
 mod merge;
 mod offers;
 mod service;
@@ -53,7 +54,7 @@ impl Audience {
         match t {
             Template::Customer => Audience::Customer,
             Template::Sale => Audience::Sale,
-            Template::Quote => Audience::Customer,
+            Template::Quote | Template::Invoice => Audience::Customer,
             Template::Archive | Template::File { .. } => Audience::Archive,
         }
     }
@@ -256,6 +257,7 @@ pub struct ReportData {
     pub terminals: Option<service::TerminalsData>,
     /// A quotation's line to sign and what its prices cover.
     pub quote: service::QuoteTerms,
+    pub invoice: invoice::InvoiceData,
     /// Whether the job records work done (its `changes`, or a cabinet's where no options are
     /// offered); an inspection or a quotation has none.
     pub worked: bool,
@@ -414,6 +416,7 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         photos: service::photos(&c),
         terminals: service::terminals(&c),
         quote: service::quote_terms(&c, &f.parts, &f.options, 1),
+        invoice: invoice::invoice(&c, &f.parts, 1),
         worked: job.work_done(),
     };
 

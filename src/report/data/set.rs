@@ -139,6 +139,9 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
         let c = super::Ctx { job: &first.job, f: &first.findings, audience: data.audience, quote: data.template == "quote" };
         data.options = super::offers::options_of(&c, &set.options, set.recommended.as_ref());
         data.quote = super::service::quote_terms(&c, &set.parts, &set.options, set.cabinets.len());
+        // The invoice is the whole job's: every cabinet's parts, the job's labour.
+        let whole = super::Ctx { job, ..c };
+        data.invoice = super::invoice::invoice(&whole, &set.parts, set.cabinets.len());
     }
     if let Some(ch) = &set.chosen {
         data.summary.push(ch.sentence.clone());
