@@ -149,3 +149,62 @@ mod tests {
         assert_eq!(shorten("short", 300), "short");
     }
 }
+
+/// Whether messages on standard error are coloured: only on a terminal, and never when the
+/// NO_COLOR variable is set to anything but the empty string (no-color.org).
+pub fn colour_wanted(no_color: Option<&std::ffi::OsStr>, terminal: bool) -> bool {
+    terminal && no_color.is_none_or(|v| v.is_empty())
+}
+
+/// A message for the terminal, coloured: a problem's place (`file:line:column:`) in bold, the
+/// word "hint:" in cyan, a leading "voicekeep:" in bold red. The text itself is unchanged.
+pub fn paint(message: &str) -> String {
+    const BOLD: &str = "\u{1b}[1m";
+    const RED: &str = "\u{1b}[1;31m";
+    const CYAN: &str = "\u{1b}[36m";
+    const OFF: &str = "\u{1b}[0m";
+    message
+        .split('\n')
+        .map(|line| {
+            if let Some(rest) = line.strip_prefix("  hint:") {
+                return format!("  {CYAN}hint:{OFF}{rest}");
+            }
+            if let Some(rest) = line.strip_prefix("voicekeep:") {
+                return format!("{RED}voicekeep:{OFF}{rest}");
+            }
+            // "file:12:5: field: message": the place up to its third colon, where the
+            // second and third fields are numbers.
+            let parts: Vec<&str> = line.splitn(4, ':').collect();
+            if !line.starts_with(' ') && parts.len() == 4 && [parts[1], parts[2]].iter().all(|p| !p.is_empty() && p.bytes().all(|b| b.is_ascii_digit())) {
+                let place = parts[..3].join(":");
+                return format!("{BOLD}{place}:{OFF}{}", parts[3]);
+            }
+            line.to_string()
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+#[cfg(test)]
+mod colour_tests {
+    use super::*;
+
+    #[test]
+    fn colour_only_on_a_terminal_without_no_color() {
+        use std::ffi::OsStr;
+        assert!(colour_wanted(None, true));
+        assert!(!colour_wanted(None, false));
+        assert!(!colour_wanted(Some(OsStr::new("1")), true));
+        // An empty NO_COLOR is as if unset (no-color.org).
+        assert!(colour_wanted(Some(OsStr::new("")), true));
+    }
+
+    #[test]
+    fn painting_keeps_the_text() {
+        let m = "job.yaml:12:5: network.parts.C1.value: expected a capacitance\n   12 |     C1: ...\n  hint: did you mean \"3.3 uF\"?\nvoicekeep: 1 problem";
+        let p = paint(m);
+        assert!(p.contains("\u{1b}[1mjob.yaml:12:5:\u{1b}[0m network.parts") && p.contains("\u{1b}[36mhint:\u{1b}[0m did you mean"));
+        let plain: String = p.split('\u{1b}').enumerate().map(|(i, s)| if i == 0 { s.to_string() } else { s.split_once('m').map(|x| x.1).unwrap_or("").to_string() }).collect();
+        assert_eq!(plain, m);
+    }
+}

@@ -18,11 +18,23 @@ use crate::results;
 /// `eprintln!` with every control character escaped: a file name, key or node name holding
 /// ESC or BEL never acts on the terminal.
 macro_rules! say_err {
-    ($($t:tt)*) => { eprintln!("{}", crate::text::printable(&format!($($t)*))) };
+    ($($t:tt)*) => { eprintln!("{}", crate::cli::for_stderr(&format!($($t)*))) };
 }
 
 macro_rules! say_err_raw {
-    ($($t:tt)*) => { eprint!("{}", crate::text::printable(&format!($($t)*))) };
+    ($($t:tt)*) => { eprint!("{}", crate::cli::for_stderr(&format!($($t)*))) };
+}
+
+/// A message as standard error shows it: control characters escaped, and coloured on a
+/// terminal unless NO_COLOR is set.
+pub(crate) fn for_stderr(message: &str) -> String {
+    static COLOUR: std::sync::OnceLock<bool> = std::sync::OnceLock::new();
+    let safe = crate::text::printable(message);
+    if *COLOUR.get_or_init(|| crate::text::colour_wanted(std::env::var_os("NO_COLOR").as_deref(), std::io::IsTerminal::is_terminal(&std::io::stderr()))) {
+        crate::text::paint(&safe)
+    } else {
+        safe
+    }
 }
 
 pub const OK: u8 = 0;
@@ -111,11 +123,25 @@ enum Command {
         #[arg(long, value_enum, default_value_t = Format::Text)]
         format: Format,
     },
-    /// Print a commented starter job that passes `check`
+    /// Print a commented starter job that passes `check`, or write a shipped example whole into a folder
     New {
-        /// two-way (a re-cap with a tweeter resistor) or repair (parts replaced like for like)
-        #[arg(long, default_value = "two-way")]
+        /// The example to start from: a shipped sample's name (`--list` names them all)
+        #[arg(long, default_value = "two-way-recap")]
         example: String,
+        /// List the examples, each with what it shows and the files it reads
+        #[arg(long)]
+        list: bool,
+        /// Write the example as shipped, with every file it reads, into this folder
+        #[arg(long)]
+        into: Option<PathBuf>,
+    },
+    /// Print shell completions (bash, zsh, fish, elvish, powershell) to standard output
+    Completions { shell: clap_complete::Shell },
+    /// Write the manual pages (voicekeep.1 and one per command) into a folder, or print voicekeep.1
+    Manual {
+        /// Folder for the pages (default: print voicekeep.1 to standard output)
+        #[arg(long)]
+        out: Option<PathBuf>,
     },
     /// Report every job under a folder and write the archive index; a job unchanged since its report is skipped, a bad job is named and the rest go on
     Batch {
@@ -188,9 +214,6 @@ pub enum PlotFormat {
     Png,
 }
 
-/// Starter jobs for `new`: the samples that need no table files.
-const STARTERS: &[(&str, &str)] = &[("two-way", include_str!("../../samples/two-way-recap.yaml")), ("repair", include_str!("../../samples/repair-like-for-like.yaml"))];
-
 pub fn run<I, T>(args: I) -> ExitCode
 where
     I: IntoIterator<Item = T>,
@@ -210,8 +233,14 @@ where
         Command::Check { job, draw } => check(&job, draw),
         Command::Solve { job, format } => solve(&job, format),
         Command::Report { job, output, template } => report_cmd(&job, output, template),
-        Command::Plot { job, out, format } => plot(&job, &out, format),
-        Command::New { example } => new(&example),
+        Command::Plot { job, out, format } => plot::plot(&job, &out, format),
+        Command::New { example, list, into } => examples::new(&example, list, into.as_deref()),
+        Command::Completions { shell } => {
+            let mut buf = Vec::new();
+            clap_complete::generate(shell, &mut <Cli as clap::CommandFactory>::command(), "voicekeep", &mut buf);
+            out(&String::from_utf8_lossy(&buf))
+        }
+        Command::Manual { out: dir } => manual(dir.as_deref()),
         Command::Diagnose { job, format } => diagnose(&job, format),
         Command::Characterise { sweep, leach, format } => characterise(&sweep, leach, format),
         Command::Netlist { job, scenario, cabinet, output } => netlist::run(&job, &scenario, cabinet, output),
@@ -234,6 +263,51 @@ fn out(text: &str) -> u8 {
             FAILURE
         }
     }
+}
+
+/// Prints several lines to standard error, escaped as `say_err!` does.
+fn say_err_lines(lines: &[String]) {
+    for l in lines {
+        say_err!("{l}");
+    }
+}
+
+/// The manual pages (roff, by clap_mangen): voicekeep.1 to standard output, or it and one page
+/// per command (voicekeep-report.1, ...) into a folder.
+fn manual(dir: Option<&Path>) -> u8 {
+    let cmd = <Cli as clap::CommandFactory>::command();
+    let page = |c: clap::Command| {
+        let mut buf = Vec::new();
+        clap_mangen::Man::new(c).render(&mut buf).map(|_| buf)
+    };
+    let Some(dir) = dir else {
+        return match page(cmd) {
+            Ok(b) => out(&String::from_utf8_lossy(&b)),
+            Err(e) => {
+                say_err!("voicekeep: cannot write the manual: {e}");
+                FAILURE
+            }
+        };
+    };
+    if let Err(e) = std::fs::create_dir_all(dir) {
+        say_err!("voicekeep: cannot create {}: {e}", dir.display());
+        return FAILURE;
+    }
+    let mut pages = vec![("voicekeep.1".to_string(), cmd.clone())];
+    pages
+        .extend(cmd.get_subcommands().filter(|c| c.get_name() != "help").map(|c| (format!("voicekeep-{}.1", c.get_name()), c.clone().name(format!("voicekeep-{}", c.get_name())))));
+    let mut said = String::new();
+    for (name, c) in pages {
+        let file = dir.join(&name);
+        match page(c).map_err(|e| e.to_string()).and_then(|b| report::write_atomically(&file, &b).map_err(|e| e.to_string())) {
+            Ok(()) => said.push_str(&format!("wrote {}\n", file.display())),
+            Err(e) => {
+                say_err!("voicekeep: cannot write {}: {e}", file.display());
+                return FAILURE;
+            }
+        }
+    }
+    done(&said)
 }
 
 /// What a command says when it went well ("wrote ..."): nothing under `--quiet`.
@@ -322,7 +396,7 @@ fn check(path: &Path, draw: bool) -> u8 {
             // Drawn before solving: a network typed wrong may not solve, and the drawing is
             // how the technician sees where.
             if draw {
-                if let Err(code) = draw_typed(path, &job) {
+                if let Err(code) = plot::draw_typed(path, &job) {
                     return code;
                 }
             }
@@ -594,74 +668,6 @@ fn render_to(path: &Path, job: &Job, template: &Template, target: &Path, templat
     Ok(Some(f))
 }
 
-fn plot(path: &Path, dir: &Path, format: PlotFormat) -> u8 {
-    let (job, f) = match load(path).and_then(|job| analyse(path, &job).map(|f| (job, f))) {
-        Ok(both) => both,
-        Err(c) => return c,
-    };
-    if let Err(e) = std::fs::create_dir_all(dir) {
-        say_err!("voicekeep: cannot create {}: {e}", dir.display());
-        return FAILURE;
-    }
-    let mut written = String::new();
-    // Named after the job, so the plots of several jobs can share a folder.
-    let stem = if path.as_os_str() == "-" { "standard-input".into() } else { path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into()) };
-    // The plots, then the crossover drawn: as designed, as left, each option as proposed.
-    let mut drawings: Vec<(String, String)> = report::plots::all_outcome(&job, &f).into_iter().map(|(k, svg)| (k.name().to_string(), svg)).collect();
-    for v in crate::schematic::view::views(&job, &f, false) {
-        let svg = crate::schematic::svg::render(&crate::schematic::layout::layout(&v.circuit), &v.circuit);
-        drawings.push((format!("schematic-{}", v.name), svg));
-    }
-    for (name, svg) in drawings {
-        let (file, bytes) = match format {
-            PlotFormat::Svg => (dir.join(format!("{stem}-{name}.svg")), svg.into_bytes()),
-            PlotFormat::Png => match report::plots::svg_to_png(&svg) {
-                Ok(b) => (dir.join(format!("{stem}-{name}.png")), b),
-                Err(e) => {
-                    say_err!("voicekeep: internal error drawing {name}.png: {e}; please report this");
-                    return FAILURE;
-                }
-            },
-        };
-        if read_by(path, &job).contains(&where_written(&file)) {
-            say_err!("{}: the plot would overwrite {}, one of the job's own inputs", path.display(), file.display());
-            say_err!("  hint: write the plots to another folder with --out");
-            return PROBLEMS;
-        }
-        if let Err(e) = report::write_atomically(&file, &bytes) {
-            say_err!("voicekeep: cannot write {}: {e}", file.display());
-            return FAILURE;
-        }
-        written.push_str(&format!("wrote {}\n", file.display()));
-    }
-    done(&written)
-}
-
-/// Writes the network as typed, drawn, beside the job as JOB-schematic.svg.
-fn draw_typed(path: &Path, job: &Job) -> Result<(), u8> {
-    if path.as_os_str() == "-" {
-        say_err!("voicekeep: --draw writes the drawing beside the job file, and a job read from standard input has none");
-        say_err!("  hint: save the job to a file and check that");
-        return Err(USAGE);
-    }
-    let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "job".into());
-    let file = path.with_file_name(format!("{stem}-schematic.svg"));
-    let c = crate::schematic::view::circuit(&job.network);
-    let svg = crate::schematic::svg::render(&crate::schematic::layout::layout(&c), &c);
-    if read_by(path, job).contains(&where_written(&file)) {
-        say_err!("{}: the drawing would overwrite {}, one of the job's own inputs", path.display(), file.display());
-        return Err(PROBLEMS);
-    }
-    report::write_atomically(&file, svg.as_bytes()).map_err(|e| {
-        say_err!("voicekeep: cannot write {}: {e}", file.display());
-        FAILURE
-    })?;
-    match done(&format!("drew {}\n", file.display())) {
-        OK => Ok(()),
-        code => Err(code),
-    }
-}
-
 /// The width `solve` wraps its text to: the terminal's, or 100 columns when the output is
 /// not a terminal.
 fn text_width() -> usize {
@@ -671,20 +677,11 @@ fn text_width() -> usize {
     }
 }
 
-fn new(example: &str) -> u8 {
-    match STARTERS.iter().find(|(n, _)| *n == example) {
-        Some((name, text)) => out(&starter(name, text)),
-        None => {
-            let names: Vec<&str> = STARTERS.iter().map(|(n, _)| *n).collect();
-            say_err!("voicekeep: no starter job called \"{example}\"; choose one of: {}", names.join(", "));
-            USAGE
-        }
-    }
-}
-
 mod batch;
 mod confined;
+mod examples;
 mod find;
 mod netlist;
+mod plot;
 mod starter;
 use starter::starter;

@@ -4,6 +4,7 @@
 mod analytic;
 mod bad;
 mod commands;
+mod conventions;
 mod desk;
 mod diagnose;
 mod finite;
