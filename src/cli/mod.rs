@@ -135,6 +135,17 @@ enum Command {
         #[arg(long)]
         into: Option<PathBuf>,
     },
+    /// Report a job, then again each time it or a file it reads is saved, printing a summary (stop with Ctrl-C)
+    Watch {
+        /// The job file (YAML)
+        job: PathBuf,
+        /// Where to write the PDF (default: beside the job, same name)
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// customer, archive, sale, quote, invoice, or the path of your own .typ template (overrides the job's choice)
+        #[arg(long)]
+        template: Option<String>,
+    },
     /// Print shell completions (bash, zsh, fish, elvish, powershell) to standard output
     Completions { shell: clap_complete::Shell },
     /// Write the manual pages (voicekeep.1 and one per command) into a folder, or print voicekeep.1
@@ -235,12 +246,9 @@ where
         Command::Report { job, output, template } => report_cmd(&job, output, template),
         Command::Plot { job, out, format } => plot::plot(&job, &out, format),
         Command::New { example, list, into } => examples::new(&example, list, into.as_deref()),
-        Command::Completions { shell } => {
-            let mut buf = Vec::new();
-            clap_complete::generate(shell, &mut <Cli as clap::CommandFactory>::command(), "voicekeep", &mut buf);
-            out(&String::from_utf8_lossy(&buf))
-        }
-        Command::Manual { out: dir } => manual(dir.as_deref()),
+        Command::Watch { job, output, template } => watch::run(&job, output, template),
+        Command::Completions { shell } => docs::completions(shell),
+        Command::Manual { out: dir } => docs::manual(dir.as_deref()),
         Command::Diagnose { job, format } => diagnose(&job, format),
         Command::Characterise { sweep, leach, format } => characterise(&sweep, leach, format),
         Command::Netlist { job, scenario, cabinet, output } => netlist::run(&job, &scenario, cabinet, output),
@@ -270,44 +278,6 @@ fn say_err_lines(lines: &[String]) {
     for l in lines {
         say_err!("{l}");
     }
-}
-
-/// The manual pages (roff, by clap_mangen): voicekeep.1 to standard output, or it and one page
-/// per command (voicekeep-report.1, ...) into a folder.
-fn manual(dir: Option<&Path>) -> u8 {
-    let cmd = <Cli as clap::CommandFactory>::command();
-    let page = |c: clap::Command| {
-        let mut buf = Vec::new();
-        clap_mangen::Man::new(c).render(&mut buf).map(|_| buf)
-    };
-    let Some(dir) = dir else {
-        return match page(cmd) {
-            Ok(b) => out(&String::from_utf8_lossy(&b)),
-            Err(e) => {
-                say_err!("voicekeep: cannot write the manual: {e}");
-                FAILURE
-            }
-        };
-    };
-    if let Err(e) = std::fs::create_dir_all(dir) {
-        say_err!("voicekeep: cannot create {}: {e}", dir.display());
-        return FAILURE;
-    }
-    let mut pages = vec![("voicekeep.1".to_string(), cmd.clone())];
-    pages
-        .extend(cmd.get_subcommands().filter(|c| c.get_name() != "help").map(|c| (format!("voicekeep-{}.1", c.get_name()), c.clone().name(format!("voicekeep-{}", c.get_name())))));
-    let mut said = String::new();
-    for (name, c) in pages {
-        let file = dir.join(&name);
-        match page(c).map_err(|e| e.to_string()).and_then(|b| report::write_atomically(&file, &b).map_err(|e| e.to_string())) {
-            Ok(()) => said.push_str(&format!("wrote {}\n", file.display())),
-            Err(e) => {
-                say_err!("voicekeep: cannot write {}: {e}", file.display());
-                return FAILURE;
-            }
-        }
-    }
-    done(&said)
 }
 
 /// What a command says when it went well ("wrote ..."): nothing under `--quiet`.
@@ -540,43 +510,44 @@ fn template_choice(arg: Option<String>, job: &Job) -> Result<Template, u8> {
 }
 
 fn report_cmd(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8 {
+    match report_job(path, output, template) {
+        Ok((_, _, target)) => done(&format!("wrote {}\n", target.display())),
+        Err(c) => c,
+    }
+}
+
+/// Reads, solves and reports one job: the job, its results (when solved here) and where the
+/// report went, or the exit code of a refusal (already said).
+fn report_job(path: &Path, output: Option<PathBuf>, template: Option<String>) -> Result<(Job, Option<analysis::Outcome>, PathBuf), u8> {
     let cli_template = template.is_some();
     if let Some(t) = &template {
         if Template::built_in(t).is_none() && !t.ends_with(".typ") {
             say_err!("voicekeep: --template takes customer, archive, sale, quote, invoice or the path of a .typ file, not \"{t}\"");
-            return USAGE;
+            return Err(USAGE);
         }
     }
     if path.as_os_str() == "-" && output.is_none() {
         say_err!("voicekeep: a job read from standard input (-) has no folder to write its report beside");
         say_err!("  hint: name the report with -o, such as -o report.pdf");
-        return USAGE;
+        return Err(USAGE);
     }
-    let job = match load(path) {
-        Ok(j) => j,
-        Err(c) => return c,
-    };
+    let job = load(path)?;
     let target = output.unwrap_or_else(|| path.with_extension("pdf"));
-    let template = match template_choice(template, &job) {
-        Ok(t) => t,
-        Err(c) => return c,
-    };
+    let template = template_choice(template, &job)?;
     // A template named on the command line is read too: the report never takes its place.
     if let Template::File { name, .. } = &template {
         if std::fs::canonicalize(name).ok().as_ref() == Some(&where_written(&target)) {
             say_err!("{}: the report would overwrite {}, the template it is drawn with", path.display(), target.display());
             say_err!("  hint: write the report elsewhere with -o, such as -o {}", elsewhere(path, "report.pdf").display());
-            return PROBLEMS;
+            return Err(PROBLEMS);
         }
     }
     let template_arg = match &template {
         Template::File { name, .. } if cli_template => Some(name.clone()),
         _ => None,
     };
-    match render_to(path, &job, &template, &target, template_arg.as_deref()) {
-        Ok(_) => done(&format!("wrote {}\n", target.display())),
-        Err(c) => c,
-    }
+    let outcome = render_to(path, &job, &template, &target, template_arg.as_deref())?;
+    Ok((job, outcome, target))
 }
 
 /// The files a job read, and the job file itself, as their real paths.
@@ -679,9 +650,11 @@ fn text_width() -> usize {
 
 mod batch;
 mod confined;
+mod docs;
 mod examples;
 mod find;
 mod netlist;
 mod plot;
 mod starter;
+mod watch;
 use starter::starter;

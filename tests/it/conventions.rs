@@ -90,7 +90,7 @@ fn every_command_has_help_and_quiet_says_only_problems() {
         .filter_map(|l| l.split_whitespace().next().map(str::to_string))
         .filter(|c| c != "help")
         .collect();
-    assert!(commands.len() >= 12, "{commands:?}");
+    assert!(commands.len() >= 13, "{commands:?}");
     for c in &commands {
         let o = std::process::Command::new(bin()).args([c.as_str(), "--help"]).output().unwrap();
         let text = String::from_utf8_lossy(&o.stdout);
@@ -131,4 +131,48 @@ fn no_colour_off_a_terminal_nor_under_no_color() {
     assert!(coloured.windows(5).any(|w| w == b"\x1b[36m"), "{}", String::from_utf8_lossy(&coloured));
     let plain = on_terminal(Some("1"));
     assert!(!plain.contains(&0x1b) && String::from_utf8_lossy(&plain).contains("hint: did you mean node `COM`?"), "{}", String::from_utf8_lossy(&plain));
+}
+
+/// `watch` reports the job, then again after each save: here a replacement capacitor's value
+/// edited from 3.3 to 3.0 uF moves the tweeter's level in the summary, and a broken save is
+/// said and waited out. Bounded: each step waits at most 60 s, then the watch is stopped.
+#[test]
+fn watch_reports_again_after_each_save() {
+    use std::io::BufRead;
+    let dir = tempfile::tempdir().unwrap();
+    let job = dir.path().join("j.yaml");
+    let text = std::fs::read_to_string(root().join("samples/two-way-recap.yaml")).unwrap();
+    std::fs::write(&job, &text).unwrap();
+    let mut child = std::process::Command::new(bin())
+        .current_dir(dir.path())
+        .args(["watch", "j.yaml", "-o", "out.pdf"])
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let (tx, rx) = std::sync::mpsc::channel();
+    let stdout = child.stdout.take().unwrap();
+    std::thread::spawn(move || {
+        for line in std::io::BufReader::new(stdout).lines().map_while(Result::ok) {
+            let _ = tx.send(line);
+        }
+    });
+    let next = |want: &str| -> String {
+        let line = rx.recv_timeout(std::time::Duration::from_secs(60)).unwrap_or_else(|_| panic!("no line {want:?} within 60 s"));
+        assert!(line.starts_with(want), "{line}");
+        line
+    };
+    let first = next("[1] wrote out.pdf");
+    assert!(first.contains("HF -0.02 dB"), "{first}");
+    assert!(dir.path().join("out.pdf").exists());
+    std::fs::write(&job, text.replace("value: 3.3 uF, esr: 0.012 ohm", "value: 3.0 uF, esr: 0.012 ohm")).unwrap();
+    let second = next("[2] wrote out.pdf");
+    assert!(!second.contains("HF -0.02 dB") && second.contains("HF -"), "{second}");
+    std::fs::write(&job, "voicekeep: 1\nnetwork: [\n").unwrap();
+    next("[3] not written");
+    std::fs::write(&job, &text).unwrap();
+    let fourth = next("[4] wrote out.pdf");
+    assert!(fourth.contains("HF -0.02 dB"), "{fourth}");
+    child.kill().unwrap();
+    child.wait().unwrap();
 }
