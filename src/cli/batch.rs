@@ -52,13 +52,13 @@ fn yaml_files(dir: &Path) -> std::io::Result<Vec<(PathBuf, PathBuf)>> {
     Ok(found)
 }
 
-/// Whether a YAML file is a job: it has a top-level `voicekeep:`, `job:` or `network:` key (a
-/// job that lacks the version key is still a job, and `load` says what it lacks). A shop's
-/// settings file or a design has none of them.
+/// Whether a YAML file is a job: it has a top-level `voicekeep:` or `job:` key (a job that
+/// lacks the version key is still a job, and `load` says what it lacks). A shop's settings
+/// file and a design from the library have neither.
 fn is_job(path: &Path) -> bool {
     let Ok(bytes) = crate::files::read_limited(path, crate::job::MAX_JOB_BYTES) else { return true };
     let text = String::from_utf8_lossy(&bytes);
-    text.lines().any(|l| ["voicekeep:", "job:", "network:"].iter().any(|k| l.starts_with(k)))
+    text.lines().any(|l| ["voicekeep:", "job:"].iter().any(|k| l.starts_with(k)))
 }
 
 /// The index a previous run wrote, by job file; empty when there is none or it cannot be read
@@ -104,7 +104,7 @@ pub fn run(o: Options) -> u8 {
     if !others.is_empty() {
         let names: Vec<String> = others.iter().map(|(_, r)| slashed(r)).collect();
         say_err!(
-            "voicekeep: skipped {} YAML file{} that {} not a job (no top-level `voicekeep:`, `job:` or `network:`): {}",
+            "voicekeep: skipped {} YAML file{} that {} not a job (no top-level `voicekeep:` or `job:`): {}",
             names.len(),
             if names.len() == 1 { "" } else { "s" },
             if names.len() == 1 { "is" } else { "are" },

@@ -3,6 +3,7 @@
 
 use std::path::Path;
 
+use super::starter as starter_mod;
 use super::{done, out, say_err_lines, starter, FAILURE, USAGE};
 
 /// Every shipped sample job, by the name `new --example` takes, with its text.
@@ -108,5 +109,61 @@ pub fn new(example: &str, list: bool, into: Option<&Path>) -> u8 {
             USAGE
         }
         None => out(&starter(name, text)),
+    }
+}
+
+/// A starter job that uses a design from the shop's library: the placeholders of the job
+/// block (less the speaker's description and rating, which the design gives), the design's
+/// name, an amplifier and a sweep, and the readings and changes to fill in, in comments that
+/// name the design's parts. `design` is a name (found in `designs/` here) or a design file.
+pub fn from_design(design: &str) -> u8 {
+    let path = if design.ends_with(".yaml") { std::path::PathBuf::from(design) } else { Path::new(crate::job::design::DEFAULT_FOLDER).join(format!("{design}.yaml")) };
+    let name = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_default();
+    let text = match crate::files::read_limited(&path, crate::job::MAX_JOB_BYTES) {
+        Ok(b) => String::from_utf8_lossy(&b).into_owned(),
+        Err(e) => {
+            say_err!("voicekeep: cannot read the design {}: {}", path.display(), e.reason);
+            say_err!("  hint: run `new` in the jobs' folder, with the designs in `designs/` there, or give the design file's path");
+            return USAGE;
+        }
+    };
+    let tree = match crate::job::yaml::parse(&text) {
+        Ok(t) => t,
+        Err(e) => {
+            say_err!("{}:{}:{}: YAML syntax: {}", path.display(), e.pos.line, e.pos.col, e.message);
+            return USAGE;
+        }
+    };
+    let names = |key: &str| -> Vec<String> {
+        let Some(crate::job::yaml::Node::Map { entries, .. }) = map_get(&tree, "network").and_then(|n| map_get(n, key)) else { return Vec::new() };
+        entries.iter().map(|(k, _)| k.name.clone()).collect()
+    };
+    let rated = map_get(&tree, "speaker").and_then(|s| map_get(s, "rated_impedance")).and_then(|n| n.as_scalar()).unwrap_or("8 ohm").to_string();
+    let job_block: String = starter_mod::STARTER_JOB
+        .lines()
+        .filter(|l| !l.trim_start().starts_with("description:") && !l.trim_start().starts_with("rated_impedance:"))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let parts = names("parts");
+    let first = parts.first().cloned().unwrap_or_else(|| "C1".into());
+    let folder_note = if path.parent().is_some_and(|p| p.ends_with(crate::job::design::DEFAULT_FOLDER)) {
+        String::new()
+    } else {
+        format!(
+            "# The design is read from designs/{name}.yaml beside this job, or from the folder the shop's\n# settings file names (`designs: FOLDER`); {} is not there yet.\n",
+            path.display()
+        )
+    };
+    out(&format!(
+        "# voicekeep starter job for the design {name}: the network and the speaker's rating come from\n# the design. Fill in the job block, the readings and the work; `voicekeep check` lists every problem.\n{folder_note}voicekeep: 1\ndesign: {name}\n\n{job_block}\namplifier:                          # what the power and load figures assume\n  power: 100 W\n  into: {rated}\n  output_impedance: 0.05 ohm\n\n# The design's parts: {}; its drivers: {}.\n# measured:                         # bench readings of the parts as found, e.g.\n#   {first}: {{ value: ..., at: 1 kHz }}\n# changes:                          # the work, in order, e.g.\n#   - replace: {first}\n#     with: {{ value: ..., rating: ..., type: ... }}\n\nanalysis:\n  sweep: {{ from: 20 Hz, to: 20 kHz, per_octave: 24 }}\n",
+        parts.join(", "),
+        names("drivers").join(", "),
+    ))
+}
+
+fn map_get<'n>(node: &'n crate::job::yaml::Node, key: &str) -> Option<&'n crate::job::yaml::Node> {
+    match node {
+        crate::job::yaml::Node::Map { entries, .. } => entries.iter().find(|(k, _)| k.name == key).map(|(_, v)| v),
+        _ => None,
     }
 }

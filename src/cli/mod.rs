@@ -134,6 +134,9 @@ enum Command {
         /// Write the example as shipped, with every file it reads, into this folder
         #[arg(long)]
         into: Option<PathBuf>,
+        /// Start a job that uses this design from the shop's library (a name in designs/, or a design file)
+        #[arg(long, conflicts_with_all = ["example", "list", "into"])]
+        design: Option<String>,
     },
     /// Report a job, then again each time it or a file it reads is saved, printing a summary (stop with Ctrl-C)
     Watch {
@@ -245,7 +248,8 @@ where
         Command::Solve { job, format } => solve(&job, format),
         Command::Report { job, output, template } => report_cmd(&job, output, template),
         Command::Plot { job, out, format } => plot::plot(&job, &out, format),
-        Command::New { example, list, into } => examples::new(&example, list, into.as_deref()),
+        Command::New { design: Some(d), .. } => examples::from_design(&d),
+        Command::New { example, list, into, .. } => examples::new(&example, list, into.as_deref()),
         Command::Watch { job, output, template } => watch::run(&job, output, template),
         Command::Completions { shell } => docs::completions(shell),
         Command::Manual { out: dir } => docs::manual(dir.as_deref()),
@@ -307,7 +311,7 @@ fn load(path: &Path) -> Result<Job, u8> {
         say_err!("{e}");
         match e {
             LoadError::Io { .. } => FAILURE,
-            LoadError::Problems(_) => PROBLEMS,
+            LoadError::Problems(_) | LoadError::Several(_) => PROBLEMS,
         }
     })
 }

@@ -16,6 +16,7 @@
 
 pub mod build;
 pub mod checks;
+pub mod design;
 pub mod fields;
 pub mod parse;
 pub mod raw;
@@ -39,6 +40,8 @@ pub enum LoadError {
     Io { file: String, error: String },
     /// The file was read and has problems.
     Problems(Problems),
+    /// The job and the design it names both have problems, each told in its own file.
+    Several(Vec<Problems>),
 }
 
 impl fmt::Display for LoadError {
@@ -46,6 +49,15 @@ impl fmt::Display for LoadError {
         match self {
             LoadError::Io { file, error } => write!(f, "{file}: cannot read the job file: {error}"),
             LoadError::Problems(p) => p.fmt(f),
+            LoadError::Several(list) => {
+                for (i, p) in list.iter().enumerate() {
+                    if i > 0 {
+                        writeln!(f)?;
+                    }
+                    p.fmt(f)?;
+                }
+                Ok(())
+            }
         }
     }
 }
@@ -144,7 +156,7 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
             text,
         ));
     }
-    let root = yaml::parse(text).map_err(|e| {
+    let mut root = yaml::parse(text).map_err(|e| {
         let hint = if e.message.starts_with("a second YAML document") {
             "remove the `---` line and what follows it, or put it in a job file of its own"
         } else if e.message.starts_with("a YAML tag") {
@@ -158,15 +170,23 @@ pub fn load_text(bytes: &[u8], display: &str, name: &str, files: &dyn Files) -> 
     })?;
     let mut ctx = reader::Ctx::new(files);
     ctx.inputs.push(InputFile { name: name.to_string(), bytes: bytes.to_vec() });
+    // A design from the shop's library takes the place of the job's network.
+    let design = design::splice(&mut root, display, files, &mut ctx.inputs).map_err(LoadError::Problems)?;
     let job = parse::parse(&root, &mut ctx).and_then(|raw| build::build(raw, &mut ctx));
     if !ctx.diags.is_empty() {
         let mut list = ctx.diags;
         list.sort_by_key(|d| (d.pos.line, d.pos.col));
         list.dedup();
-        return Err(problems(list, text));
+        let Some(d) = &design else { return Err(problems(list, text)) };
+        return Err(match design::split(list, display, d) {
+            (ours, None) => problems(ours, text),
+            (ours, Some(theirs)) if ours.is_empty() => LoadError::Problems(theirs),
+            (ours, Some(theirs)) => LoadError::Several(vec![Problems { file: display.to_string(), source: text.to_string(), list: ours }, theirs]),
+        });
     }
     match job {
         Some(mut job) => {
+            job.design = design.map(|d| d.name);
             job.inputs = ctx.inputs;
             job.warnings = ctx.warnings;
             Ok(job)

@@ -202,7 +202,7 @@ pub(crate) fn settings(text: &str, file: &str, at: crate::diag::Pos, field: &str
     // own place in the message.
     let mut inner = Ctx::new(ctx.files);
     let s = (|| {
-        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency", "logo", "tax_rate", "tax_name"])?;
+        let f = inner.fields(&root, "", &["name", "address", "contact", "warranty", "labour_rate", "currency", "logo", "tax_rate", "tax_name", "designs"])?;
         // "20 %", at most two decimals, 0 to 100 %: kept exact in hundredths of a percent.
         let tax = f.get("tax_rate").and_then(|n| {
             let t = inner.text(n, "tax_rate")?;

@@ -5,6 +5,7 @@ mod analytic;
 mod bad;
 mod commands;
 mod conventions;
+mod design;
 mod desk;
 mod diagnose;
 mod finite;
