@@ -152,7 +152,8 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
     // A seventh: the drawing's labels (kept parts by their marked value, the new part's type,
     // a cabinet's own replacement) and "changes of up to about 0.4 dB". An eighth: a worn part
     // left in place says how far its reading alone moves a driver, and a silent driver's
-    // legend says "silent" (it said "off scale").
+    // legend says "silent" (it said "off scale"). A ninth: the level plot's caption says a
+    // word of sound output only where the job gives some.
     for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
         let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
         o.code(0);

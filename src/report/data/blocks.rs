@@ -619,7 +619,7 @@ pub(super) fn parts_to_buy(p: &crate::analysis::bom::PartsList, plain: bool) -> 
         .map(|l| {
             // The series named as what it is: a plain reader reads "standard value", the
             // shop its series ("E24").
-            let series = l.series.as_ref().map(|s| if plain { "standard value".to_string() } else { format!("standard value ({s})") });
+            let series = l.series.as_ref().filter(|_| !plain).map(|s| format!("standard value ({s})"));
             let what = [Some(l.value.clone()), l.type_text.clone(), l.rating.clone(), l.tolerance.clone(), series].into_iter().flatten().collect::<Vec<_>>().join(", ");
             let mut r = vec![l.quantity.to_string(), l.kind.clone(), what, l.parts.join(", ")];
             if priced {

@@ -403,7 +403,14 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         safety: safety(&c),
         inputs: inputs(&c),
         attachments: attachments(&c),
-        plots: plots.iter().map(|k| PlotData { name: k.name().into(), caption: crate::report::plots::caption(*k, job.work_done(), job.read_on_bench()).into() }).collect(),
+        plots: plots
+            .iter()
+            .map(|k| {
+                let caption = crate::report::plots::caption(*k, job.work_done(), job.read_on_bench());
+                let acoustic = f.levels.iter().any(|l| l.as_found_acoustic || l.as_left_acoustic);
+                PlotData { name: k.name().into(), caption: if acoustic { caption.into() } else { caption.replace(crate::report::captions::ACOUSTIC_CLAUSE, "") } }
+            })
+            .collect(),
         schematics: Vec::new(),
         pair: None,
         substitutes: substitutes(&c),

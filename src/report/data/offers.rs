@@ -53,11 +53,11 @@ pub(super) fn options_of(c: &Ctx, list: &[OptionFindings], recommended: Option<&
             let load = if plain { format!("lowest {}", ohm(low.min_ohm)) } else { format!("min |Z| {}, {}", ohm(low.min_ohm), low.verdict) };
             let names = |l: &[String]| join_and(&l.iter().map(|w| w.split(':').next().unwrap_or("").to_string()).collect::<Vec<_>>());
             let limits = if !o.over.is_empty() {
-                format!("{} over its limit", names(&o.over))
+                format!("past the limit: {}", names(&o.over))
             } else if !o.to_check.is_empty() {
-                format!("none over its limit; {} to check", names(&o.to_check))
+                format!("all within limits; {} to check", names(&o.to_check))
             } else {
-                "none over its limit".to_string()
+                "all within limits".to_string()
             };
             let labour = o.labour_hours.map(|h| format!("{} h", trim_number(h, 3))).unwrap_or_else(|| "-".into());
             let total = match o.total {
