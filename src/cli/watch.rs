@@ -63,20 +63,25 @@ pub fn run(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8
     let mut folders: BTreeSet<PathBuf> = BTreeSet::new();
     let job_file = std::fs::canonicalize(path).unwrap_or_else(|_| path.to_path_buf());
     let mut watched: BTreeSet<PathBuf> = [job_file.clone()].into();
+    // The job's own folder is watched before the first report, so no save is missed.
+    let home = job_file.parent().unwrap_or(Path::new(".")).to_path_buf();
+    if let Err(e) = watcher.watch(&home, RecursiveMode::NonRecursive) {
+        say_err!("voicekeep: cannot watch {}: {e}", home.display());
+        return FAILURE;
+    }
+    folders.insert(home);
     let mut round = 0u64;
     loop {
         round += 1;
-        match report_job(path, output.clone(), template.clone()) {
+        let said = match report_job(path, output.clone(), template.clone()) {
             Ok((job, outcome, target)) => {
                 watched = read_by(path, &job).into_iter().chain(std::iter::once(job_file.clone())).collect();
                 let said = outcome.map(|o| format!(" ({})", summary(&job, &o))).unwrap_or_default();
-                out(&format!("[{round}] wrote {}{said}\n", target.display()));
+                format!("[{round}] wrote {}{said}\n", target.display())
             }
             // The refusal is said; the watch waits for the next save.
-            Err(_) => {
-                out(&format!("[{round}] not written: the problems are above; watching for the next save\n"));
-            }
-        }
+            Err(_) => format!("[{round}] not written: the problems are above; watching for the next save\n"),
+        };
         // Each folder of a watched file, watched once: an editor replaces a file by renaming
         // a new one over it, which a watch on the file itself would miss.
         for f in &watched {
@@ -88,6 +93,8 @@ pub fn run(path: &Path, output: Option<PathBuf>, template: Option<String>) -> u8
                 }
             }
         }
+        // Said once every file is watched, so a save made on reading it is not missed.
+        out(&said);
         // Wait for a save of a watched file, then for the files to settle.
         let touches = |ev: &notify::Result<notify::Event>| match ev {
             Ok(e) => {
