@@ -162,25 +162,52 @@ pub fn run(o: Options) -> u8 {
         };
         planned.push((p, slashed(rel), plan));
     }
-    let done: Vec<(&PathBuf, String, Done)> = planned
-        .par_iter()
-        .map(|(p, rel, plan)| {
-            let d = match plan {
-                Err(c) => Done::Failed(*c),
-                Ok((job, template, target, report_rel)) => {
-                    let hash = index::input_hash(job, template);
-                    match before.get(rel) {
-                        Some(row) if row.input_sha256 == hash && row.report == *report_rel && target.is_file() => Done::Unchanged(row.clone()),
-                        _ => report_one(p, rel, job, template, target, report_rel, hash, o.template.is_some()),
-                    }
+    let one = |(p, rel, plan): &(&PathBuf, String, Plan)| {
+        let d = match plan {
+            Err(c) => Done::Failed(*c),
+            Ok((job, template, target, report_rel)) => {
+                let hash = index::input_hash(job, template);
+                match before.get(rel) {
+                    Some(row) if row.input_sha256 == hash && row.report == *report_rel && target.is_file() => Done::Unchanged(row.clone()),
+                    _ => report_one(p, rel, job, template, target, report_rel, hash, o.template.is_some()),
                 }
-            };
-            bar.inc(1);
-            (*p, rel.clone(), d)
-        })
-        .collect();
+            }
+        };
+        bar.inc(1);
+        ((*p).clone(), rel.clone(), d)
+    };
+    let done = each_on_its_own_thread(&planned, one);
     bar.finish_and_clear();
     finish(&o, done)
+}
+
+/// Runs `f` on every item, on as many threads as the machine has cores, each taking the next
+/// item when it is free; the results in the items' order. The jobs are not rayon tasks: the
+/// report engine runs its own work on rayon, and a rayon worker waiting inside one report
+/// would take up another job's report on the same stack, and another inside that, until the
+/// stack overflowed (a batch of 1,000 jobs did).
+fn each_on_its_own_thread<T: Sync, R: Send>(items: &[T], f: impl Fn(&T) -> R + Sync) -> Vec<R> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    let next = AtomicUsize::new(0);
+    let slots: Vec<std::sync::Mutex<Option<R>>> = items.iter().map(|_| std::sync::Mutex::new(None)).collect();
+    let threads = std::thread::available_parallelism().map(|n| n.get()).unwrap_or(2).min(items.len().max(1));
+    std::thread::scope(|s| {
+        for _ in 0..threads {
+            let work = || loop {
+                let i = next.fetch_add(1, Ordering::Relaxed);
+                let Some(item) = items.get(i) else { break };
+                let r = f(item);
+                if let Ok(mut slot) = slots[i].lock() {
+                    *slot = Some(r);
+                }
+            };
+            // A report's layout recurses deeply: room as the main thread has.
+            if std::thread::Builder::new().stack_size(64 << 20).spawn_scoped(s, work).is_err() {
+                work();
+            }
+        }
+    });
+    slots.into_iter().filter_map(|m| m.into_inner().ok().flatten()).collect()
 }
 
 /// Reports one job and makes its index row.
@@ -210,7 +237,7 @@ fn report_one(path: &Path, rel: &str, job: &Job, template: &Template, target: &P
 }
 
 /// Writes the index and the summary; the exit code.
-fn finish(o: &Options, done: Vec<(&PathBuf, String, Done)>) -> u8 {
+fn finish(o: &Options, done: Vec<(PathBuf, String, Done)>) -> u8 {
     let mut summary = String::new();
     let mut rows = Vec::new();
     let (mut reported, mut unchanged, mut failed, mut worst) = (0, 0, 0, OK);
