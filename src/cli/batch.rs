@@ -21,6 +21,7 @@ pub struct Options<'a> {
     pub template: Option<String>,
     pub force: bool,
     pub quiet: bool,
+    pub json: bool,
 }
 
 /// Every YAML file under `dir`, as (path, path relative to `dir`), sorted; hidden folders and
@@ -101,6 +102,7 @@ pub fn run(o: Options) -> u8 {
         }
     };
     let (jobs, others): (Vec<_>, Vec<_>) = files.into_iter().partition(|(p, _)| is_job(p));
+    let not_jobs: Vec<String> = others.iter().map(|(_, r)| slashed(r)).collect();
     if !others.is_empty() {
         let names: Vec<String> = others.iter().map(|(_, r)| slashed(r)).collect();
         say_err!(
@@ -178,7 +180,7 @@ pub fn run(o: Options) -> u8 {
     };
     let done = each_on_its_own_thread(&planned, one);
     bar.finish_and_clear();
-    finish(&o, done)
+    finish(&o, done, &not_jobs)
 }
 
 /// Runs `f` on every item, on as many threads as the machine has cores, each taking the next
@@ -237,8 +239,9 @@ fn report_one(path: &Path, rel: &str, job: &Job, template: &Template, target: &P
 }
 
 /// Writes the index and the summary; the exit code.
-fn finish(o: &Options, done: Vec<(PathBuf, String, Done)>) -> u8 {
+fn finish(o: &Options, done: Vec<(PathBuf, String, Done)>, not_jobs: &[String]) -> u8 {
     let mut summary = String::new();
+    let mut each = Vec::new();
     let mut rows = Vec::new();
     let (mut reported, mut unchanged, mut failed, mut worst) = (0, 0, 0, OK);
     for (p, _, d) in done {
@@ -260,6 +263,7 @@ fn finish(o: &Options, done: Vec<(PathBuf, String, Done)>) -> u8 {
         if !o.quiet || row.is_none() {
             summary.push_str(&format!("{word} {}\n", p.display()));
         }
+        each.push(serde_json::json!({ "job": p.display().to_string(), "result": word.trim().replace("ok", "reported"), "report": row.as_ref().map(|r| r.report.clone()) }));
         rows.extend(row);
     }
     rows.sort_by(|a, b| a.job_file.cmp(&b.job_file));
@@ -286,7 +290,20 @@ fn finish(o: &Options, done: Vec<(PathBuf, String, Done)>) -> u8 {
         idx.jobs.len(),
         o.out_dir.join(index::CSV_NAME).display(),
     ));
-    let code = out(&summary);
+    let code = if o.json {
+        let dups: Vec<serde_json::Value> = index::duplicate_numbers(&idx).into_iter().map(|(n, f)| serde_json::json!({ "number": n, "job_files": f })).collect();
+        super::print_json(&serde_json::json!({
+            "jobs": each,
+            "not_jobs": not_jobs,
+            "reported": reported,
+            "unchanged": unchanged,
+            "failed": failed,
+            "duplicate_numbers": dups,
+            "index": { "csv": o.out_dir.join(index::CSV_NAME).display().to_string(), "json": o.out_dir.join(index::JSON_NAME).display().to_string(), "jobs": idx.jobs.len() },
+        }))
+    } else {
+        out(&summary)
+    };
     if worst != OK {
         worst
     } else {

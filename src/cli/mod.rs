@@ -71,8 +71,11 @@ enum Command {
         /// The job file (YAML), or - to read it from standard input
         job: PathBuf,
         /// Also draw the network as typed (JOB-schematic.svg beside the job), to compare with the board before going on
-        #[arg(long)]
+        #[arg(long, conflicts_with = "format")]
         draw: bool,
+        /// text for people, json for other programs (every problem with its file, line, column, field and hint)
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
     },
     /// Solve the job and print the compensation plan, levels, load and stress
     Solve {
@@ -170,6 +173,9 @@ enum Command {
         /// Report every job again, even one whose inputs have not changed since its report
         #[arg(long)]
         force: bool,
+        /// text for people, json for other programs (each job's result, the files that are not jobs, the index)
+        #[arg(long, value_enum, default_value_t = Format::Text)]
+        format: Format,
     },
     /// Write a scenario's network (with the fitted values) as a SPICE netlist with an AC analysis, to check any figure in ngspice
     Netlist {
@@ -244,7 +250,8 @@ where
     OUTSIDE.store(cli.allow_outside, std::sync::atomic::Ordering::Relaxed);
     QUIET.store(cli.quiet, std::sync::atomic::Ordering::Relaxed);
     ExitCode::from(match cli.command {
-        Command::Check { job, draw } => check(&job, draw),
+        Command::Check { job, format: Format::Json, .. } => check_json::run(&job),
+        Command::Check { job, draw, .. } => check(&job, draw),
         Command::Solve { job, format } => solve(&job, format),
         Command::Report { job, output, template } => report_cmd(&job, output, template),
         Command::Plot { job, out, format } => plot::plot(&job, &out, format),
@@ -259,7 +266,9 @@ where
         Command::Find { index, number, customer, serial, design, part, from, to, format } => {
             find::run(find::Args { index, number, customer, serial, design, part, from, to, format })
         }
-        Command::Batch { dir, out, template, force } => batch::run(batch::Options { dir: &dir, out_dir: &out, template, force, quiet: cli.quiet }),
+        Command::Batch { dir, out, template, force, format } => {
+            batch::run(batch::Options { dir: &dir, out_dir: &out, template, force, quiet: cli.quiet, json: format == Format::Json })
+        }
     })
 }
 
@@ -653,6 +662,7 @@ fn text_width() -> usize {
 }
 
 mod batch;
+mod check_json;
 mod confined;
 mod docs;
 mod examples;

@@ -240,3 +240,26 @@ fn find_searches_the_index_by_each_field() {
     assert_eq!(code, 1, "{err}");
     assert!(err.contains("hint: name the folder `batch --out` wrote"), "{err}");
 }
+
+#[test]
+fn batch_and_check_say_their_results_in_json() {
+    let d = shop();
+    let (_, out, _) = run(d.path(), &["batch", "jobs", "--out", "reports", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!((v["reported"].as_u64(), v["unchanged"].as_u64(), v["failed"].as_u64()), (Some(3), Some(0), Some(1)), "{v}");
+    assert_eq!(v["not_jobs"], serde_json::json!(["2026/oct/harrowby-shop.yaml"]));
+    let pair = v["jobs"].as_array().unwrap().iter().find(|j| j["job"] == "jobs/2026/nov/pair-recap.yaml").unwrap();
+    assert_eq!((pair["result"].as_str(), pair["report"].as_str()), (Some("reported"), Some("2026/nov/pair-recap.pdf")));
+    let (_, out, _) = run(d.path(), &["batch", "jobs", "--out", "reports", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["unchanged"].as_u64(), Some(3), "{v}");
+    // check: the verdict, and each problem at its place.
+    let (code, out, _) = run(d.path(), &["check", "jobs/2026/broken.yaml", "--format", "json"]);
+    assert_eq!(code, 1);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!((v["ok"].as_bool(), v["problems"][0]["line"].as_u64(), v["problems"][0]["column"].as_u64()), (Some(false), Some(3), Some(1)), "{v}");
+    let (code, out, _) = run(d.path(), &["check", "jobs/2026/nov/pair-recap.yaml", "--format", "json"]);
+    assert_eq!(code, 0);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!((v["ok"].as_bool(), v["parts"].as_u64(), v["cabinets"].as_u64()), (Some(true), Some(5), Some(2)), "{v}");
+}
