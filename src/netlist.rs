@@ -52,6 +52,22 @@ fn num(v: f64) -> String {
     format!("{v:.12e}")
 }
 
+/// A part or driver read open (no element) or shorted (a 0 V source) on the bench: written,
+/// and true; false when it has no fault.
+fn faulted(s: &mut String, fault: Option<Fault>, name: &str, a: &str, b: &str) -> bool {
+    match fault {
+        Some(Fault::Open) => {
+            let _ = writeln!(s, "* {name} reads open: no element");
+            true
+        }
+        Some(Fault::Shorted) => {
+            let _ = writeln!(s, "{} {a} {b} DC 0 AC 0", element('V', name, "_short"));
+            true
+        }
+        None => false,
+    }
+}
+
 /// The netlist of `net` driven by `amp` (AC 1 V: every driver's voltage is its level re the
 /// amplifier's EMF), with an AC analysis over `sweep` that writes each driver's voltage and the
 /// input impedance to `data_file`.
@@ -73,16 +89,8 @@ pub fn spice(title: &str, net: &Network, amp: &Amplifier, sweep: &Sweep, data_fi
     }
     for p in &net.parts {
         let (a, b) = (n(&p.between[0]), n(&p.between[1]));
-        match p.fault {
-            Some(Fault::Open) => {
-                let _ = writeln!(s, "* {} reads open: no element", p.name);
-                continue;
-            }
-            Some(Fault::Shorted) => {
-                let _ = writeln!(s, "{} {a} {b} DC 0 AC 0", element('V', &p.name, "_short"));
-                continue;
-            }
-            None => {}
+        if faulted(&mut s, p.fault, &p.name, &a, &b) {
+            continue;
         }
         if !p.value.is_finite() {
             let _ = writeln!(s, "* {} is not fitted (open): no element", p.name);
@@ -121,16 +129,8 @@ pub fn spice(title: &str, net: &Network, amp: &Amplifier, sweep: &Sweep, data_fi
     }
     for d in &net.drivers {
         let (a, b) = (n(&d.between[0]), n(&d.between[1]));
-        match d.fault {
-            Some(Fault::Open) => {
-                let _ = writeln!(s, "* driver {} reads open: no element", d.name);
-                continue;
-            }
-            Some(Fault::Shorted) => {
-                let _ = writeln!(s, "{} {a} {b} DC 0 AC 0", element('V', &d.name, "_short"));
-                continue;
-            }
-            None => {}
+        if faulted(&mut s, d.fault, &d.name, &a, &b) {
+            continue;
         }
         let refuse = |why: &str| Refusal {
             what: d.name.clone(),
