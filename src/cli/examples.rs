@@ -135,10 +135,10 @@ pub fn from_design(design: &str) -> u8 {
         }
     };
     let names = |key: &str| -> Vec<String> {
-        let Some(crate::job::yaml::Node::Map { entries, .. }) = map_get(&tree, "network").and_then(|n| map_get(n, key)) else { return Vec::new() };
+        let Some(crate::job::yaml::Node::Map { entries, .. }) = tree.get("network").and_then(|n| n.get(key)) else { return Vec::new() };
         entries.iter().map(|(k, _)| k.name.clone()).collect()
     };
-    let rated = map_get(&tree, "speaker").and_then(|s| map_get(s, "rated_impedance")).and_then(|n| n.as_scalar()).unwrap_or("8 ohm").to_string();
+    let rated = tree.get("speaker").and_then(|s| s.get("rated_impedance")).and_then(|n| n.as_scalar()).unwrap_or("8 ohm").to_string();
     let job_block: String = starter_mod::STARTER_JOB
         .lines()
         .filter(|l| !l.trim_start().starts_with("description:") && !l.trim_start().starts_with("rated_impedance:"))
@@ -159,11 +159,4 @@ pub fn from_design(design: &str) -> u8 {
         parts.join(", "),
         names("drivers").join(", "),
     ))
-}
-
-fn map_get<'n>(node: &'n crate::job::yaml::Node, key: &str) -> Option<&'n crate::job::yaml::Node> {
-    match node {
-        crate::job::yaml::Node::Map { entries, .. } => entries.iter().find(|(k, _)| k.name == key).map(|(_, v)| v),
-        _ => None,
-    }
 }

@@ -25,13 +25,6 @@ pub struct Design {
     pub text: String,
 }
 
-fn get<'n>(node: &'n Node, key: &str) -> Option<&'n Node> {
-    match node {
-        Node::Map { entries, .. } => entries.iter().find(|(k, _)| k.name == key).map(|(_, v)| v),
-        _ => None,
-    }
-}
-
 fn shift(node: &mut Node, lines: usize) {
     let moved = |p: &mut Pos| p.line += lines;
     match node {
@@ -69,10 +62,10 @@ fn rebase(node: &mut Node, folder: &str) {
 /// The designs folder the shop's settings file names (`designs:`), if the job names a
 /// settings file that names one.
 fn folder_of(root: &Node, files: &dyn Files) -> Option<String> {
-    let settings = get(root, "job").and_then(|j| get(j, "shop")).and_then(|s| get(s, "settings")).and_then(Node::as_scalar)?;
+    let settings = root.get("job").and_then(|j| j.get("shop")).and_then(|s| s.get("settings")).and_then(Node::as_scalar)?;
     let bytes = files.read(settings, crate::job::tables::MAX_TEXT_FILE_BYTES).ok()?;
     let tree = yaml::parse(std::str::from_utf8(&bytes).ok()?).ok()?;
-    let folder = get(&tree, "designs").and_then(Node::as_scalar)?.trim_end_matches('/');
+    let folder = tree.get("designs").and_then(Node::as_scalar)?.trim_end_matches('/');
     let base = std::path::Path::new(settings).parent().map(|p| p.to_string_lossy().into_owned()).unwrap_or_default();
     Some(if base.is_empty() { folder.to_string() } else { format!("{base}/{folder}") })
 }
@@ -80,7 +73,7 @@ fn folder_of(root: &Node, files: &dyn Files) -> Option<String> {
 /// Splices the design the job names into its tree; None when it names none. A design that
 /// cannot be read, or is not one, is refused at the job's `design` line or in the design file.
 pub fn splice(root: &mut Node, display: &str, files: &dyn Files, inputs: &mut Vec<InputFile>) -> Result<Option<Design>, Problems> {
-    let Some(named) = get(root, "design") else { return Ok(None) };
+    let Some(named) = root.get("design") else { return Ok(None) };
     let at = named.pos();
     let refuse = |message: String, hint: &str| Problems { file: display.to_string(), source: String::new(), list: vec![Diagnostic::new(at, "design", message).hint(hint)] };
     let Some(name) = named.as_scalar().map(str::trim).filter(|n| !n.is_empty()).map(str::to_string) else {
@@ -89,7 +82,7 @@ pub fn splice(root: &mut Node, display: &str, files: &dyn Files, inputs: &mut Ve
     if name.contains('/') || name.contains('\\') || name.starts_with('.') {
         return Err(refuse(format!("\"{name}\" is a path, not a design's name"), "write the design's name alone; the shop's settings file names the folder (`designs: FOLDER`)"));
     }
-    if get(root, "network").is_some() {
+    if root.get("network").is_some() {
         return Err(refuse(format!("the job names the design \"{name}\" and types a network of its own"), "remove the job's `network`, or the `design` line"));
     }
     let folder = folder_of(root, files).unwrap_or_else(|| DEFAULT_FOLDER.to_string());
@@ -129,10 +122,10 @@ pub fn splice(root: &mut Node, display: &str, files: &dyn Files, inputs: &mut Ve
     } else {
         list.push(Diagnostic::new(Pos::START, "", "a design is a mapping of `speaker` and `network`").hint("see the README's design library"));
     }
-    if get(&tree, "network").is_none() && list.is_empty() {
+    if tree.get("network").is_none() && list.is_empty() {
         list.push(Diagnostic::new(Pos::START, "network", "the design has no `network`").hint("type the crossover as designed under `network`, as a job would"));
     }
-    if let Some(Node::Map { entries, .. }) = get(&tree, "speaker") {
+    if let Some(Node::Map { entries, .. }) = tree.get("speaker") {
         for (k, _) in entries {
             if !["description", "rated_impedance", "rated_range"].contains(&k.name.as_str()) {
                 list.push(

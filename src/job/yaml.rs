@@ -52,6 +52,14 @@ impl Node {
         }
     }
 
+    /// A mapping's value under `key`; None for a scalar or a list.
+    pub fn get(&self, key: &str) -> Option<&Node> {
+        match self {
+            Node::Map { entries, .. } => entries.iter().find(|(k, _)| k.name == key).map(|(_, v)| v),
+            _ => None,
+        }
+    }
+
     pub fn as_scalar(&self) -> Option<&str> {
         match self {
             Node::Scalar { text, .. } => Some(text),

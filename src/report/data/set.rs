@@ -216,7 +216,7 @@ fn customer_sentences(job: &Job, set: &SetFindings, quote: bool) -> Vec<String> 
         } else {
             // "Now" only where they did not match before; with nothing read before the work,
             // nothing is said of it.
-            let unread = unread(set);
+            let unread = !set.read_on_bench();
             if unread {
                 out.push(format!("{} match after the work: {how}.", capitalise(&cabinets_words(n))));
             } else if found_apart.is_empty() {
@@ -249,7 +249,7 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
     let is_set = set.cabinets.len() > 2;
     let tol = trim_number(set.tolerance_db, 3);
     let net = &job.network;
-    let unread = unread(set);
+    let unread = !set.read_on_bench();
     let rows = set
         .matching
         .iter()
@@ -321,9 +321,4 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
         compensation: Table::new(&["Part", "Driver", "Exact value", "Fitted"], comp_rows),
         compensation_notes: set.compensation.iter().map(|c| capitalise(&c.reason) + ".").collect(),
     }
-}
-
-/// Whether nothing was read on the bench in any cabinet: the set's own fact.
-fn unread(set: &SetFindings) -> bool {
-    !set.read_on_bench()
 }
