@@ -545,7 +545,7 @@ fn compensation_text(s: &mut String, _job: &Job, f: &Findings) {
 /// The levels table and the crossovers.
 fn levels_text(s: &mut String, _job: &Job, f: &Findings) {
     let _ = writeln!(s, "LEVELS (band mean, dB re as designed)");
-    let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  as left", "driver", "role", "band", "designed", "found", "left");
+    let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  as left, worst point", "driver", "role", "band", "designed", "found", "left");
     for l in &f.levels {
         let band = format!("{}-{} ({})", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1])), if l.band_source == crate::analysis::BandSource::Compensate { "fit" } else { "pass" });
         let _ = writeln!(s, "  {:<8} {:<10} {:<24} {:>9} {:>9} {:>9}  {}", l.driver, l.role, band, level(l.as_designed_db), level(l.as_found_db), level(l.as_left_db), l.left_flag);

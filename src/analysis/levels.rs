@@ -120,6 +120,8 @@ pub struct LevelRow {
     pub as_left_worst_db: f64,
     pub passband_hz: [f64; 2],
     pub passband_worst_db: f64,
+    /// As left, in words: a fault, or the worst point over the working range judged as every
+    /// report's sentence judges it (within 0.5 dB, measurable, likely audible).
     pub left_flag: String,
     /// More than [`FAULT_DB`] below the original design: not a level difference
     /// but a fault (a driver shorted or disconnected).
@@ -258,7 +260,7 @@ pub fn level_rows(drivers: &[Driver], freqs: &[f64], bands: &[Band], scenes: &Sc
                 as_left_worst_db: worst_db,
                 passband_hz: [pass.lo_hz, pass.hi_hz],
                 passband_worst_db,
-                left_flag: if left_db < -FAULT_DB { FAULT_FLAG.into() } else { level_flag(left_db).into() },
+                left_flag: if left_db < -FAULT_DB { FAULT_FLAG.into() } else { level_flag(passband_worst_db).into() },
                 as_found_fault: found_db < -FAULT_DB,
                 as_left_fault: left_db < -FAULT_DB,
                 as_found_acoustic: found_acoustic,

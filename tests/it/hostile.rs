@@ -232,13 +232,8 @@ fn near_misses_at_the_edges_of_the_plausible_ranges_solve_to_finite_results() {
             wrong.push(format!("{name}: exit {}: {}", o.code, o.stderr.lines().next().unwrap_or("")));
             continue;
         }
-        let file = o.dir.join("results.json");
-        std::fs::write(&file, &o.stdout).unwrap();
-        for script in crate::commands::contract_scripts() {
-            let check = std::process::Command::new("python3").arg(&script).arg(&file).output().expect("python3 runs the contract check");
-            if !check.status.success() {
-                wrong.push(format!("{name}: {}", String::from_utf8_lossy(&check.stdout)));
-            }
+        for p in crate::contract::problems_in(&o.stdout) {
+            wrong.push(format!("{name}: {p}"));
         }
     }
     assert!(wrong.is_empty(), "{}", wrong.join("\n"));

@@ -14,8 +14,7 @@ fn billed_pair(tax: &str) -> Cli {
 
 /// The text as laid out (a table's row on one line), words joined by single spaces.
 fn words(pdf: &std::path::Path) -> String {
-    let o = std::process::Command::new("pdftotext").arg("-layout").arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
-    String::from_utf8_lossy(&o.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+    crate::pdf::Pdf::open(pdf).words()
 }
 
 #[test]

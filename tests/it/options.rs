@@ -118,8 +118,7 @@ fn the_recommendation_is_the_closest_option_not_the_cheapest() {
 fn the_quote_renders_the_options_side_by_side_with_a_line_to_sign() {
     let o = Cli::new().args(["report", SAMPLE, "--template", "quote", "-o", "{dir}/q.pdf"]).run();
     o.code(0);
-    let out = std::process::Command::new("pdftotext").args(["-layout"]).arg(o.dir.join("q.pdf")).arg("-").output().unwrap();
-    let text = String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ");
+    let text = crate::pdf::Pdf::open(&o.dir.join("q.pdf")).words();
     for want in ["Quotation", "like-for-like (recommended)", "film-matched", "film-only", "Recommended: like-for-like", "signature", "49.35 EUR", "No work has been done yet"] {
         assert!(text.contains(want), "{want}: {text}");
     }
@@ -134,8 +133,7 @@ fn a_job_block_shows_one_option_with_what_it_was_computed_from() {
     let prices = std::fs::read(root().join("samples/northwater-prices.csv")).unwrap();
     let o = Cli::new().job(&text).file("northwater-prices.csv", &prices).args(["report", "{job}", "-o", "{dir}/o.pdf"]).run();
     o.code(0);
-    let out = std::process::Command::new("pdftotext").arg(o.dir.join("o.pdf")).arg("-").output().unwrap();
-    let pdf = String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ");
+    let pdf = crate::pdf::Pdf::open(&o.dir.join("o.pdf")).words();
     for want in [
         "Option: film-matched",
         "Computed from the speaker as found (three bench readings) with this option's three steps: replace C1, replace C2, and insert R9; R9 solved for HF.",
@@ -223,8 +221,7 @@ fn a_pair_option_buys_parts_for_both_cabinets_and_labour_for_the_job() {
 fn a_pair_quote_renders_both_cabinets_options_with_a_line_to_sign() {
     let o = Cli::new().args(["report", PAIR, "-o", "{dir}/q.pdf"]).run();
     o.code(0);
-    let out = std::process::Command::new("pdftotext").args(["-layout"]).arg(o.dir.join("q.pdf")).arg("-").output().unwrap();
-    let text = String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ");
+    let text = crate::pdf::Pdf::open(&o.dir.join("q.pdf")).words();
     for want in ["Quotation", "like-for-like", "film-matched", "signature", "Parts are counted and prices given for both cabinets"] {
         assert!(text.contains(want), "{want}: {text}");
     }
@@ -262,8 +259,7 @@ fn an_option_with_a_new_caution_yields_to_one_whose_every_verdict_is_ok() {
 fn quote_text(sample: &str) -> String {
     let o = Cli::new().args(["report", sample, "--template", "quote", "-o", "{dir}/q.pdf"]).run();
     o.code(0);
-    let out = std::process::Command::new("pdftotext").arg(o.dir.join("q.pdf")).arg("-").output().unwrap();
-    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+    crate::pdf::Pdf::open(&o.dir.join("q.pdf")).words()
 }
 
 #[test]

@@ -1,5 +1,5 @@
 //! The reader's harness: every sample and every job under tests/ rendered with every template
-//! that applies, its text read back page by page (pdftotext, Debian's poppler-utils), and
+//! that applies, its text read back page by page (tests/it/pdf.rs), and
 //! invariants that hold for every report checked on all of them, so a new capability cannot
 //! add a false or unreadable sentence unseen.
 //!
@@ -7,10 +7,10 @@
 //! hold. The invariants read the PDF as a reader would and the JSON of `solve` as an outside
 //! check would; none reads the report's data or calls the code that wrote a sentence.
 
-use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
+use crate::pdf;
 use crate::util::{bin, root};
 
 const TEMPLATES: [&str; 5] = ["customer", "archive", "sale", "quote", "invoice"];
@@ -37,12 +37,12 @@ pub fn jobs() -> Vec<PathBuf> {
 struct Report {
     job: String,
     template: &'static str,
-    /// The text of each page (pdftotext -layout), words joined by single spaces.
+    /// The text of each page in lines from its top, words joined by single spaces.
     pages: Vec<String>,
     /// Per page: how far down the body the last text reaches (0 top, 1 the foot of the body),
     /// and the last line of the body.
     ends: Vec<(f64, String)>,
-    /// Whether the PDF carries embedded files (an `/EmbeddedFile` object).
+    /// Whether the PDF carries embedded files.
     attached: bool,
 }
 
@@ -77,49 +77,20 @@ fn squash(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-/// The body's extent on each page from pdftotext's word boxes: the page less its 20 mm
-/// margins (the templates' page set-up), where the header and footer sit.
-fn page_ends(pdf: &Path) -> Vec<(f64, String)> {
-    let o = Command::new("pdftotext").args(["-bbox"]).arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
-    let html = String::from_utf8_lossy(&o.stdout).to_string();
-    let attr = |s: &str, name: &str| -> f64 {
-        let key = format!("{name}=\"");
-        let i = s.find(&key).unwrap() + key.len();
-        s[i..].split('"').next().unwrap().parse().unwrap()
-    };
-    let mut out = Vec::new();
-    for page in html.split("<page ").skip(1) {
-        let h = attr(page, "height");
-        let margin = 20.0 / 25.4 * 72.0;
-        let (top, foot) = (margin, h - margin);
-        // Lines of words, keyed by their baseline.
-        let mut lines: BTreeMap<i64, Vec<(f64, String)>> = BTreeMap::new();
-        let mut lowest: f64 = top;
-        for w in page.split("<word ").skip(1) {
-            let (y0, y1, x0) = (attr(w, "yMin"), attr(w, "yMax"), attr(w, "xMin"));
-            if y0 < top || y1 > foot {
-                continue;
-            }
-            let word = w.split('>').nth(1).unwrap_or("").split('<').next().unwrap_or("").to_string();
-            lowest = lowest.max(y1);
-            lines.entry(y1.round() as i64).or_default().push((x0, word));
-        }
-        let last = lines
-            .values()
-            .next_back()
-            .map(|ws| {
-                let mut ws = ws.clone();
-                ws.sort_by(|a, b| a.0.total_cmp(&b.0));
-                ws.into_iter().map(|w| w.1).collect::<Vec<_>>().join(" ")
-            })
-            .unwrap_or_default();
-        out.push(((lowest - top) / (foot - top), unescape(&last)));
-    }
-    out
-}
-
-fn unescape(s: &str) -> String {
-    s.replace("&amp;", "&").replace("&lt;", "<").replace("&gt;", ">").replace("&quot;", "\"").replace("&#39;", "'")
+/// The body's extent on each page from its words' boxes (tests/it/pdf.rs): the page less its
+/// 20 mm margins (the templates' page set-up), where the header and footer sit.
+fn page_ends(doc: &pdf::Pdf) -> Vec<(f64, String)> {
+    let margin = 20.0 / 25.4 * 72.0;
+    doc.pages
+        .iter()
+        .map(|page| {
+            let (top, foot) = (margin, page.height - margin);
+            let body: Vec<&Vec<pdf::Word>> = page.lines.iter().filter(|l| l.iter().all(|w| w.top >= top && w.bottom <= foot)).collect();
+            let lowest = body.iter().flat_map(|l| l.iter().map(|w| w.bottom)).fold(top, f64::max);
+            let last = body.last().map(|l| l.iter().map(|w| w.text.as_str()).collect::<Vec<_>>().join(" ")).unwrap_or_default();
+            ((lowest - top) / (foot - top), last)
+        })
+        .collect()
 }
 
 fn read(job: &Path, template: &'static str, dir: &Path) -> Option<Report> {
@@ -136,14 +107,10 @@ fn read(job: &Path, template: &'static str, dir: &Path) -> Option<Report> {
         }
         c => panic!("{stem} ({template}): exit {c:?}\n{}", String::from_utf8_lossy(&o.stderr)),
     }
-    let t = Command::new("pdftotext").args(["-layout"]).arg(&pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
-    let text = String::from_utf8_lossy(&t.stdout).to_string();
-    let mut pages: Vec<String> = text.split('\u{c}').map(squash).collect();
-    if pages.last().is_some_and(|p| p.is_empty()) {
-        pages.pop();
-    }
-    let attached = std::fs::read(&pdf).unwrap().windows(13).any(|w| w == b"/EmbeddedFile");
-    Some(Report { job: stem, template, pages, ends: page_ends(&pdf), attached })
+    let doc = pdf::Pdf::open(&pdf);
+    let pages: Vec<String> = doc.pages.iter().map(|p| squash(&p.plain().join(" "))).collect();
+    let attached = !doc.attachments().is_empty();
+    Some(Report { job: stem, template, pages, ends: page_ends(&doc), attached })
 }
 
 /// Every job under every template, rendered two at a time (the machine's two cores).

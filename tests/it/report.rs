@@ -1,25 +1,22 @@
 //! The PDF report: every sample under every template, its text against `solve`, byte-identical
-//! renders, literal notes, attachments, and shop templates. Uses pdftotext and pdfdetach
-//! (Debian's poppler-utils).
+//! renders, literal notes, attachments, and shop templates. Reads the PDFs with
+//! tests/it/pdf.rs.
 
 use std::path::Path;
-use std::process::Command;
 
 use crate::commands::SAMPLES;
 use crate::util::{root, Cli};
 
-fn pdftotext(pdf: &Path) -> String {
-    let o = Command::new("pdftotext").args(["-layout"]).arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
-    assert!(o.status.success());
-    // Join the words of wrapped table cells so phrases can be found whole.
-    String::from_utf8_lossy(&o.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+/// The report's words, joined by single spaces so phrases can be found whole.
+fn report_words(pdf: &Path) -> String {
+    crate::pdf::Pdf::open(pdf).words()
 }
 
 fn render(sample: &str, template: &str) -> (std::path::PathBuf, String) {
     let o = Cli::new().args(["report", sample, "--template", template, "-o", "{dir}/out.pdf"]).run();
     o.code(0);
     let pdf = o.dir.join("out.pdf");
-    let text = pdftotext(&pdf);
+    let text = report_words(&pdf);
     (pdf, text)
 }
 
@@ -120,7 +117,7 @@ fn notes_with_markup_print_literally() {
     for template in ["customer", "archive"] {
         let o = Cli::new().job(&job).args(["report", "{job}", "--template", template, "-o", "{dir}/n.pdf"]).run();
         o.code(0);
-        let text = pdftotext(&o.dir.join("n.pdf"));
+        let text = report_words(&o.dir.join("n.pdf"));
         assert!(text.contains("Tried #read(\"/etc/passwd\") and ] and $x$ and *bold* and <tag> and #panic()"), "{template}: {text}");
         assert!(!text.contains("root:x:0"));
     }
@@ -131,15 +128,13 @@ fn job_file_tables_and_results_are_attached() {
     let o = Cli::new().args(["report", "samples/three-way-mid-table.yaml", "--template", "archive", "-o", "{dir}/a.pdf"]).run();
     o.code(0);
     let pdf = o.dir.join("a.pdf");
-    let list = Command::new("pdfdetach").arg("-list").arg(&pdf).output().expect("pdfdetach (poppler-utils)");
-    let list = String::from_utf8_lossy(&list.stdout).to_string();
+    let files = crate::pdf::Pdf::open(&pdf).attachments();
+    let names: Vec<&str> = files.iter().map(|f| f.0.as_str()).collect();
     for name in ["three-way-mid-table.yaml", "mid-impedance.csv", "lf-spl.csv", "results.json"] {
-        assert!(list.contains(name), "{name} not attached:\n{list}");
+        assert!(names.contains(&name), "{name} not attached: {names:?}");
     }
-    let out = o.dir.join("job-out.yaml");
-    let save = Command::new("pdfdetach").arg("-savefile").arg("three-way-mid-table.yaml").arg("-o").arg(&out).arg(&pdf).status().unwrap();
-    assert!(save.success());
-    assert_eq!(std::fs::read(&out).unwrap(), std::fs::read(root().join("samples/three-way-mid-table.yaml")).unwrap());
+    let job = &files.iter().find(|f| f.0 == "three-way-mid-table.yaml").unwrap().1;
+    assert_eq!(job, &std::fs::read(root().join("samples/three-way-mid-table.yaml")).unwrap());
     // The archive is PDF/A-3b: its metadata says so.
     let bytes = std::fs::read(&pdf).unwrap();
     let hay = String::from_utf8_lossy(&bytes);
@@ -152,7 +147,7 @@ fn a_shop_template_works_and_a_broken_one_names_its_line() {
     let shop = "#import \"lib.typ\": *\n#show: setup.with(title: \"Harbour Hi-Fi service note\")\n= Harbour Hi-Fi service note\n#levels-block()\n#load-block()\n";
     let o = Cli::new().job(&job).file("shop.typ", shop.as_bytes()).args(["report", "{job}", "--template", "{dir}/shop.typ", "-o", "{dir}/s.pdf"]).run();
     o.code(0);
-    assert!(pdftotext(&o.dir.join("s.pdf")).contains("Harbour Hi-Fi service note"));
+    assert!(report_words(&o.dir.join("s.pdf")).contains("Harbour Hi-Fi service note"));
     let broken = "#import \"lib.typ\": *\n#show: setup\n= Title\n#levels-block(\n";
     let o = Cli::new().job(&job).file("broken.typ", broken.as_bytes()).args(["report", "{job}", "--template", "{dir}/broken.typ", "-o", "{dir}/b.pdf"]).run();
     o.code(1).stderr_has("broken.typ:4:");
@@ -188,7 +183,7 @@ fn job_blocks_set_the_report_order() {
         job.replace("  template: customer\n", "  template: customer\n  blocks:\n    - text: Opening words from the bench, in the job's own order.\n    - load\n    - levels\n");
     let o = Cli::new().job(&job).args(["report", "{job}", "-o", "{dir}/b.pdf"]).run();
     o.code(0);
-    let text = pdftotext(&o.dir.join("b.pdf"));
+    let text = report_words(&o.dir.join("b.pdf"));
     let (intro, load, levels) =
         (text.find("Opening words from the bench").unwrap(), text.find("The load on the amplifier").unwrap(), text.find("How each driver plays against its design").unwrap());
     assert!(intro < load && load < levels, "blocks out of order");
@@ -229,9 +224,8 @@ fn the_sale_sheet_never_shows_the_previous_owner() {
         assert!(!text.contains("Customer") && !text.contains("Bench notes"), "{sample}");
         // Nothing is attached to the sale sheet: not the job file, which names the owner, nor
         // the shop's results.
-        let list = Command::new("pdfdetach").arg("-list").arg(&pdf).output().unwrap();
-        let list = String::from_utf8_lossy(&list.stdout);
-        assert!(list.trim_start().starts_with("0 embedded files"), "{sample}: {list}");
+        let files: Vec<String> = crate::pdf::Pdf::open(&pdf).attachments().into_iter().map(|f| f.0).collect();
+        assert!(files.is_empty(), "{sample}: {files:?}");
         // The amplifier line is the shop's assumption, not a rating of the speaker.
         assert!(text.contains("the shop's figures assume an amplifier of"), "{sample}");
     }

@@ -12,10 +12,9 @@ pub fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
 
-/// A report's words as pdftotext reads them, on one line with single spaces.
+/// A report's words (tests/it/pdf.rs), on one line with single spaces.
 pub fn pdf_words(pdf: &Path) -> String {
-    let out = Command::new("pdftotext").arg(pdf).arg("-").output().expect("pdftotext (poppler-utils) is installed");
-    String::from_utf8_lossy(&out.stdout).split_whitespace().collect::<Vec<_>>().join(" ")
+    crate::pdf::Pdf::open(pdf).words()
 }
 
 pub fn job_from(yaml: &str) -> voicekeep::model::Job {

@@ -128,7 +128,7 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                     if l.as_found_fault || l.as_left_fault { "-".into() } else { db(l.found_to_left_db) },
                     format!("{} ({} - {})", level(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
                     // Judged, as every sentence is, on the worst point over the working range.
-                    if l.as_left_fault { l.left_flag.clone() } else { crate::analysis::level_flag(l.passband_worst_db).to_string() },
+                    l.left_flag.clone(),
                 ])
             })
             .collect();
