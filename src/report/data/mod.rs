@@ -533,7 +533,7 @@ pub(super) fn trade_units(d: &mut ReportData) {
     }
     if let Some(p) = &mut d.pair {
         p.basis = t(&p.basis);
-        for s in p.sentences.iter_mut().chain(&mut p.compensation_notes) {
+        for s in p.sentences.iter_mut().chain(&mut p.compensation_notes).chain(&mut p.compensation_plain) {
             *s = t(s);
         }
         table(&mut p.table);

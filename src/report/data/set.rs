@@ -25,6 +25,8 @@ pub struct PairData {
     pub sentences: Vec<String>,
     pub compensation: Table,
     pub compensation_notes: Vec<String>,
+    /// The same, in a sentence each, for the owner and the buyer (no table of exact values).
+    pub compensation_plain: Vec<String>,
 }
 
 /// The report data of a pair or set.
@@ -320,5 +322,24 @@ fn pair_data(job: &Job, set: &SetFindings, plain: bool) -> PairData {
         sentences,
         compensation: Table::new(&["Part", "Driver", "Exact value", "Fitted"], comp_rows),
         compensation_notes: set.compensation.iter().map(|c| capitalise(&c.reason) + ".").collect(),
+        compensation_plain: set.compensation.iter().map(|c| same_part_sentence(job, c, set.cabinets.len())).collect(),
+    }
+}
+
+/// Whether a compensating part is the same value in every cabinet, in a sentence: the value
+/// fitted, never the exact values it was rounded from.
+fn same_part_sentence(job: &Job, c: &crate::analysis::pair::PairCompensation, n: usize) -> String {
+    let is = if job.work_done() { "is" } else { "would be" };
+    let what = format!("{}, the resistor fitted for {}", c.part, driver_words(&job.network, &c.driver));
+    match c.common_ohm {
+        Some(v) => format!(
+            "Yes: {what}, {is} {} in {}, one standard value that suits each of them.",
+            ohm(v),
+            if n == 2 { "both cabinets".to_string() } else { format!("all {n} cabinets") }
+        ),
+        None => {
+            let each: Vec<String> = c.fitted.iter().map(|x| format!("{} in {}", ohm(x.ohm), x.cabinet)).collect();
+            format!("No: {what}, {is} {}, the nearest standard value to what each cabinet needs.", join_and(&each))
+        }
     }
 }
