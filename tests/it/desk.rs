@@ -172,6 +172,11 @@ fn the_csv_index_parses_back_to_the_rows_and_runs_no_formula() {
     let evil_row = records.iter().find(|r| r[col("job_file")] == *"two-way-recap.yaml").unwrap();
     assert_eq!(&evil_row[col("customer")], "'=SUM(A1)");
     assert_eq!(&evil_row[col("customer_reference")], "'@cmd, \"quoted\"\nnext line");
+    // The outside check reads it with Python's csv module, where python3 is on PATH.
+    if std::process::Command::new("python3").arg("--version").output().is_ok_and(|o| o.status.success()) {
+        let o = std::process::Command::new("python3").arg(crate::util::root().join("tests/contract/index-csv.py")).arg(d.path().join("reports")).output().unwrap();
+        assert!(o.status.success(), "{}{}", String::from_utf8_lossy(&o.stdout), String::from_utf8_lossy(&o.stderr));
+    }
 }
 
 #[test]
