@@ -19,5 +19,6 @@ pub mod netlist;
 pub mod report;
 pub mod results;
 pub mod schematic;
+pub mod soundcard;
 pub mod text;
 pub mod units;

@@ -191,6 +191,10 @@ enum Command {
         #[arg(short, long)]
         output: Option<PathBuf>,
     },
+    /// Write the test signal for an impedance sweep with a sound card (a WAV file), and print the wiring and cautions
+    Signal(soundcard::SignalCmd),
+    /// Turn a stereo recording of the signal (drive and speaker) into the impedance table `terminals` and `characterise` read
+    Measure(soundcard::MeasureCmd),
     /// Find past jobs in the archive index `batch` writes, by number, customer, serial, design, part fitted or date
     Find {
         /// The reports folder `batch --out` wrote (or its index.json)
@@ -263,6 +267,8 @@ where
         Command::Diagnose { job, format } => diagnose(&job, format),
         Command::Characterise { sweep, leach, format } => characterise(&sweep, leach, format),
         Command::Netlist { job, scenario, cabinet, output } => netlist::run(&job, &scenario, cabinet, output),
+        Command::Signal(c) => soundcard::signal(&c),
+        Command::Measure(c) => soundcard::measure(&c),
         Command::Find { index, number, customer, serial, design, part, from, to, format } => {
             find::run(find::Args { index, number, customer, serial, design, part, from, to, format })
         }
@@ -669,6 +675,7 @@ mod examples;
 mod find;
 mod netlist;
 mod plot;
+mod soundcard;
 mod starter;
 mod watch;
 use starter::starter;

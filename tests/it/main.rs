@@ -30,6 +30,7 @@ mod reference;
 mod report;
 mod schematic;
 mod service;
+mod soundcard;
 mod substitute;
 mod terminals;
 mod util;
