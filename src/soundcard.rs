@@ -212,8 +212,9 @@ const WINDOW_FADE_S: f64 = 0.010;
 struct Responses {
     drive: Vec<Complex64>,
     speaker: Vec<Complex64>,
-    /// Each frequency's signal-to-noise ratio (power, the worst of drive, speaker and their
-    /// difference).
+    /// Each frequency's signal-to-noise ratio (power): the worst of drive, speaker and their
+    /// difference against the lead-in's noise, and with repeats, of their mean against the
+    /// spread between them.
     snr: Vec<f64>,
 }
 
@@ -329,6 +330,10 @@ fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses,
     let mut drive = vec![Complex64::new(0.0, 0.0); freqs.len()];
     let mut speaker = drive.clone();
     let mut width = vec![0.0; freqs.len()];
+    // With repeats, each sweep's own Vs / Vd: their spread is a second measure of the noise.
+    // The repeats the recording holds whole (a calibration may have been recorded with one).
+    let repeats = (sweep.repeats as usize).min((len - sweep.lead() - one.len()) / sweep.period() + 1);
+    let mut spread = vec![0.0; freqs.len()];
     for (wi, &(lowest, pre, post)) in WINDOWS.iter().enumerate() {
         let highest = WINDOWS.get(wi + 1).map(|w| w.0).unwrap_or(f64::INFINITY);
         let idx: Vec<usize> = (0..freqs.len()).filter(|&i| freqs[i] >= lowest && freqs[i] < highest).collect();
@@ -340,16 +345,32 @@ fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses,
         let n_fade = round(WINDOW_FADE_S * fs).min(pre).max(1);
         let n = pre + post;
         let w: Vec<f64> = (0..n).map(|k| fade(k, n_fade) * fade(n - 1 - k, n_fade)).collect();
-        let cut = |h: &[f64]| -> Vec<f64> {
+        // One repeat's windowed response, or (None) the mean of every repeat's.
+        let cut = |h: &[f64], only: Option<usize>| -> Vec<f64> {
+            let which: Vec<usize> = only.map(|r| vec![r]).unwrap_or_else(|| (0..repeats).collect());
             (0..n)
                 .map(|k| {
-                    let sum: f64 = (0..sweep.repeats as usize).map(|r| h[(peak + r * sweep.period() + nfft + k - pre) % nfft]).sum();
-                    w[k] * sum / sweep.repeats as f64
+                    let sum: f64 = which.iter().map(|r| h[(peak + r * sweep.period() + nfft + k - pre) % nfft]).sum();
+                    w[k] * sum / which.len() as f64
                 })
                 .collect()
         };
         let f: Vec<f64> = idx.iter().map(|&i| freqs[i]).collect();
-        let (d, s) = (spectrum_at(&cut(&hd), &f, fs), spectrum_at(&cut(&hs), &f, fs));
+        let (d, s) = (spectrum_at(&cut(&hd, None), &f, fs), spectrum_at(&cut(&hs, None), &f, fs));
+        if repeats > 1 {
+            let each: Vec<Vec<Complex64>> = (0..repeats)
+                .map(|r| {
+                    let (dr, sr) = (spectrum_at(&cut(&hd, Some(r)), &f, fs), spectrum_at(&cut(&hs, Some(r)), &f, fs));
+                    sr.iter().zip(&dr).map(|(a, b)| a / b).collect()
+                })
+                .collect();
+            for (j, &i) in idx.iter().enumerate() {
+                let mean = s[j] / d[j];
+                // The variance of the mean of the repeats, relative to the mean's power.
+                let var: f64 = each.iter().map(|e| (e[j] - mean).norm_sqr()).sum::<f64>() / (repeats * (repeats - 1)) as f64;
+                spread[i] = var / mean.norm_sqr().max(1e-30);
+            }
+        }
         let effective = w.iter().map(|v| v * v).sum::<f64>() / fs;
         for (j, &i) in idx.iter().enumerate() {
             drive[i] = d[j];
@@ -382,8 +403,17 @@ fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses,
             let at = sweep.lead() + latency + round(l * (f / sweep.from_hz).ln() * fs);
             let (a, b) = (at.saturating_sub(block / 2), (at + block / 2).min(len));
             let power = if b > a { x[a..b].iter().map(|v| v * v).sum::<f64>() / (b - a) as f64 } else { 0.0 };
-            let s = power * l / f * sweep.repeats as f64 / (width[i] * density[i].max(1e-30));
+            let s = power * l / f * repeats as f64 / (width[i] * density[i].max(1e-30));
             snr[i] = snr[i].min(s);
+        }
+    }
+    if repeats > 1 {
+        // Averaged over a third of an octave around each point (a few repeats give a
+        // scattered estimate point by point).
+        for i in 0..freqs.len() {
+            let near: Vec<f64> = (0..freqs.len()).filter(|&k| (freqs[k] / freqs[i]).log2().abs() <= 1.0 / 6.0).map(|k| spread[k]).collect();
+            let var = near.iter().sum::<f64>() / near.len() as f64;
+            snr[i] = snr[i].min(1.0 / var.max(1e-30));
         }
     }
     Ok(Responses { drive, speaker, snr })
@@ -479,7 +509,7 @@ pub fn table(m: &Measured, s: &Setup, notes: &[String]) -> String {
     }
     let sw = s.sweep;
     out.push_str(&format!(
-        "# reference resistor {} ohm; sample rate {} Hz; sweep {} Hz to {} Hz over {} s, {} repeat{}, level {} dBFS\n",
+        "# reference resistor {} ohm; sample rate {} Hz; sweep {} Hz to {} Hz over {} s, {} repeat{}, level {} dBFS; signal-to-noise from the lead-in's noise{}\n",
         s.reference_ohm,
         sw.rate,
         sw.from_hz,
@@ -487,7 +517,8 @@ pub fn table(m: &Measured, s: &Setup, notes: &[String]) -> String {
         sw.seconds,
         sw.repeats,
         if sw.repeats == 1 { "" } else { "s" },
-        sw.level_dbfs
+        sw.level_dbfs,
+        if sw.repeats > 1 { " and the spread between the repeats" } else { "" }
     ));
     if m.calibrated {
         out.push_str("# calibration: the channels' own gain and phase mismatch, from the calibration recording, divided out\n");

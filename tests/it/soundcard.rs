@@ -234,3 +234,39 @@ fn the_readmes_walk_from_a_recording_to_a_diagnosis() {
     d.code(0);
     assert!(d.stdout.contains("Most likely drifted: C1") && d.stdout.contains("3.9 uF"), "{}", d.stdout);
 }
+
+/// With repeats, the spread between them is a second measure of the noise: a disturbance in
+/// the second sweep only (noise at -40 dBFS on the speaker's input, which the lead-in never
+/// saw) leaves points out, while the first sweep alone keeps them all.
+#[test]
+fn the_spread_between_repeats_leaves_out_what_the_lead_in_did_not_see() {
+    use rand::SeedableRng;
+    use rand_distr::{Distribution, Normal};
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(9);
+    let burst = Normal::new(0.0, 0.01).unwrap();
+    let r = hound::WavReader::new(std::io::Cursor::new(wav("speaker-r2.wav"))).unwrap();
+    let spec = r.spec();
+    let mut buf = std::io::Cursor::new(Vec::new());
+    let mut w = hound::WavWriter::new(&mut buf, spec).unwrap();
+    // The second sweep starts after the 0.5 s lead-in and one 2.5 s period.
+    let second = (3.0 * 48_000.0) as usize..(5.0 * 48_000.0) as usize;
+    for (i, s) in r.into_samples::<i32>().enumerate() {
+        let mut x = s.unwrap() as f64 / 8_388_608.0;
+        if i % 2 == 1 && second.contains(&(i / 2)) {
+            x += burst.sample(&mut rng);
+        }
+        w.write_sample((x * 8_388_608.0).round().clamp(-8_388_608.0, 8_388_607.0) as i32).unwrap();
+    }
+    w.finalize().unwrap();
+    let run = |repeats: &str| {
+        Cli::new().file("r.wav", buf.get_ref()).args(["measure", "{dir}/r.wav", "--reference", "22", "--seconds", "2", "--repeats", repeats, "-o", "{dir}/z.csv"]).run()
+    };
+    let o = run("2");
+    o.code(0).stderr_has("fell below the 45 dB signal-to-noise threshold");
+    let table = std::fs::read_to_string(o.dir.join("z.csv")).unwrap();
+    assert!(table.contains("and the spread between the repeats"), "{table}");
+    assert!(rows(&table).len() < 400, "{}", rows(&table).len());
+    let o = run("1");
+    o.code(0);
+    assert_eq!(rows(&std::fs::read_to_string(o.dir.join("z.csv")).unwrap()).len(), 480);
+}
