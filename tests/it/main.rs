@@ -35,3 +35,4 @@ mod substitute;
 mod terminals;
 mod util;
 mod verdicts;
+mod wording;

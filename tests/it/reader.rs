@@ -34,23 +34,23 @@ pub fn jobs() -> Vec<PathBuf> {
 }
 
 /// One report as its reader sees it.
-struct Report {
-    job: String,
-    template: &'static str,
+pub(crate) struct Report {
+    pub(crate) job: String,
+    pub(crate) template: &'static str,
     /// The text of each page in lines from its top, words joined by single spaces.
-    pages: Vec<String>,
+    pub(crate) pages: Vec<String>,
     /// Per page: how far down the body the last text reaches (0 top, 1 the foot of the body),
     /// and the last line of the body.
-    ends: Vec<(f64, String)>,
+    pub(crate) ends: Vec<(f64, String)>,
     /// Whether the PDF carries embedded files.
-    attached: bool,
+    pub(crate) attached: bool,
 }
 
 impl Report {
-    fn text(&self) -> String {
+    pub(crate) fn text(&self) -> String {
         self.pages.join(" ")
     }
-    fn plain(&self) -> bool {
+    pub(crate) fn plain(&self) -> bool {
         self.template != "archive"
     }
     /// A report of the speaker's figures: not a quotation (before the work) nor an invoice
@@ -58,19 +58,19 @@ impl Report {
     fn states_figures(&self) -> bool {
         self.template != "quote" && self.template != "invoice"
     }
-    fn name(&self) -> String {
+    pub(crate) fn name(&self) -> String {
         format!("{} ({})", self.job, self.template)
     }
 }
 
-struct Job {
-    name: String,
+pub(crate) struct Job {
+    pub(crate) name: String,
     /// The job file's text, for what the tests read from it directly, not through the program.
-    yaml: String,
+    pub(crate) yaml: String,
     /// The speaker's rated impedance as the job file types it (`rated_impedance: 4 ohm`).
-    rated_ohm: Option<f64>,
-    json: serde_json::Value,
-    reports: Vec<Report>,
+    pub(crate) rated_ohm: Option<f64>,
+    pub(crate) json: serde_json::Value,
+    pub(crate) reports: Vec<Report>,
 }
 
 fn squash(s: &str) -> String {
@@ -114,7 +114,7 @@ fn read(job: &Path, template: &'static str, dir: &Path) -> Option<Report> {
 }
 
 /// Every job under every template, rendered two at a time (the machine's two cores).
-fn all() -> &'static Vec<Job> {
+pub(crate) fn all() -> &'static Vec<Job> {
     static ALL: std::sync::OnceLock<Vec<Job>> = std::sync::OnceLock::new();
     ALL.get_or_init(|| {
         let dir = tempdir();

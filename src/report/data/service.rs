@@ -7,7 +7,7 @@ use serde::Serialize;
 use super::story::with_article;
 use super::words::{capitalise, driver_words, join_and, kind_noun, part_place};
 use super::{Audience, Ctx, Row, Table};
-use crate::model::{ChangeStep, Patch};
+use crate::model::{ChangeStep, PartKind, Patch};
 use crate::units::{ohm, trim_number};
 
 #[derive(Debug, Serialize)]
@@ -296,16 +296,25 @@ pub(super) fn power(c: &Ctx) -> String {
         Some(r) if (r - p.into_ohm).abs() > 1e-9 => (format!("This {} ohm speaker", trim_number(r, 3)), format!("by the amplifier's {} ohm rating", trim_number(p.into_ohm, 3))),
         _ => ("This speaker".to_string(), format!("into {} ohm", trim_number(p.into_ohm, 3))),
     };
-    let named: Vec<String> = p
-        .unrated
-        .iter()
-        .map(|n| match net.part(n) {
-            Some(part) if c.audience.plain() => format!("{} {n}", kind_noun(part.kind)),
-            Some(_) => n.clone(),
-            None => driver_words(net, n),
-        })
-        .collect();
-    let unrated = match named.len() {
+    // Parts of one kind are named together ("inductors L1 and L2"), drivers after them.
+    let mut named: Vec<String> = Vec::new();
+    let mut count = 0;
+    for kind in [PartKind::Capacitor, PartKind::Inductor, PartKind::Resistor] {
+        let mut these: Vec<&str> = p.unrated.iter().filter(|n| net.part(n).is_some_and(|x| x.kind == kind)).map(String::as_str).collect();
+        these.sort();
+        count += these.len();
+        match (these.len(), c.audience.plain()) {
+            (0, _) => {}
+            (_, false) => named.extend(these.iter().map(|n| n.to_string())),
+            (1, true) => named.push(format!("{} {}", kind_noun(kind), these[0])),
+            (_, true) => named.push(format!("{}s {}", kind_noun(kind), join_and(&these.iter().map(|n| n.to_string()).collect::<Vec<_>>()))),
+        }
+    }
+    for n in p.unrated.iter().filter(|n| net.part(n).is_none()) {
+        named.push(driver_words(net, n));
+        count += 1;
+    }
+    let unrated = match count {
         0 => String::new(),
         1 => format!("{} has no rating on record", capitalise(&named[0])),
         _ => format!("{} have no rating on record", capitalise(&join_and(&named))),

@@ -45,9 +45,14 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
                 .iter()
                 .filter(|e| e.identifiable && e.start > 0.0 && ((e.value / e.start) - 1.0).abs() >= 0.05)
                 .map(|e| {
-                    let pct = 100.0 * (e.value / e.start - 1.0);
-                    let what = if e.field == "value" { e.part.clone() } else { format!("{}'s {}", e.part, if plain { "internal loss" } else { e.field.as_str() }) };
-                    format!("{what} about {:.0} % {}", pct.abs(), if pct < 0.0 { "below" } else { "above" },)
+                    let ratio = e.value / e.start;
+                    let what = if e.field == "value" { format!("{}'s value", e.part) } else { format!("{}'s {}", e.part, if plain { "internal loss" } else { e.field.as_str() }) };
+                    // Twice or more is said as a multiple ("about 2.6 times"), not as "162 % above".
+                    if ratio >= 2.0 {
+                        format!("{what} about {} times its design value", crate::units::trim_number(ratio, 2))
+                    } else {
+                        format!("{what} about {:.0} % {} its design value", (100.0 * (ratio - 1.0)).abs(), if ratio < 1.0 { "below" } else { "above" })
+                    }
                 })
                 .collect(),
             _ => Vec::new(),
@@ -56,7 +61,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
             out.push("No part or driver readings were recorded before the work, so the figures before the work are those of the original design.".into());
         } else {
             out.push(format!(
-                "No part was read on the bench before the work; the impedance sweep at the terminals pointed to {} its design value (an estimate from the sweep, not a reading). The figures before the work are those of the original design.",
+                "No part was read on the bench before the work; the impedance sweep at the terminals pointed to {} (an estimate from the sweep, not a reading). The figures before the work are those of the original design.",
                 join_and(&estimated)
             ));
         }
