@@ -45,3 +45,26 @@ fn a_large_change_is_said_as_a_multiple() {
     }
     assert!(wrong.is_empty(), "{}", wrong.join("\n"));
 }
+
+/// The parts list says whose parts it counts: a job of one network (even one that lists two
+/// serials) does not claim to count "every cabinet". Failed before on three-way-mid-table's
+/// and quote-three-options's archive (quantity 1 under "counted for every cabinet"), and on
+/// set-of-three-alike's unpriced quote, which did not say its quantities were for all three.
+#[test]
+fn the_parts_list_counts_what_it_says() {
+    let mut wrong = Vec::new();
+    for job in all() {
+        let pair = job.json.get("cabinets").is_some();
+        for r in &job.reports {
+            let t = r.text();
+            if !pair && t.contains("counted for every cabinet") {
+                wrong.push(format!("{}: one network, parts \"counted for every cabinet\"", r.name()));
+            }
+            // A plain report words it in its terms: "for the whole job, both cabinets".
+            if pair && t.contains("Parts to buy") && !t.contains("counted for every cabinet") && !t.contains("for the whole job") && !t.contains("counted for the whole job") {
+                wrong.push(format!("{}: a pair's parts list does not say it counts every cabinet", r.name()));
+            }
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}

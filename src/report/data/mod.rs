@@ -240,6 +240,9 @@ pub struct ReportData {
     pub substitutes: Vec<SubstituteData>,
     /// The parts to buy for the work done, and their total where a price list priced them.
     pub parts_to_buy: Table,
+    /// Whose parts the list counts: every cabinet of a pair or set, or the one network a job
+    /// describes (for one cabinet where the job lists several serials).
+    pub parts_counted: String,
     pub parts_total: Option<String>,
     /// The options offered before the work, side by side; None when the job has none.
     pub options: Option<OptionsData>,
@@ -415,6 +418,10 @@ pub fn build(job: &Job, f: &Findings, template: &Template, plots: &[PlotKind]) -
         pair: None,
         substitutes: substitutes(&c),
         parts_to_buy: parts_to_buy(&f.parts, c.audience.plain()),
+        parts_counted: match c.job.info.serials.len() {
+            n if n > 1 => format!("counted for one cabinet (the job describes one network; it lists {} serials)", words::count_words(n)),
+            _ => "counted for the cabinet".into(),
+        },
         parts_total: parts_total(&f.parts),
         options: options(&c),
         service: service::service(&c),

@@ -122,7 +122,11 @@ pub(crate) fn quote_terms(c: &Ctx, parts: &crate::analysis::bom::PartsList, opti
         (true, true) => format!("Prices are for the parts and labour listed, for {whole}; {figures}"),
         (true, false) => format!("Prices are for the parts listed, for {whole}; labour is not included; {figures}"),
         (false, true) => format!("No part is priced yet (the job names no price list); the shop prices the parts before the work starts. Labour is for {whole}; {figures}"),
-        (false, false) => format!("Nothing in this quotation is priced yet: the shop gives its prices before the work starts. The {figures}"),
+        (false, false) => {
+            // The parts are still counted: say for how many cabinets.
+            let counted = if cabinets > 1 || serials > 1 { format!(" Parts are counted for {whole}.") } else { String::new() };
+            format!("Nothing in this quotation is priced yet: the shop gives its prices before the work starts.{counted} The {figures}")
+        }
     };
     if !job.options.is_empty() {
         let priced = options.iter().any(|o| o.parts.total.is_some() || o.labour.is_some());

@@ -129,6 +129,7 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     data.worked = job.work_done();
     // The parts for every cabinet's work, counted across the set.
     data.parts_to_buy = super::blocks::parts_to_buy(&set.parts, plain);
+    data.parts_counted = "counted for every cabinet".into();
     data.parts_total = super::blocks::parts_total(&set.parts);
     for p in &mut data.plots {
         if let Some(k) = PlotKind::ALL.iter().find(|k| k.name() == p.name) {
