@@ -79,6 +79,16 @@ impl Sweep {
         if !(1..=16).contains(&self.repeats) {
             return refuse(format!("{} repeats", self.repeats), "give 1 to 16 repeats");
         }
+        let played = self.lead() + self.repeats as usize * self.period();
+        if played + round(self.seconds * self.fs()) > MAX_FFT {
+            return refuse(
+                format!("a signal of {:.1} s at {} Hz", played as f64 / self.fs(), self.rate),
+                format!(
+                    "keep the lead-in, sweeps and tails together under about {:.0} s at this rate (fewer or shorter sweeps), so `measure` can read the recording whole",
+                    (MAX_FFT as f64 / self.fs()) * 0.9 - self.seconds
+                ),
+            );
+        }
         Ok(())
     }
 
@@ -216,6 +226,8 @@ struct Responses {
     /// difference against the lead-in's noise, and with repeats, of their mean against the
     /// spread between them.
     snr: Vec<f64>,
+    /// The repeats read (those the recording holds whole).
+    repeats: usize,
 }
 
 /// Each channel deconvolved by the sweep: X S* / (|S|² + e), e a millionth of |S|²'s peak,
@@ -302,27 +314,104 @@ fn noise_density(x: &[f64], freqs: &[f64], fs: f64, planner: &mut RealFftPlanner
         .collect()
 }
 
-fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses, Refusal> {
+/// The largest FFT the measurement takes: 2^22 points, about 87 s of recording at 48 kHz with
+/// its sweep (under a gigabyte of memory with the calibration).
+pub const MAX_FFT: usize = 1 << 22;
+
+/// How long the first burst of signal on a channel lasts, from 10 ms blocks above a tenth of
+/// the loudest block's level; None when nothing stands clear of the noise.
+fn burst_seconds(x: &[f64], fs: f64) -> Option<f64> {
+    let n = round(0.010 * fs).max(1);
+    let rms: Vec<f64> = x.chunks(n).map(|c| (c.iter().map(|v| v * v).sum::<f64>() / c.len() as f64).sqrt()).collect();
+    let top = rms.iter().copied().fold(0.0, f64::max);
+    let mut sorted = rms.clone();
+    sorted.sort_by(f64::total_cmp);
+    let floor = sorted[sorted.len() / 10];
+    if top < 30.0 * floor.max(1e-12) {
+        return None;
+    }
+    let start = rms.iter().position(|&r| r > 0.1 * top)?;
+    // The burst ends where the level stays below the mark for 50 ms.
+    let mut end = start;
+    let mut quiet = 0;
+    for (k, &r) in rms.iter().enumerate().skip(start) {
+        if r > 0.1 * top {
+            end = k;
+            quiet = 0;
+        } else {
+            quiet += 1;
+            if quiet >= 5 {
+                break;
+            }
+        }
+    }
+    Some((end + 1 - start) as f64 * n as f64 / fs)
+}
+
+fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64], calibration: bool) -> Result<Responses, Refusal> {
     let fs = sweep.fs();
     let one = sweep.one();
     let len = rec.drive.len();
-    if len < sweep.lead() + one.len() {
+    if len + one.len() > MAX_FFT {
         return refuse(
-            format!("the recording lasts {:.2} s, shorter than the signal's lead-in and sweep ({:.2} s)", len as f64 / fs, (sweep.lead() + one.len()) as f64 / fs),
-            "record from before the signal starts to after it ends, and give the signal's own --seconds, --lead and --repeats",
+            format!(
+                "the recording lasts {:.1} s: with a {} s sweep, at most {:.1} s is read at {} Hz",
+                len as f64 / fs,
+                sweep.seconds,
+                (MAX_FFT - one.len()) as f64 / fs,
+                sweep.rate
+            ),
+            "record just the signal, from a moment before it starts to a moment after it ends (or use fewer or shorter sweeps)",
+        );
+    }
+    // A DC offset on an input is no part of the speaker's response.
+    let mean = |x: &[f64]| x.iter().sum::<f64>() / x.len() as f64;
+    let (md, ms) = (mean(&rec.drive), mean(&rec.speaker));
+    let vd: Vec<f64> = rec.drive.iter().map(|v| v - md).collect();
+    let vs: Vec<f64> = rec.speaker.iter().map(|v| v - ms).collect();
+    // The sweep the recording holds against the one the options describe: a wrong --seconds
+    // smears the deconvolution, so it is said rather than blamed on noise.
+    if let Some(heard) = burst_seconds(&vd, fs) {
+        if (heard - sweep.seconds).abs() > 0.03 * sweep.seconds + 0.05 {
+            return refuse(
+                format!("the sweep in the recording lasts about {heard:.1} s, not the {} s given", sweep.seconds),
+                format!("give the signal's own settings: --seconds {:.1} if that is the sweep `signal` wrote (and its --rate, --low-hz, --high-hz and --repeats)", heard),
+            );
+        }
+    }
+    if len < one.len() + 4096 {
+        return refuse(
+            format!("the recording lasts {:.2} s, shorter than the sweep ({:.2} s) with a lead-in", len as f64 / fs, one.len() as f64 / fs),
+            "record from before the signal starts to after it ends, and give the signal's own --seconds",
         );
     }
     let nfft = (len + one.len()).next_power_of_two();
     let mut planner = RealFftPlanner::<f64>::new();
-    let [hd, hs] = deconvolve([&rec.drive, &rec.speaker], &one, nfft, &mut planner);
-    // The first sweep's response: the largest value before the second sweep's.
-    let search = (sweep.lead() + sweep.period() / 2).min(nfft);
-    let (peak, top) = hd[..search].iter().enumerate().map(|(i, v)| (i, v.abs())).fold((0, 0.0), |m, x| if x.1 > m.1 { x } else { m });
+    let [hd, hs] = deconvolve([&vd, &vs], &one, nfft, &mut planner);
+    // The response: the largest value, then back a sweep's period at a time while an earlier
+    // repeat's response stands as high (the first sweep's, wherever the recording started).
+    let (mut peak, top) = hd.iter().enumerate().map(|(i, v)| (i, v.abs())).fold((0, 0.0), |m, x| if x.1 > m.1 { x } else { m });
+    while peak >= sweep.period() && hd[peak - sweep.period()].abs() >= 0.5 * top {
+        peak -= sweep.period();
+    }
     let rms = (hd.iter().map(|v| v * v).sum::<f64>() / nfft as f64).sqrt();
     if top < 30.0 * rms {
         return refuse(
             "no sweep found in the recording (its deconvolution shows no response above the noise)",
             "check that the recording holds the signal `voicekeep signal` wrote, played through the amplifier loud enough to hear, and that --seconds, --low-hz and --high-hz are the signal's",
+        );
+    }
+    // Input 2 reading nothing while the drive is loud is a loose lead, not a quiet signal.
+    let sweep_part = peak..(peak + one.len()).min(len);
+    let power = |x: &[f64]| x[sweep_part.clone()].iter().map(|v| v * v).sum::<f64>();
+    if power(&vs) < 1e-6 * power(&vd) {
+        return refuse(
+            "input 2 reads almost nothing while the drive is loud",
+            if calibration {
+                "for the calibration, connect both inputs to the amplifier's output"
+            } else {
+                "connect input 2 across the speaker's terminals (and input 1 across the amplifier's output)"
+            },
         );
     }
     // Harmonics lie ahead of the response, the second at L ln 2: the window starts short of it.
@@ -332,7 +421,7 @@ fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses,
     let mut width = vec![0.0; freqs.len()];
     // With repeats, each sweep's own Vs / Vd: their spread is a second measure of the noise.
     // The repeats the recording holds whole (a calibration may have been recorded with one).
-    let repeats = (sweep.repeats as usize).min((len - sweep.lead() - one.len()) / sweep.period() + 1);
+    let repeats = (sweep.repeats as usize).min(len.saturating_sub(peak + one.len()) / sweep.period() + 1).max(1);
     let mut spread = vec![0.0; freqs.len()];
     for (wi, &(lowest, pre, post)) in WINDOWS.iter().enumerate() {
         let highest = WINDOWS.get(wi + 1).map(|w| w.0).unwrap_or(f64::INFINITY);
@@ -381,26 +470,24 @@ fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses,
     // Signal-to-noise: a channel's energy per hertz as the sweep passes f (its power then,
     // times L / f, the time the sweep spends per hertz), against the noise's density over the
     // window's length; repeats average the noise down.
-    let latency = peak.saturating_sub(sweep.lead());
-    let quiet = &rec.drive[..sweep.lead().min(len)];
-    let quiet_s = &rec.speaker[..sweep.lead().min(len)];
-    if quiet.len() < 4096 {
-        return refuse("the lead-in is too short to measure the noise", "give the signal a lead-in of 0.1 s or more (--lead), and start recording before it plays");
+    // The noise: everything recorded before the sweep starts (10 ms kept clear of it).
+    let quiet_end = peak.saturating_sub(round(0.010 * fs));
+    if quiet_end < 4096 {
+        return refuse(
+            "the recording holds too little silence before the sweep to measure the noise",
+            "start recording a moment before the signal plays (the signal's lead-in of 0.1 s or more, --lead)",
+        );
     }
-    let diff: Vec<f64> = rec.drive.iter().zip(&rec.speaker).map(|(a, b)| a - b).collect();
+    let diff: Vec<f64> = vd.iter().zip(&vs).map(|(a, b)| a - b).collect();
     let mut snr = vec![f64::INFINITY; freqs.len()];
     let block = round(l * LN_2 / 12.0 * fs).max(64);
-    for x in [&rec.drive, &rec.speaker, &diff] {
-        let q: Vec<f64> = if std::ptr::eq(x, &rec.drive) {
-            quiet.to_vec()
-        } else if std::ptr::eq(x, &rec.speaker) {
-            quiet_s.to_vec()
-        } else {
-            quiet.iter().zip(quiet_s).map(|(a, b)| a - b).collect()
-        };
-        let density = noise_density(&q, freqs, fs, &mut planner);
+    // The difference between the inputs counts where the speaker is measured; in a calibration
+    // both inputs read one point, so it is nothing by design.
+    let channels: Vec<&Vec<f64>> = if calibration { vec![&vd, &vs] } else { vec![&vd, &vs, &diff] };
+    for x in channels {
+        let density = noise_density(&x[..quiet_end], freqs, fs, &mut planner);
         for (i, &f) in freqs.iter().enumerate() {
-            let at = sweep.lead() + latency + round(l * (f / sweep.from_hz).ln() * fs);
+            let at = peak + round(l * (f / sweep.from_hz).ln() * fs);
             let (a, b) = (at.saturating_sub(block / 2), (at + block / 2).min(len));
             let power = if b > a { x[a..b].iter().map(|v| v * v).sum::<f64>() / (b - a) as f64 } else { 0.0 };
             let s = power * l / f * repeats as f64 / (width[i] * density[i].max(1e-30));
@@ -416,7 +503,7 @@ fn responses(rec: &Recording, sweep: &Sweep, freqs: &[f64]) -> Result<Responses,
             snr[i] = snr[i].min(1.0 / var.max(1e-30));
         }
     }
-    Ok(Responses { drive, speaker, snr })
+    Ok(Responses { drive, speaker, snr, repeats })
 }
 
 /// The table's frequencies: `per_octave` points an octave from `from`, landing on `to`.
@@ -438,6 +525,8 @@ pub struct Measured {
     pub snr_db: Vec<f64>,
     pub kept: Vec<bool>,
     pub calibrated: bool,
+    /// The sweeps read from the recording and averaged.
+    pub repeats: usize,
 }
 
 pub struct Setup<'a> {
@@ -457,11 +546,11 @@ pub fn measure(rec: &Recording, cal: Option<&Recording>, s: &Setup) -> Result<Me
             );
         }
     }
-    let m = responses(rec, s.sweep, s.freqs)?;
+    let m = responses(rec, s.sweep, s.freqs, false)?;
     let mut h: Vec<Complex64> = m.speaker.iter().zip(&m.drive).map(|(a, b)| a / b).collect();
     let mut snr = m.snr.clone();
     if let Some(c) = cal {
-        let cm = responses(c, s.sweep, s.freqs)?;
+        let cm = responses(c, s.sweep, s.freqs, true).map_err(|r| Refusal { message: format!("the calibration recording: {}", r.message), hint: r.hint })?;
         let ratio: Vec<Complex64> = cm.speaker.iter().zip(&cm.drive).map(|(a, b)| a / b).collect();
         let mut sorted: Vec<f64> = ratio.iter().map(|r| r.norm()).collect();
         sorted.sort_by(f64::total_cmp);
@@ -487,6 +576,15 @@ pub fn measure(rec: &Recording, cal: Option<&Recording>, s: &Setup) -> Result<Me
         );
     }
     let z: Vec<Complex64> = h.iter().map(|&x| s.reference_ohm * x / (Complex64::new(1.0, 0.0) - x)).collect();
+    // A passive speaker's phase lies within +-90 degrees: near 180 is one input inverted.
+    let mut phases: Vec<f64> = z.iter().map(|z| z.arg().to_degrees().abs()).collect();
+    phases.sort_by(f64::total_cmp);
+    if phases[phases.len() / 2] > 100.0 {
+        return refuse(
+            "the impedance reads near 180 degrees, which no passive speaker does: one input is inverted",
+            "check both inputs' leads: a lead with its two signal wires the other way round inverts its input; put it right and record again",
+        );
+    }
     let snr_db: Vec<f64> = snr.iter().map(|v| 10.0 * v.max(1e-30).log10()).collect();
     let kept: Vec<bool> = snr_db.iter().zip(&z).map(|(&d, z)| d >= s.min_snr_db && z.re.is_finite() && z.norm() > 0.0).collect();
     if !kept.iter().any(|&k| k) {
@@ -496,7 +594,7 @@ pub fn measure(rec: &Recording, cal: Option<&Recording>, s: &Setup) -> Result<Me
             "raise the signal's level or the amplifier's gain (a few volts at the speaker suffice), or use a longer sweep (--seconds) or repeats",
         );
     }
-    Ok(Measured { freqs: s.freqs.to_vec(), z, snr_db, kept, calibrated: cal.is_some() })
+    Ok(Measured { freqs: s.freqs.to_vec(), z, snr_db, kept, calibrated: cal.is_some(), repeats: m.repeats })
 }
 
 /// The table `terminals` and `characterise` read: comment lines saying how it was measured,
@@ -509,16 +607,16 @@ pub fn table(m: &Measured, s: &Setup, notes: &[String]) -> String {
     }
     let sw = s.sweep;
     out.push_str(&format!(
-        "# reference resistor {} ohm; sample rate {} Hz; sweep {} Hz to {} Hz over {} s, {} repeat{}, level {} dBFS; signal-to-noise from the lead-in's noise{}\n",
+        "# reference resistor {} ohm; sample rate {} Hz; the signal as given: sweep {} Hz to {} Hz over {} s, {} dBFS; {} sweep{} read and averaged; signal-to-noise from the noise before the sweep{}\n",
         s.reference_ohm,
         sw.rate,
         sw.from_hz,
         sw.to_hz,
         sw.seconds,
-        sw.repeats,
-        if sw.repeats == 1 { "" } else { "s" },
         sw.level_dbfs,
-        if sw.repeats > 1 { " and the spread between the repeats" } else { "" }
+        m.repeats,
+        if m.repeats == 1 { "" } else { "s" },
+        if m.repeats > 1 { " and the spread between the sweeps" } else { "" }
     ));
     if m.calibrated {
         out.push_str("# calibration: the channels' own gain and phase mismatch, from the calibration recording, divided out\n");
@@ -559,12 +657,15 @@ fn sig(v: f64) -> String {
 
 /// The wiring and the cautions, printed with the signal and in the README.
 pub const WIRING: &str = "\
-Wiring: amplifier output + -> reference resistor (10 to 100 ohm, its value measured) -> speaker + ;
-speaker - -> amplifier output - (ground). Sound card input 1 (left) across the amplifier's output
-(the drive, over resistor and speaker together); input 2 (right) across the speaker's terminals.
-Both inputs' grounds on the amplifier's output minus. Record in stereo from before the signal starts
-until after it ends, at the signal's sample rate.
-Calibration (recommended): record once more with both inputs on the amplifier's output.
+Wiring: amplifier output + -> reference resistor (10 to 100 ohm, its value measured, rated 2 W or
+more) -> speaker + ; speaker - -> amplifier output - (ground). Sound card input 1 (left) across
+the amplifier's output (the drive, over resistor and speaker together); input 2 (right) across the
+speaker's terminals. Both inputs' grounds on the amplifier's output minus. Use line inputs at their
+lowest gain, phantom power (48 V) off, and the computer's sound effects and resampling off. Record
+in stereo at the signal's sample rate, from a moment before the signal starts until after it ends.
+Calibration: record once more with both inputs on the amplifier's output, the resistor and speaker
+still connected, without touching any gain between the two recordings; without it the inputs' own
+mismatch (often tenths of a dB) stays in the table.
 
 Cautions:
 - Drive a few volts only, within the sound card input's rating: keep the amplifier's gain low.

@@ -56,6 +56,13 @@ fn refused(what: &str, r: &Refusal) -> u8 {
     PROBLEMS
 }
 
+/// A file's name as a comment line holds it: control characters (a line break in a name)
+/// escaped, so a name cannot add a line to the table.
+fn name_of(p: &Path) -> String {
+    let n = p.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    n.chars().map(|c| if c.is_control() { c.escape_default().to_string() } else { c.to_string() }).collect()
+}
+
 fn write(file: &Path, bytes: &[u8]) -> u8 {
     match crate::report::write_atomically(file, bytes) {
         Ok(()) => done(&format!("wrote {}\n", file.display())),
@@ -70,7 +77,8 @@ fn write(file: &Path, bytes: &[u8]) -> u8 {
 pub fn signal(c: &SignalCmd) -> u8 {
     let (sweep, output) = (c.sweep.sweep(), &c.output);
     if let Err(r) = sweep.check() {
-        return refused("voicekeep signal", &r);
+        refused("voicekeep signal", &r);
+        return USAGE;
     }
     let bytes = match soundcard::write_signal(&sweep) {
         Ok(b) => b,
@@ -80,8 +88,17 @@ pub fn signal(c: &SignalCmd) -> u8 {
         }
     };
     let code = write(output, &bytes);
-    if code == 0 {
+    if code == 0 && !super::QUIET.load(std::sync::atomic::Ordering::Relaxed) {
+        let a = &c.sweep;
         say_err!("{}", soundcard::WIRING);
+        say_err!(
+            "\nThen: voicekeep measure RECORDING.wav --reference OHM --calibration CALIBRATION.wav --seconds {} --rate {} --low-hz {} --high-hz {} --repeats {} -o TABLE.csv",
+            a.seconds,
+            a.rate,
+            a.low_hz,
+            a.high_hz,
+            a.repeats
+        );
     }
     code
 }
@@ -127,11 +144,15 @@ pub struct MeasureCmd {
     sweep: SweepArgs,
 }
 
-/// A resistance as typed: "22", "22 ohm", "22ohm", "22 Ω", "22R".
+/// A resistance as typed: a bare number of ohms ("22"), or as a job file writes one ("22 ohm",
+/// "22.1 Ω", "0.022 kohm", "22R"; "ohms" read as "ohm").
 fn ohms(text: &str) -> Option<f64> {
     let t = text.trim();
-    let t = t.strip_suffix("ohm").or_else(|| t.strip_suffix("Ω")).or_else(|| t.strip_suffix('R')).unwrap_or(t).trim();
-    t.parse::<f64>().ok().filter(|v| v.is_finite())
+    if let Ok(v) = t.parse::<f64>() {
+        return Some(v).filter(|v| v.is_finite());
+    }
+    let t = t.strip_suffix("ohms").map(|x| format!("{x}ohm")).unwrap_or_else(|| t.to_string());
+    crate::units::parse_value(&t, crate::units::Quantity::Resistance).ok()
 }
 
 fn read(path: &Path, drive_channel: u8) -> Result<(Recording, String), u8> {
@@ -152,7 +173,13 @@ fn read(path: &Path, drive_channel: u8) -> Result<(Recording, String), u8> {
 pub fn measure(a: &MeasureCmd) -> u8 {
     let sweep = a.sweep.sweep();
     if let Err(r) = sweep.check() {
-        return refused("voicekeep measure", &r);
+        refused("voicekeep measure", &r);
+        return USAGE;
+    }
+    if !(0.0..=100.0).contains(&a.min_snr_db) {
+        say_err!("voicekeep measure: --min-snr-db {} is not a threshold of 0 to 100 dB", a.min_snr_db);
+        say_err!("  hint: 45 dB (the default) keeps noise on |Z| to about 0.6 %; lower keeps more points, noisier");
+        return USAGE;
     }
     let Some(reference_ohm) = ohms(&a.reference).filter(|v| (10.0..=100.0).contains(v)) else {
         say_err!("voicekeep measure: --reference \"{}\" is not a resistance of 10 to 100 ohm", a.reference);
@@ -188,12 +215,15 @@ pub fn measure(a: &MeasureCmd) -> u8 {
         Ok(m) => m,
         Err(r) => return refused(&a.recording.display().to_string(), &r),
     };
-    let name = |p: &Path| p.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
-    let mut notes = vec![format!("recording {} ({}, drive on channel {}), SHA-256 {rec_hash}", name(&a.recording), rec.format, a.drive_channel)];
+    let mut notes = vec![format!("recording {} ({}, drive on channel {}), SHA-256 {rec_hash}", name_of(&a.recording), rec.format, a.drive_channel)];
     if let (Some(p), Some((c, h))) = (&a.calibration, &cal) {
-        notes.push(format!("calibration recording {} ({}), SHA-256 {h}", name(p), c.format));
+        notes.push(format!("calibration recording {} ({}), SHA-256 {h}", name_of(p), c.format));
     }
     let text = soundcard::table(&m, &setup, &notes);
+    if a.calibration.is_none() {
+        say_err!("{}: warning: no calibration recording: the inputs' own gain and phase mismatch (often tenths of a dB, a few degrees) stays in the table and can move |Z| by several per cent", a.recording.display());
+        say_err!("  hint: record the signal once more with both inputs on the amplifier's output and give it with --calibration");
+    }
     let dropped = m.kept.iter().filter(|k| !**k).count();
     if dropped > 0 {
         say_err!("{}: {dropped} of {} points fell below the {} dB signal-to-noise threshold and were left out of the table", a.recording.display(), m.freqs.len(), a.min_snr_db);
@@ -201,7 +231,10 @@ pub fn measure(a: &MeasureCmd) -> u8 {
     match &a.output {
         None => out(&text),
         Some(file) => {
-            if [Some(&a.recording), a.calibration.as_ref()].into_iter().flatten().any(|p| super::where_written(p) == super::where_written(file)) {
+            // The same file by any path: a link to a recording is the recording.
+            let same =
+                |p: &Path| super::where_written(p) == super::where_written(file) || std::fs::canonicalize(p).ok().is_some_and(|c| std::fs::canonicalize(file).ok() == Some(c));
+            if [Some(&a.recording), a.calibration.as_ref()].into_iter().flatten().any(|p| same(p)) {
                 say_err!("voicekeep measure: the table would overwrite {}, one of its own recordings", file.display());
                 return PROBLEMS;
             }

@@ -67,7 +67,7 @@ fn the_signal_is_the_sweep_its_definition_gives() {
     assert!(worst < 1.2e-7, "{worst}");
     // Out of range: refused with a hint.
     let o = Cli::new().args(["signal", "--high-hz", "30000", "--rate", "44100", "-o", "{dir}/s.wav"]).run();
-    o.code(1).stderr_has("below half the sample rate");
+    o.code(2).stderr_has("below half the sample rate");
     assert!(!o.dir.join("s.wav").exists());
 }
 
@@ -82,7 +82,7 @@ fn a_speaker_measured_with_calibration_is_within_one_per_cent_and_one_degree() {
         "sample rate 48000 Hz",
         "divided out",
         "SHA-256 ",
-        "kept 480 of 480 points, 20 Hz to 20000 Hz; the worst signal-to-noise ratio kept is 4",
+        "kept 480 of 480 points, 20 Hz to 20000 Hz; the worst signal-to-noise ratio kept is ",
         "# frequency Hz, |Z| ohm, phase deg",
     ] {
         assert!(table.contains(want), "{want}:\n{table}");
@@ -264,9 +264,96 @@ fn the_spread_between_repeats_leaves_out_what_the_lead_in_did_not_see() {
     let o = run("2");
     o.code(0).stderr_has("fell below the 45 dB signal-to-noise threshold");
     let table = std::fs::read_to_string(o.dir.join("z.csv")).unwrap();
-    assert!(table.contains("and the spread between the repeats"), "{table}");
+    assert!(table.contains("2 sweeps read and averaged") && table.contains("and the spread between the sweeps"), "{table}");
     assert!(rows(&table).len() < 400, "{}", rows(&table).len());
     let o = run("1");
     o.code(0);
     assert_eq!(rows(&std::fs::read_to_string(o.dir.join("z.csv")).unwrap()).len(), 480);
+}
+
+/// A committed 24-bit stereo recording changed frame by frame (`f` gets the frame's number and
+/// its two channels in full-scale units), after `lead` frames of fresh noise at -80 dBFS.
+fn transform(name: &str, lead: usize, f: impl Fn(usize, f64, f64) -> (f64, f64)) -> Vec<u8> {
+    use rand::SeedableRng;
+    use rand_distr::{Distribution, Normal};
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(11);
+    let noise = Normal::new(0.0, 7.071e-5).unwrap();
+    let r = hound::WavReader::new(std::io::Cursor::new(wav(name))).unwrap();
+    let spec = r.spec();
+    let x: Vec<f64> = r.into_samples::<i32>().map(|s| s.unwrap() as f64 / 8_388_608.0).collect();
+    let mut buf = std::io::Cursor::new(Vec::new());
+    let mut w = hound::WavWriter::new(&mut buf, spec).unwrap();
+    let code = |v: f64| (v * 8_388_608.0).round().clamp(-8_388_608.0, 8_388_607.0) as i32;
+    for _ in 0..2 * lead {
+        w.write_sample(code(noise.sample(&mut rng))).unwrap();
+    }
+    for (i, c) in x.chunks_exact(2).enumerate() {
+        let (a, b) = f(i, c[0], c[1]);
+        w.write_sample(code(a)).unwrap();
+        w.write_sample(code(b)).unwrap();
+    }
+    w.finalize().unwrap();
+    buf.into_inner()
+}
+
+fn measure_bytes(bytes: &[u8], cal: Option<&[u8]>, extra: &[&str]) -> crate::util::Output {
+    let mut c = Cli::new().file("r.wav", bytes).args(["measure", "{dir}/r.wav", "-o", "{dir}/z.csv"]);
+    if !extra.contains(&"--seconds") {
+        c = c.args(["--seconds", "2"]);
+    }
+    if !extra.contains(&"--reference") {
+        c = c.args(["--reference", "22"]);
+    }
+    if let Some(cal) = cal {
+        c = c.file("c.wav", cal).args(["--calibration", "{dir}/c.wav"]);
+    }
+    extra.iter().fold(c, |c, a| c.args([*a])).run()
+}
+
+/// What a bench gets wrong, found by a reader trying the commands: each is read right or
+/// refused in words, never passed off as a speaker's impedance.
+#[test]
+fn bench_slips_are_read_right_or_refused() {
+    let cal = wav("calibration.wav");
+    // A recording started 3 s early reads as one started on time.
+    let early = measure_bytes(&transform("speaker.wav", 144_000, |_, a, b| (a, b)), Some(&cal), &[]);
+    early.code(0);
+    let (mag, ph, n) = against_truth(&std::fs::read_to_string(early.dir.join("z.csv")).unwrap(), "speaker.truth.csv");
+    assert!(n >= 470 && mag < 1.0 && ph < 1.0, "{n} points, {mag} %, {ph} deg");
+    // A DC offset of 1 % of full scale on both inputs is taken off.
+    let dc = measure_bytes(&transform("speaker.wav", 0, |_, a, b| (a + 0.01, b - 0.01)), Some(&cal), &[]);
+    dc.code(0);
+    let (mag, ph, _) = against_truth(&std::fs::read_to_string(dc.dir.join("z.csv")).unwrap(), "speaker.truth.csv");
+    assert!(mag < 1.0 && ph < 1.0, "{mag} %, {ph} deg");
+    // A calibration whose inputs match closely is a good one, not a noisy one (the inputs'
+    // difference is nothing by design there).
+    let matched = measure_bytes(&wav("speaker.wav"), Some(&transform("calibration.wav", 0, |_, a, _| (a, a))), &[]);
+    matched.code(0);
+    assert_eq!(rows(&std::fs::read_to_string(matched.dir.join("z.csv")).unwrap()).len(), 480, "{}", matched.stderr);
+    // One input inverted: refused, never a negative resistance.
+    measure_bytes(&transform("speaker.wav", 0, |_, a, b| (a, -b)), None, &[]).code(1).stderr_has("one input is inverted").stderr_has("hint:");
+    // Input 2 not connected.
+    measure_bytes(&transform("speaker.wav", 0, |_, a, _| (a, 0.0)), None, &[]).code(1).stderr_has("input 2 reads almost nothing");
+    // A wrong --seconds is said as such.
+    measure_bytes(&wav("speaker.wav"), None, &["--seconds", "3"]).code(1).stderr_has("the sweep in the recording lasts about 2.0").stderr_has("not the 3 s given");
+    // Without calibration, a warning on standard error as well as the table's comment.
+    measure_bytes(&wav("speaker.wav"), None, &[]).code(0).stderr_has("warning: no calibration recording");
+    // A calibration that is wrong is named as the calibration.
+    measure_bytes(&wav("speaker.wav"), Some(&wav("mono.wav")), &[]).code(1).stderr_has("c.wav: the recording has 1 channel");
+    // The reference resistor as the trade writes it.
+    for r in ["22 ohms", "0.022 kohm", "22R", "22 Ω"] {
+        measure_bytes(&wav("speaker.wav"), Some(&cal), &["--reference", r]).code(0);
+    }
+    measure_bytes(&wav("speaker.wav"), Some(&cal), &["--min-snr-db", "nan"]).code(2).stderr_has("--min-snr-db");
+    // A link to the recording is the recording: never written over.
+    let o = measure_bytes(&wav("speaker.wav"), Some(&cal), &[]);
+    #[cfg(unix)]
+    {
+        std::os::unix::fs::symlink(o.dir.join("r.wav"), o.dir.join("link.wav")).unwrap();
+        let dir = o.dir.to_string_lossy().to_string();
+        let (link, target) = (format!("{dir}/link.wav"), format!("{dir}/r.wav"));
+        let again = Cli::new().args(["measure", link.as_str(), "--reference", "22", "--seconds", "2", "-o", target.as_str()]).run();
+        again.code(1).stderr_has("one of its own recordings");
+        assert_eq!(std::fs::read(o.dir.join("r.wav")).unwrap(), wav("speaker.wav"));
+    }
 }
