@@ -455,6 +455,17 @@ pub(super) fn stress(c: &Ctx) -> StressData {
         table: Table::new(&header, f.stress.rows.iter().filter(|r| r.scenario == Scenario::AsLeft).map(stress_row).collect()),
         all: Table::new(&header, f.stress.rows.iter().map(stress_row).collect()),
         drivers: Table::new(&["Driver", "Programme", "Sine (worst)", "Rated", "Verdict", "Reason"], drivers),
+        found_note: {
+            let (d, x) = (&f.loads.as_designed, &f.loads.as_found);
+            (x.min_ohm < 0.5 * d.min_ohm).then(|| {
+                format!(
+                    "As found, the speaker's lowest impedance is {} near {} (the design's {}). The as-found figures assume an amplifier that holds its full voltage into that load, which a real one does not do for long: it limits, shuts down or fails first. They show why the speaker should not be played as found, not what its parts would meet on a real amplifier.",
+                    ohm(x.min_ohm),
+                    hz(Some(x.min_at_hz)),
+                    ohm(d.min_ohm)
+                )
+            })
+        },
     }
 }
 

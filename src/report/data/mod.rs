@@ -158,6 +158,9 @@ pub struct StressData {
     pub table: Table,
     pub all: Table,
     pub drivers: Table,
+    /// Beside the every-scenario table: as found, a load so low that the figures assume an
+    /// amplifier no real one is (None when the speaker as found is a load like the design's).
+    pub found_note: Option<String>,
 }
 
 #[derive(Debug, Serialize)]
@@ -486,6 +489,9 @@ pub(super) fn trade_units(d: &mut ReportData) {
     }
     for b in [&mut d.levels.basis, &mut d.compensation.basis, &mut d.stress.basis, &mut d.load.basis] {
         *b = t(b);
+    }
+    if let Some(n) = &mut d.stress.found_note {
+        *n = t(n);
     }
     for tb in [
         &mut d.levels.table,
