@@ -87,3 +87,14 @@ fn as_found_stress_into_a_near_short_says_what_it_assumes() {
     }
     assert!(seen > 0, "no job as found is a near short");
 }
+
+/// A cabinet's own work (a part that cabinet alone needs) is said beside the options, since
+/// each option's own description speaks for every cabinet. Failed before on pair-quote: R1's
+/// replacement in cabinet KB-5205 was priced in each option's parts but said nowhere.
+#[test]
+fn a_cabinets_own_work_is_said_beside_the_options() {
+    let job = all().iter().find(|j| j.name == "pair-quote").expect("pair-quote is read");
+    for r in job.reports.iter().filter(|r| r.template == "quote" || r.template == "archive") {
+        assert!(r.text().contains("Whichever option is chosen, cabinet KB-5205 gets its own work too: R1, a resistor in the tweeter's filter, to be replaced."), "{}", r.name());
+    }
+}

@@ -275,6 +275,8 @@ pub struct OptionsData {
     pub basis: String,
     /// Said where prices are for one cabinet of several.
     pub per_cabinet: Option<String>,
+    /// A cabinet's own work, which comes with every option (a part that cabinet alone needs).
+    pub every_option: Vec<String>,
     pub table: Table,
     /// Per option: its name, its sentence, its parts and their total.
     pub each: Vec<OptionPartsData>,

@@ -100,6 +100,7 @@ pub(super) fn options_of(c: &Ctx, list: &[OptionFindings], recommended: Option<&
     Some(OptionsData {
         basis: format!("each option's steps solved as its own as-left scenario against the original design, with its own compensating parts; the drivers' closeness is the RMS over each band of the level against the original design (acoustic where the job gives sensitivities), the verdicts those of the stress, load and substitute checks; prices from the shop's list, labour at the job's hourly rate.{per}"),
         per_cabinet: (!per.is_empty()).then(|| per.trim().to_string()),
+        every_option: every_option(c),
         table: Table::new(&["Option", "What it is", "Each driver after the work", "Load", "Limits", "Labour", "Total"], rows),
         each,
         recommendation: recommended.map(|r| r.reason.clone()),
@@ -165,4 +166,40 @@ fn cabinet_option_results(c: &Ctx, g: &crate::analysis::Findings) -> Vec<String>
         out.extend(g.compensation.warnings.iter().map(|w| format!("Warning: {}", w.message)));
     }
     out
+}
+
+/// A cabinet's own steps, done whichever option is chosen, in words: the options' own
+/// descriptions are the shop's and speak of what every cabinet gets.
+pub(super) fn every_option(c: &Ctx) -> Vec<String> {
+    let net = &c.job.network;
+    let done = c.job.work_done();
+    // Before the work the steps are proposed ("to be replaced"), after it done ("replaced").
+    let verb = |v: &str| if done { v.to_string() } else { format!("to be {v}") };
+    c.job
+        .cabinets
+        .iter()
+        .filter(|cab| !cab.changes.is_empty())
+        .map(|cab| {
+            let steps: Vec<String> = cab
+                .changes
+                .iter()
+                .map(|ch| match &ch.step {
+                    ChangeStep::Replace { target, .. } => match net.part(target) {
+                        Some(p) => format!("{target}, {} in {}, {}", with_article(kind_noun(p.kind)), part_place(net, target), verb("replaced")),
+                        None => format!("{} {}", driver_words(net, target), verb("replaced")),
+                    },
+                    ChangeStep::Insert { part, .. } => format!("{} {}", part.name, verb("added")),
+                    ChangeStep::Add { parts } => format!("{} {}", join_and(&parts.iter().map(|p| p.name.clone()).collect::<Vec<_>>()), verb("added")),
+                    ChangeStep::Remove { target } => format!("{target} {}", verb("removed")),
+                })
+                .collect();
+            format!(
+                "Whichever option {}, cabinet {} {} its own work too: {}. Its parts are counted in each option's list.",
+                if done { "was chosen" } else { "is chosen" },
+                cab.name,
+                if done { "had" } else { "gets" },
+                join_and(&steps)
+            )
+        })
+        .collect()
 }

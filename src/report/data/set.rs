@@ -141,6 +141,10 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     if let Some(first) = set.cabinets.first() {
         let c = super::Ctx { job: &first.job, f: &first.findings, audience: data.audience, quote: data.template == "quote" };
         data.options = super::offers::options_of(&c, &set.options, set.recommended.as_ref());
+        // A cabinet's own work comes with every option: said from the whole job's cabinets.
+        if let Some(o) = &mut data.options {
+            o.every_option = super::offers::every_option(&super::Ctx { job, ..c });
+        }
         data.quote = super::service::quote_terms(&c, &set.parts, &set.options, set.cabinets.len());
         // The invoice is the whole job's: every cabinet's parts, the job's labour.
         let whole = super::Ctx { job, ..c };
