@@ -142,7 +142,11 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
             f.crossovers.iter().map(|x| Row(vec![format!("{} / {}", x.lower, x.upper), hz(x.as_designed_hz), hz(x.as_found_hz), hz(x.as_left_hz)])).collect(),
         )
     };
-    LevelsData { basis, table, crossovers }
+    let differ = f.levels.iter().any(|l| (l.band_hz[0] / l.passband_hz[0] - 1.0).abs() > 0.01 || (l.band_hz[1] / l.passband_hz[1] - 1.0).abs() > 0.01);
+    let ranges = (c.audience.plain() && differ).then(|| {
+        "Where a resistor was fitted to set a driver's level, that driver's average is taken over the range the resistor was fitted over; the largest difference is looked for over every frequency the driver plays within 6 dB of its loudest, so for that driver the two ranges differ.".to_string()
+    });
+    LevelsData { basis, table, crossovers, ranges }
 }
 
 pub(super) fn sweep_text(f: &Findings) -> String {

@@ -140,6 +140,9 @@ pub struct LevelsData {
     pub basis: String,
     pub table: Table,
     pub crossovers: Table,
+    /// For the owner, where a driver's averaging band and its working range differ: which
+    /// range each figure is taken over, in words.
+    pub ranges: Option<String>,
 }
 
 #[derive(Debug, Serialize)]
