@@ -646,13 +646,7 @@ pub fn table(m: &Measured, s: &Setup, notes: &[String]) -> String {
 
 /// Seven significant figures, without trailing zeros.
 fn sig(v: f64) -> String {
-    let digits = (6 - v.abs().log10().floor() as i32).max(0) as usize;
-    let s = format!("{v:.digits$}");
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
+    crate::units::trim_number(v, 7)
 }
 
 /// The wiring and the cautions, printed with the signal and in the README.

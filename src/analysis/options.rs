@@ -206,18 +206,18 @@ pub fn recommend(job: &Job, options: &[OptionFindings]) -> Option<Recommendation
     };
     let reason = match tier {
         0 => format!(
-            "Recommended: {}, which keeps the drivers closest to the original design among the options that push no part or driver past its rating and add no caution the original design did not already carry: {} from it on average over their working ranges{against}.{aside}",
+            "Recommended: {}, which keeps the drivers closest to the original design among the options that push no part or driver past its rating and add no caution the original design did not already carry: {} from it overall across their working ranges{against}.{aside}",
             best.name,
             db(best.score_db)
         ),
         1 => format!(
-            "Recommended: {}, which keeps the drivers closest to the original design among the options that push no part or driver past its rating: {} from it on average over their working ranges{against}; no option is free of new cautions, and this one leaves {} to check.{aside}",
+            "Recommended: {}, which keeps the drivers closest to the original design among the options that push no part or driver past its rating: {} from it overall across their working ranges{against}; no option is free of new cautions, and this one leaves {} to check.{aside}",
             best.name,
             db(best.score_db),
             what_of(&best.to_check)
         ),
         _ => format!(
-            "No option keeps every part, driver and load within its limits; {} keeps the drivers closest to the original design: {} from it on average over their working ranges{against}.",
+            "No option keeps every part, driver and load within its limits; {} keeps the drivers closest to the original design: {} from it overall across their working ranges{against}.",
             best.name,
             db(best.score_db)
         ),

@@ -129,12 +129,20 @@ fn style(colour: &RGBColor) -> ShapeStyle {
     ShapeStyle::from(colour).stroke_width(2)
 }
 
-/// The design's trace is drawn last and thinner, so it shows on top of an as-left trace it
-/// coincides with instead of hiding beneath it.
+/// The design's trace is drawn last, thinner and in a darker shade of its driver's colour, so
+/// it shows on top of an as-left trace it coincides with instead of vanishing into it.
 fn curve_style(c: &Curve) -> ShapeStyle {
     match c.pattern {
-        Pattern::Long => ShapeStyle::from(&c.colour).stroke_width(1),
+        Pattern::Long => ShapeStyle::from(&ink(c)).stroke_width(1),
         _ => style(&c.colour),
+    }
+}
+
+/// A curve's colour as drawn: the design's a darker shade of its driver's.
+fn ink(c: &Curve) -> RGBColor {
+    match c.pattern {
+        Pattern::Long => RGBColor((c.colour.0 as f64 * 0.45) as u8, (c.colour.1 as f64 * 0.45) as u8, (c.colour.2 as f64 * 0.45) as u8),
+        _ => c.colour,
     }
 }
 
@@ -237,7 +245,7 @@ fn log_chart(c: Chart) -> Result<String, Box<dyn std::error::Error>> {
                 true if !curve.label.ends_with("silent") => format!("{} ({} the chart)", curve.label, if below { "all below" } else { "outside" }),
                 _ => curve.label.clone(),
             };
-            items.push((label, curve.colour, Sample::Line(curve.pattern)));
+            items.push((label, ink(curve), Sample::Line(curve.pattern)));
         }
     }
     for (label, colour) in &c.band_labels {

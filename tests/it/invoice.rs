@@ -71,6 +71,12 @@ fn an_invoice_is_refused_with_a_hint_when_it_cannot_be_priced() {
         .run()
         .code(1)
         .stderr_has("an invoice bills the work done")
+        .stderr_has("(--template customer or archive)");
+    // A quotation's job, with options proposed: the hint names the quotation.
+    Cli::new()
+        .args(["report", "samples/quote-three-options.yaml", "--template", "invoice", "-o", "{dir}/i.pdf"])
+        .run()
+        .code(1)
         .stderr_has("hint: for work not done yet, write a quotation");
     // No price list.
     Cli::new()

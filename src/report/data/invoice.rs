@@ -35,7 +35,14 @@ pub fn parts_of(outcome: &Outcome) -> &PartsList {
 /// Why this job cannot be invoiced, with a hint; None when it can.
 pub fn refusal(job: &Job, parts: &PartsList) -> Option<(String, String)> {
     if !job.work_done() {
-        return Some(("an invoice bills the work done, and this job lists no work done (`changes`)".into(), "for work not done yet, write a quotation (--template quote)".into()));
+        // The hint names only a template that applies: a quotation needs something proposed.
+        let proposes = !job.options.is_empty() || !job.changes.is_empty() || job.cabinets.iter().any(|c| !c.changes.is_empty());
+        let hint = if proposes {
+            "for work not done yet, write a quotation (--template quote)"
+        } else {
+            "list the work done under `changes`; for a speaker inspected but not worked on, the customer's report or the archive records it (--template customer or archive)"
+        };
+        return Some(("an invoice bills the work done, and this job lists no work done (`changes`)".into(), hint.into()));
     }
     let hours = job.service.labour_hours.filter(|h| *h > 0.0);
     if hours.is_some() && job.quote.labour_rate.is_none() {

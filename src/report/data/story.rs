@@ -51,7 +51,7 @@ pub(super) fn summary(c: &Ctx) -> Vec<String> {
                     if ratio >= 2.0 {
                         format!("{what} about {} times its design value", crate::units::trim_number(ratio, 2))
                     } else {
-                        format!("{what} about {:.0} % {} its design value", (100.0 * (ratio - 1.0)).abs(), if ratio < 1.0 { "below" } else { "above" })
+                        format!("{what} about {:.0}\u{a0}% {} its design value", (100.0 * (ratio - 1.0)).abs(), if ratio < 1.0 { "below" } else { "above" })
                     }
                 })
                 .collect(),
@@ -243,7 +243,8 @@ pub(super) fn work(c: &Ctx) -> Vec<String> {
                     old.type_text
                         .as_ref()
                         .map(|t| if t.to_lowercase().contains(kind_noun(old.kind)) { t.clone() } else { format!("{t} {}", kind_noun(old.kind)) })
-                        .map(|t| format!(" (was {})", with_article(&t)))
+                        // Before the work the old part is still there: "in place of", not "was".
+                        .map(|t| if c.quote { format!(" (in place of the present {t})") } else { format!(" (was {})", with_article(&t)) })
                         .unwrap_or_default()
                 };
                 format!("Replaced {target}, {} in {}, with {}{was}.", with_article(kind_noun(old.kind)), part_place(net_left, target), fitted_words(c, new))
