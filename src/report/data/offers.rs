@@ -59,6 +59,14 @@ pub(super) fn options_of(c: &Ctx, list: &[OptionFindings], recommended: Option<&
             } else {
                 "all within limits".to_string()
             };
+            // Within its ratings on music, yet a steady full-level test tone from a smaller
+            // amplifier than the speaker suits overheats a part: said here, as the reports
+            // after the work say it.
+            let p = &o.findings.power;
+            let limits = match (p.sine_max_w, &p.sine_limited_by) {
+                (Some(w), Some(who)) if w < p.suits_w.unwrap_or(p.job_w) => format!("{limits}; a steady test tone above {} W would overheat {who}", trim_number(w, 2)),
+                _ => limits,
+            };
             let labour = o.labour_hours.map(|h| format!("{} h", trim_number(h, 3))).unwrap_or_else(|| "-".into());
             let total = match o.total {
                 Some(t) => format!("{t} {currency}"),
