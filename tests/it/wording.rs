@@ -136,3 +136,25 @@ fn a_quote_warns_of_the_test_tone_an_option_cannot_take() {
     // The table cell wraps, and its lines interleave with the next cell's: read the parts.
     assert!(quote.contains(&format!("tone above {w} W")) && quote.contains("would overheat"), "{w} W for R9 not in the quote");
 }
+
+/// The options table's loads keep three figures whole, so a column reads alike ("5.80 Ω"
+/// beside "5.78 Ω"). Failed before on quote-three-options' and pair-quote's quotes ("lowest
+/// 5.8 Ω" beside "lowest 5.78 Ω").
+#[test]
+fn the_options_loads_keep_three_figures() {
+    let mut seen = 0;
+    for job in all() {
+        for r in job.reports.iter().filter(|r| r.template == "quote") {
+            let text = r.text();
+            let words: Vec<&str> = text.split_whitespace().collect();
+            for w in words.windows(2).filter(|w| w[0] == "lowest") {
+                let Ok(v) = w[1].parse::<f64>() else { continue };
+                seen += 1;
+                if v < 10.0 {
+                    assert_eq!(w[1].split('.').nth(1).map(str::len), Some(2), "{}: lowest {}", r.name(), w[1]);
+                }
+            }
+        }
+    }
+    assert!(seen > 3, "{seen} loads read");
+}

@@ -50,7 +50,13 @@ pub(super) fn options_of(c: &Ctx, list: &[OptionFindings], recommended: Option<&
             let levels = option_levels(c, o);
             // The lowest load of any cabinet.
             let low = o.each().into_iter().map(|(_, g)| &g.loads.as_left).min_by(|a, b| a.min_ohm.total_cmp(&b.min_ohm)).unwrap_or(&o.findings.loads.as_left);
-            let load = if plain { format!("lowest {}", ohm(low.min_ohm)) } else { format!("min |Z| {}, {}", ohm(low.min_ohm), low.verdict) };
+            // Three figures kept whole in a column ("5.80" beside "5.78", not "5.8").
+            let low_ohm = match low.min_ohm {
+                v if (1.0..10.0).contains(&v) => format!("{v:.2} ohm"),
+                v if (10.0..100.0).contains(&v) => format!("{v:.1} ohm"),
+                v => ohm(v),
+            };
+            let load = if plain { format!("lowest {low_ohm}") } else { format!("min |Z| {low_ohm}, {}", low.verdict) };
             let names = |l: &[String]| join_and(&l.iter().map(|w| w.split(':').next().unwrap_or("").to_string()).collect::<Vec<_>>());
             let limits = if !o.over.is_empty() {
                 format!("past the limit: {}", names(&o.over))
