@@ -225,11 +225,15 @@ impl<W: World> World for Dated<'_, W> {
     }
 }
 
-/// Replaces, in every string of `v`, the characters no font of the report has.
+/// Replaces, in every string of `v`, the characters no font of the report has, and ties each
+/// figure to its unit so a line never ends between "5.72" and "Ω".
 fn legible_strings(v: &mut serde_json::Value) {
     match v {
         serde_json::Value::String(s) => {
             if let std::borrow::Cow::Owned(t) = fonts::legible(s) {
+                *s = t;
+            }
+            if let Some(t) = tie_units(s) {
                 *s = t;
             }
         }
@@ -237,6 +241,32 @@ fn legible_strings(v: &mut serde_json::Value) {
         serde_json::Value::Object(o) => o.values_mut().for_each(legible_strings),
         _ => {}
     }
+}
+
+/// The units a figure is printed with: the space before one, after a digit, becomes a
+/// non-breaking space. None when `s` has no such space.
+fn tie_units(s: &str) -> Option<String> {
+    const UNITS: [&str; 24] = ["Ω", "mΩ", "kΩ", "MΩ", "Hz", "kHz", "W", "mW", "kW", "V", "mV", "A", "mA", "dB", "dBFS", "F", "µF", "nF", "pF", "H", "mH", "µH", "%", "°C"];
+    let bytes = s.as_bytes();
+    let mut out: Option<String> = None;
+    let mut last = 0;
+    for (i, _) in s.match_indices(' ') {
+        if i == 0 || !bytes[i - 1].is_ascii_digit() {
+            continue;
+        }
+        let rest = &s[i + 1..];
+        let word = rest.split(|c: char| !(c.is_alphanumeric() || matches!(c, 'Ω' | 'µ' | '%' | '°'))).next().unwrap_or("");
+        if UNITS.contains(&word) {
+            let o = out.get_or_insert_with(String::new);
+            o.push_str(&s[last..i]);
+            o.push('\u{a0}');
+            last = i + 1;
+        }
+    }
+    out.map(|mut o| {
+        o.push_str(&s[last..]);
+        o
+    })
 }
 
 /// Typst's diagnostics carry spans, not places: turn them into `file:line:column: message`.
@@ -375,6 +405,16 @@ mod unnamed {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_figure_is_tied_to_its_unit_and_nothing_else_is() {
+        let nb = '\u{a0}';
+        assert_eq!(tie_units("is 5.72 Ω (at 12.2 kHz), 15 W or 0.5 dB, 16 % low").unwrap(), format!("is 5.72{nb}Ω (at 12.2{nb}kHz), 15{nb}W or 0.5{nb}dB, 16{nb}% low"));
+        // A word that only begins like a unit, or a unit after a word, stays as written.
+        assert_eq!(tie_units("2 Westgate Road, Hz 3 Warts"), None);
+        assert_eq!(tie_units("no figures here"), None);
+        assert_eq!(tie_units("ends 3 V"), Some(format!("ends 3{nb}V")));
+    }
 
     #[test]
     fn atomic_write_replaces_whole_and_leaves_no_temporary() {

@@ -39,6 +39,8 @@ pub(crate) struct Report {
     pub(crate) template: &'static str,
     /// The text of each page in lines from its top, words joined by single spaces.
     pub(crate) pages: Vec<String>,
+    /// Every line of every page, in order, words joined by single spaces.
+    pub(crate) lines: Vec<String>,
     /// Per page: how far down the body the last text reaches (0 top, 1 the foot of the body),
     /// and the last line of the body.
     pub(crate) ends: Vec<(f64, String)>,
@@ -116,8 +118,9 @@ fn read(job: &Path, template: &'static str, dir: &Path) -> Option<Report> {
     }
     let doc = pdf::Pdf::open(&pdf);
     let pages: Vec<String> = doc.pages.iter().map(|p| squash(&p.plain().join(" "))).collect();
+    let lines = doc.pages.iter().flat_map(|p| p.plain()).collect();
     let attached = !doc.attachments().is_empty();
-    Some(Report { job: stem, template, pages, ends: page_ends(&doc), attached })
+    Some(Report { job: stem, template, pages, lines, ends: page_ends(&doc), attached })
 }
 
 /// Every job under every template, rendered two at a time (the machine's two cores).

@@ -63,13 +63,16 @@ fn every_sample_renders_under_every_template_and_matches_solve() {
                     }
                 }
             } else {
-                // Plain reports state the lowest impedance once for each cabinet, in words,
-                // without |Z| or EPDR.
+                // Plain reports state the lowest impedance once, in words, without |Z| or
+                // EPDR: of a set, the cabinet's that asks most of the amplifier, the others'
+                // figures beside it (an owner buys one amplifier for the set).
+                let lowest = cabinets.iter().map(|c| c["load"]["as_left"]["min_ohm"].as_f64().unwrap()).fold(f64::INFINITY, f64::min);
+                let low = format!("The lowest impedance the speaker presents to the amplifier is {}", ohm(&serde_json::json!(lowest)));
+                assert!(flat.contains(&low), "{sample} {template}: {low}");
                 for cab in &cabinets {
-                    let low = format!("The lowest impedance the speaker presents to the amplifier is {}", ohm(&cab["load"]["as_left"]["min_ohm"]));
-                    assert!(flat.contains(&low), "{sample} {template}: {low}");
+                    assert!(flat.contains(&ohm(&cab["load"]["as_left"]["min_ohm"])), "{sample} {template}: a cabinet's lowest impedance missing");
                 }
-                assert_eq!(flat.matches("The lowest impedance the speaker presents").count(), cabinets.len(), "{sample} {template}: the load is said once");
+                assert_eq!(flat.matches("The lowest impedance the speaker presents").count(), 1, "{sample} {template}: the load is said once");
                 for jargon in ["EPDR", "|Z|", "ESR", "tan d", "Residual RMS", "HF's filter", "MF's filter", "LF's filter"] {
                     assert!(!flat.contains(jargon), "{sample} {template}: \"{jargon}\" in a plain report");
                 }

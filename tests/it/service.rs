@@ -160,7 +160,9 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
     // cargo (the words the same, their lines and columns as that reader sets them). An eleventh:
     // unrated parts of one kind named together ("Inductors L1 and L2 have no rating"). A
     // twelfth: the levels table says why a compensated driver's two ranges differ. A
-    // thirteenth: the pair plot's caption points to its legend, not to "as above".
+    // thirteenth: the pair plot's caption points to its legend, not to "as above". A
+    // fourteenth: a figure is never parted from its unit at a line's end, and a pair's load
+    // is said once, from the cabinet that asks most of the amplifier.
     for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
         let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
         o.code(0);

@@ -158,3 +158,25 @@ fn the_options_loads_keep_three_figures() {
     }
     assert!(seen > 3, "{seen} loads read");
 }
+
+/// A figure is never parted from its unit at a line's end: no line of a report begins with a
+/// unit ("Ω.)", "kHz)") that belongs to the figure ending a line before it. Failed before on
+/// pair-recap's customer report ("... the other's lowest is 5.72" / "Ω.)") and on the levels
+/// table of two-way-recap's ("(20 Hz to 2.09" / "kHz)").
+#[test]
+fn a_figure_keeps_its_unit_on_its_line() {
+    const UNITS: [&str; 16] = ["Ω", "mΩ", "kΩ", "Hz", "kHz", "W", "mW", "V", "A", "dB", "µF", "nF", "mH", "µH", "%", "°C"];
+    let mut wrong = Vec::new();
+    for job in all() {
+        for r in &job.reports {
+            for line in &r.lines {
+                let first = line.split_whitespace().next().unwrap_or("");
+                let bare = first.trim_end_matches(|c: char| ".,;:)]".contains(c));
+                if UNITS.contains(&bare) {
+                    wrong.push(format!("{}: a line begins \"{line}\"", r.name()));
+                }
+            }
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}

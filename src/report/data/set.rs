@@ -50,6 +50,25 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
             p
         }
     });
+    // An owner buys one amplifier for the set: its load is said once, from the cabinet that
+    // asks most of the amplifier (the lowest impedance as left), the others' figures beside it.
+    let lowest_load = if data_plain(template) && set.cabinets.len() > 1 {
+        let key = |c: &crate::analysis::pair::CabinetFindings| c.findings.loads.as_left.min_ohm;
+        let i = (0..set.cabinets.len()).min_by(|a, b| key(&set.cabinets[*a]).total_cmp(&key(&set.cabinets[*b]))).unwrap_or(0);
+        let others: Vec<String> = set.cabinets.iter().enumerate().filter(|(j, _)| *j != i).map(|(_, c)| ohm(key(c))).collect();
+        let mut sentences = each[i].load.sentences.clone();
+        if let Some(last) = sentences.last_mut() {
+            let whose = if set.cabinets.len() == 2 {
+                "the lower of the two cabinets' figures; the other's lowest is"
+            } else {
+                "the lowest of the cabinets' figures; the others' lowest are"
+            };
+            last.push_str(&format!(" (This is {whose} {}.)", join_and(&others)));
+        }
+        Some(sentences)
+    } else {
+        None
+    };
     let mut data = each.remove(0);
     if let Some(p) = power {
         data.power = p;
@@ -88,7 +107,10 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     data.work = merge_in_order(&names, work);
     sentences!(compensation.notes);
     sentences!(compensation.warnings);
-    sentences!(load.sentences);
+    match lowest_load {
+        Some(one) => data.load.sentences = one,
+        None => sentences!(load.sentences),
+    }
     sentences!(safety);
     if let Some(t) = data.tolerance.as_mut() {
         let levels: Vec<Table> = std::iter::once(std::mem::take(&mut t.levels))
