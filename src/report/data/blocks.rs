@@ -485,10 +485,7 @@ pub(super) fn load(c: &Ctx) -> LoadData {
         let r = job.rated_impedance_ohm();
         let same = (ll.min_ohm - ld.min_ohm).abs() < 0.05 * ld.min_ohm;
         let compare = if same { "about the same as in the original design".to_string() } else { format!("against {} in the original design", ohm(ld.min_ohm)) };
-        let advice = match amplifier_rating(ll.min_ohm) {
-            Some(x) => format!("an amplifier its maker rates for {} speakers or lower", ohm(x)),
-            None => "very few amplifiers".to_string(),
-        };
+        let advice = amplifier_advice(ll.min_ohm).unwrap_or_else(|| "very few amplifiers".to_string());
         let verdict = if ll.verdict == crate::analysis::Verdict::Over {
             "too low for most amplifiers: check the amplifier maker's minimum load before use.".to_string()
         } else if !ll.rated_impedance_holds {

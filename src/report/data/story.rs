@@ -338,6 +338,20 @@ pub(super) fn amplifier_rating(min_ohm: f64) -> Option<f64> {
     [8.0, 6.0, 4.0, 2.0].into_iter().find(|r| min_ohm >= crate::analysis::load::rated_floor(*r))
 }
 
+/// The amplifier to use with a speaker whose lowest impedance is `min_ohm`, in words: "an
+/// amplifier its maker rates for 6 Ω speakers or lower", with why a rating above the lowest
+/// impedance suits it (IEC 60268-5 lets a speaker dip to 80 % of its rated impedance, so a
+/// reader does not take 6 Ω beside 4.96 Ω for a slip). None below every common rating.
+pub(super) fn amplifier_advice(min_ohm: f64) -> Option<String> {
+    let r = amplifier_rating(min_ohm)?;
+    let why = if r > min_ohm {
+        format!(" (the standard lets a {} speaker dip to {}, and this one stays above that)", ohm(r), ohm(crate::analysis::load::rated_floor(r)))
+    } else {
+        String::new()
+    };
+    Some(format!("an amplifier its maker rates for {} speakers or lower{why}", ohm(r)))
+}
+
 /// Cautions for this report's reader: the customer and the buyer need the amplifier, the
 /// load and listening levels; the archive keeps every caution of the bench as well.
 pub(super) fn safety(c: &Ctx) -> Vec<String> {
@@ -366,8 +380,8 @@ pub(super) fn safety(c: &Ctx) -> Vec<String> {
         if c.quote && !c.job.options.is_empty() {
             s.push("Load: each option's lowest impedance is in the options table; use an amplifier its maker rates for that load or lower.".to_string());
         } else if c.quote {
-            s.push(match amplifier_rating(f.loads.as_left.min_ohm) {
-                Some(r) => format!("Load: use an amplifier its maker rates for {} speakers or lower.", ohm(r)),
+            s.push(match amplifier_advice(f.loads.as_left.min_ohm) {
+                Some(a) => format!("Load: use {a}."),
                 None => "Load: the speaker's impedance falls too low for most amplifiers; ask the shop before use.".to_string(),
             });
         }
