@@ -250,8 +250,7 @@ pub fn views(job: &Job, o: &crate::analysis::Outcome, quote: bool) -> Vec<View> 
     let mut readings = "what the bench measured beside the parts it flagged; a part or driver found failed struck through".to_string();
     if let Some(s) = set {
         mark_differing(&mut designed, s, true);
-        readings =
-            "a part marked \"differs by cabinet\" measured differently in the cabinets (the readings are in the tables); a part or driver found failed struck through".to_string();
+        readings = "a part marked \"differs by cabinet\" measured differently in the cabinets; a part or driver found failed struck through".to_string();
     }
     out.push(View {
         name: "designed".into(),

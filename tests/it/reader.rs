@@ -529,17 +529,22 @@ fn plain_reports_say_the_figures_are_a_prediction_and_warn_of_steady_tones() {
             if text.contains("confirms them by measurement") {
                 bad.push(format!("{}: promises a measurement", r.name()));
             }
-            for c in cabinets(&job.json) {
-                let p = &c["power_range"];
-                let (Some(sine), Some(suits)) = (p["sine_max_w"].as_f64(), p["suits_w"].as_f64().or(p["job_w"].as_f64())) else { continue };
-                if sine < suits {
-                    // Two significant figures, rounded down, worked here from the JSON.
-                    let step = 10f64.powf(sine.log10().floor() - 1.0);
-                    let w = (sine / step + 1e-9).floor() * step;
-                    let want = format!("from about {} W of amplifier power", if w >= 10.0 { format!("{w:.0}") } else { format!("{w:.1}").trim_end_matches(".0").to_string() });
-                    if !text.contains("Test tones:") || !text.contains(&want) {
-                        bad.push(format!("{}: no steady-tone caution \"{want}\"", r.name()));
-                    }
+            // Of a set, the owner is told the lowest cabinet's figure, once.
+            let lowest = cabinets(&job.json)
+                .iter()
+                .filter_map(|c| {
+                    let p = &c["power_range"];
+                    let (sine, suits) = (p["sine_max_w"].as_f64()?, p["suits_w"].as_f64().or(p["job_w"].as_f64())?);
+                    (sine < suits).then_some(sine)
+                })
+                .reduce(f64::min);
+            if let Some(sine) = lowest {
+                // Two significant figures, rounded down, worked here from the JSON.
+                let step = 10f64.powf(sine.log10().floor() - 1.0);
+                let w = (sine / step + 1e-9).floor() * step;
+                let want = format!("from about {} W of amplifier power", if w >= 10.0 { format!("{w:.0}") } else { format!("{w:.1}").trim_end_matches(".0").to_string() });
+                if !text.contains("Test tones:") || !text.contains(&want) {
+                    bad.push(format!("{}: no steady-tone caution \"{want}\"", r.name()));
                 }
             }
         }

@@ -163,7 +163,9 @@ fn regression_golden_a_job_without_the_new_fields_renders_its_customer_report_as
     // thirteenth: the pair plot's caption points to its legend, not to "as above". A
     // fourteenth: a figure is never parted from its unit at a line's end, and a pair's load
     // is said once, from the cabinet that asks most of the amplifier. A fifteenth: an
-    // amplifier rating above the lowest impedance says why it suits (the 80 % allowance).
+    // amplifier rating above the lowest impedance says why it suits (the 80 % allowance). A
+    // sixteenth: a pair's steady-tone caution said once, and its drawing's caption no longer
+    // points a customer to tables of readings the customer's report does not hold.
     for s in ["two-way-recap", "three-way-mid-table", "pair-recap", "substitute-tweeter"] {
         let o = Cli::new().args(["report", &format!("samples/{s}.yaml"), "--template", "customer", "-o", "{dir}/r.pdf"]).run();
         o.code(0);

@@ -207,3 +207,24 @@ fn an_amplifier_rating_above_the_lowest_impedance_says_why() {
     }
     assert!(wrong.is_empty(), "{}", wrong.join("\n"));
 }
+
+/// A plain report gives each caution once: an owner buys one amplifier and plays one test
+/// tone for the whole pair, so a caution is never repeated per cabinet with its own figure.
+/// Failed before on pair-quote's customer report ("Cabinet KB-5204: Test tones: ... 32 W",
+/// "Cabinet KB-5205: Test tones: ... 45 W").
+#[test]
+fn a_plain_report_gives_each_caution_once() {
+    let mut wrong = Vec::new();
+    for job in all() {
+        for r in job.reports.iter().filter(|r| r.plain()) {
+            let t = r.text();
+            for kind in ["Test tones:", "Amplifier:", "Load:", "Listening levels:"] {
+                let n = t.matches(kind).count();
+                if n > 1 {
+                    wrong.push(format!("{}: \"{kind}\" said {n} times", r.name()));
+                }
+            }
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}

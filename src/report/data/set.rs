@@ -69,6 +69,29 @@ pub fn build_set(job: &Job, set: &SetFindings, template: &Template, plots: &[Plo
     } else {
         None
     };
+    // The steady-tone caution likewise: said once to the owner, from the cabinet whose part
+    // a test tone overheats first.
+    if data_plain(template) && set.cabinets.len() > 1 {
+        let is_tone = |s: &String| s.starts_with("Test tones:");
+        let first = (0..each.len())
+            .filter(|i| each[*i].safety.iter().any(is_tone))
+            .min_by(|a, b| set.cabinets[*a].findings.power.sine_max_w.unwrap_or(f64::INFINITY).total_cmp(&set.cabinets[*b].findings.power.sine_max_w.unwrap_or(f64::INFINITY)));
+        if let Some(i) = first {
+            let n = each.iter().filter(|d| d.safety.iter().any(is_tone)).count();
+            let mut tone = each[i].safety.iter().find(|s| is_tone(s)).cloned().unwrap_or_default();
+            if n > 1 {
+                tone = tone.replacen("; keep test tones", &format!(" (the {} of the cabinets' figures); keep test tones", if n == 2 { "lower" } else { "lowest" }), 1);
+            }
+            let at = each[i].safety.iter().position(is_tone).unwrap_or(0);
+            for d in each.iter_mut() {
+                d.safety.retain(|s| !is_tone(s));
+            }
+            for d in each.iter_mut() {
+                let at = at.min(d.safety.len());
+                d.safety.insert(at, tone.clone());
+            }
+        }
+    }
     let mut data = each.remove(0);
     if let Some(p) = power {
         data.power = p;
