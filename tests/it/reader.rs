@@ -603,6 +603,34 @@ fn a_job_read_nowhere_draws_no_curve_as_found() {
     verdict("nothing read", bad);
 }
 
+/// With nothing read on the bench, the archive's levels table prints no as-found figure (the
+/// design's +0.00 dB under "As found" read as a finding beside a diagnosis of C1 16 % low) and
+/// says why. Failed before on sweep-diagnosis's archive.
+#[test]
+fn an_archive_read_nowhere_prints_no_level_as_found() {
+    let mut bad = Vec::new();
+    let mut seen = 0;
+    for job in all() {
+        if read_on_bench(&job.yaml) || job.json.get("cabinets").is_some() {
+            continue;
+        }
+        for r in job.reports.iter().filter(|r| r.template == "archive") {
+            seen += 1;
+            let t = r.text();
+            if !t.contains("the as-found columns give no figure") {
+                bad.push(format!("{}: the levels table does not say why as found has no figure", r.name()));
+            }
+            let Some(at) = t.find("Driver Role Band As designed As found") else { continue };
+            let table: String = t[at..].chars().take(400).collect();
+            if table.matches("not read").count() < job.json["levels"].as_array().map_or(1, |l| l.len()) {
+                bad.push(format!("{}: an as-found level printed with nothing read: {table}", r.name()));
+            }
+        }
+    }
+    assert!(seen > 0, "no archive of a job read nowhere");
+    verdict("nothing read", bad);
+}
+
 /// Whether a job file's text records anything read on the bench before the work: readings
 /// (top level or a cabinet's) or a failed driver.
 fn read_on_bench(yaml: &str) -> bool {

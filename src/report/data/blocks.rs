@@ -114,6 +114,14 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
             .collect();
         Table::new(&["Driver", "Averaged over", "Before the work (average)", "After the work (average)", "After the work, largest difference (range)", "What that means"], rows)
     } else {
+        // Nothing read on the bench: "as found" is the design itself, not a finding, and an
+        // estimate from a sweep (the diagnosis) is never taken for a reading.
+        let unread = !c.job.read_on_bench();
+        if unread {
+            basis.push_str(
+                " Nothing was read on the bench before the work, so the as-found columns give no figure; estimates from a sweep at the terminals are not used as readings.",
+            );
+        }
         let rows = f
             .levels
             .iter()
@@ -123,9 +131,9 @@ pub(super) fn levels(c: &Ctx) -> LevelsData {
                     l.role.clone(),
                     format!("{} - {}", hz(Some(l.band_hz[0])), hz(Some(l.band_hz[1]))),
                     level(l.as_designed_db),
-                    level(l.as_found_db),
+                    if unread && !l.as_found_fault { "not read".into() } else { level(l.as_found_db) },
                     level(l.as_left_db),
-                    if l.as_found_fault || l.as_left_fault { "-".into() } else { db(l.found_to_left_db) },
+                    if l.as_found_fault || l.as_left_fault || unread { "-".into() } else { db(l.found_to_left_db) },
                     format!("{} ({} - {})", level(l.passband_worst_db), hz(Some(l.passband_hz[0])), hz(Some(l.passband_hz[1]))),
                     // Judged, as every sentence is, on the worst point over the working range.
                     l.left_flag.clone(),
